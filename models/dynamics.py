@@ -1,0 +1,84 @@
+"""Dynamical spacing and tidal evolution."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .constants import G
+
+#: spacing below which two planets are Hill unstable on circular orbits (Gladman 1993)
+HILL_STABLE_SPACING = 2.0 * np.sqrt(3.0)
+
+# Gladman et al. 1996 (Icarus 122, 166) fiducial values for a rocky body
+TIDAL_Q = 100.0
+TIDAL_LOVE_K2 = 0.3
+MOMENT_OF_INERTIA_FACTOR = 0.4       # uniform sphere, I = 0.4 M R^2
+INITIAL_SPIN_PERIOD_S = 12.0 * 3600.0  # assumed primordial spin, 12 h
+
+
+def hill_radius(a, eccentricity, planet_mass, star_mass):
+    """Hill radius at periastron.
+
+    r_H = a (1 - e) (m / (3 M*))^(1/3) (Hamilton & Burns 1992, Icarus 96, 43).
+
+    Parameters
+    ----------
+    a : array_like
+        Semi-major axis (the result takes its unit).
+    eccentricity : array_like
+        Eccentricity.
+    planet_mass, star_mass : array_like
+        Masses in one common unit.
+    """
+    return a * (1.0 - eccentricity) * np.cbrt(planet_mass / (3.0 * star_mass))
+
+
+def mutual_hill_radius(a_in, a_out, m_in, m_out, star_mass):
+    """Mutual Hill radius of two planets.
+
+    R_H,m = ((m_in + m_out) / (3 M*))^(1/3) (a_in + a_out) / 2
+    (Chambers, Wetherill & Boss 1996, Icarus 119, 261, eq. 1).
+
+    Parameters
+    ----------
+    a_in, a_out : array_like
+        Semi-major axes (the result takes their unit).
+    m_in, m_out, star_mass : array_like
+        Masses in one common unit.
+    """
+    return np.cbrt((m_in + m_out) / (3.0 * star_mass)) * 0.5 * (a_in + a_out)
+
+
+def mutual_hill_spacing(a_in, a_out, m_in, m_out, star_mass):
+    """Orbital separation in mutual Hill radii, (a_out - a_in) / R_H,m.
+
+    Chambers et al. 1996; below 2 sqrt(3) two planets on circular orbits are
+    not Hill stable (Gladman 1993, Icarus 106, 247).
+    """
+    return (a_out - a_in) / mutual_hill_radius(a_in, a_out, m_in, m_out, star_mass)
+
+
+def tidal_locking_time(a_m, planet_mass_kg, planet_radius_m, star_mass_kg,
+                       initial_spin_rad_s=2.0 * np.pi / INITIAL_SPIN_PERIOD_S,
+                       q=TIDAL_Q, k2=TIDAL_LOVE_K2, inertia_factor=MOMENT_OF_INERTIA_FACTOR):
+    """Time for a planet's spin to be locked by the star's tides.
+
+    t_lock = omega a^6 I Q / (3 G M*^2 k2 R^5), I = alpha m R^2
+    (Gladman et al. 1996, Icarus 122, 166, eq. 9; Peale 1977). With the
+    fiducial Q = 100, k2 = 0.3, alpha = 0.4 and a 12 h initial spin, the
+    result is an order-of-magnitude estimate only.
+
+    Parameters
+    ----------
+    a_m : array_like
+        Semi-major axis [m].
+    planet_mass_kg, planet_radius_m, star_mass_kg : array_like
+        Planet mass [kg] and radius [m], star mass [kg].
+
+    Returns
+    -------
+    ndarray
+        Locking time [s].
+    """
+    inertia = inertia_factor * planet_mass_kg * planet_radius_m**2
+    return initial_spin_rad_s * a_m**6 * inertia * q / (3.0 * G * star_mass_kg**2 * k2 * planet_radius_m**5)

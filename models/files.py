@@ -1,0 +1,346 @@
+"""Reading and writing system files (format ``orbitdeck-system/1``, TOML).
+
+Loading parses the TOML with the standard library and checks every field;
+nothing in a file is ever evaluated. Every problem is reported with the
+file, the field path (``planets[2].eccentricity``) and the reason, all at
+once, as a :class:`SystemFileError`. Saving writes a temporary file beside
+the target and renames it over, so a failed save never damages a file.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import tempfile
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+import astropy.units as u
+import param
+import tomli_w
+
+from .quantity import Uncertainty
+from .system import REDISTRIBUTION_FACTORS, Assumptions, Planet, Star, System, _Body
+
+FORMAT = "orbitdeck-system/1"
+#: files larger than this are refused before parsing [bytes]
+MAX_FILE_BYTES = 2 * 1024 * 1024
+
+_QUANTITY_KEYS = {"value", "sigma", "plus", "minus", "unit", "ref"}
+_REQUIRED = {Star: ("mass", "radius", "teff"), Planet: ("period", "radius"), Assumptions: ()}
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong with a system file."""
+
+    file: str
+    field: str
+    reason: str
+
+    def __str__(self) -> str:
+        where = f"{self.file}: {self.field}: " if self.field else f"{self.file}: "
+        return where + self.reason
+
+
+class SystemFileError(ValueError):
+    """A system file that cannot be read or written; ``problems`` lists why."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = list(problems)
+        super().__init__("\n".join(str(p) for p in self.problems))
+
+
+class _Checker:
+    """Collects problems while a document is turned into param objects."""
+
+    def __init__(self, source: str):
+        self.source = source
+        self.problems: list[Problem] = []
+
+    def fail(self, path: str, reason: str) -> None:
+        self.problems.append(Problem(self.source, path, reason))
+
+    def table(self, doc, path, allowed, required=()) -> dict | None:
+        if not isinstance(doc, dict):
+            self.fail(path, f"must be a table, not {_kind(doc)}")
+            return None
+        for key in doc:
+            if key not in allowed:
+                self.fail(_join(path, key), "unknown key")
+        for key in required:
+            if key not in doc:
+                self.fail(_join(path, key), "required key is missing")
+        return doc
+
+    def text(self, doc, path, key, default=None, required=False):
+        if key not in doc:
+            return default
+        value = doc[key]
+        if not isinstance(value, str):
+            self.fail(_join(path, key), f"must be a string, not {_kind(value)}")
+            return default
+        if required and not value.strip():
+            self.fail(_join(path, key), "must not be empty")
+        return value
+
+    def number(self, value, path) -> float | None:
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            self.fail(path, f"must be a number, not {_kind(value)}")
+            return None
+        value = float(value)
+        if not math.isfinite(value):
+            self.fail(path, f"must be finite, not {value}")
+            return None
+        return value
+
+    def quantity(self, raw, path, unit: str | None):
+        """(value in the default unit, Uncertainty or None, ref or None), or None on error."""
+        if not isinstance(raw, dict):
+            value = self.number(raw, path)
+            return None if value is None else (value, None, None)
+        if self.table(raw, path, _QUANTITY_KEYS, ("value",)) is None or "value" not in raw:
+            return None
+        value = self.number(raw["value"], f"{path}.value")
+        factor = self.unit_factor(raw.get("unit"), f"{path}.unit", unit) if "unit" in raw else 1.0
+        spread = self.spread(raw, path)
+        ref = self.text(raw, path, "ref")
+        if value is None or factor is None or spread is False:
+            return None
+        return value * factor, (spread.scaled(factor) if spread else None), ref
+
+    def spread(self, raw, path):
+        has_sigma, has_sides = "sigma" in raw, ("plus" in raw or "minus" in raw)
+        if has_sigma and has_sides:
+            self.fail(path, "give either sigma or plus/minus, not both")
+            return False
+        if has_sides and not ("plus" in raw and "minus" in raw):
+            self.fail(path, "plus and minus must be given together")
+            return False
+        keys = ("sigma",) if has_sigma else ("plus", "minus") if has_sides else ()
+        numbers = [self.number(raw[k], f"{path}.{k}") for k in keys]
+        if any(n is None for n in numbers):
+            return False
+        for k, n in zip(keys, numbers):
+            if n < 0:
+                self.fail(f"{path}.{k}", f"an uncertainty must be >= 0, not {n:g}")
+                return False
+        if has_sigma:
+            return Uncertainty.from_sigma(numbers[0])
+        return Uncertainty(numbers[0], numbers[1]) if has_sides else None
+
+    def unit_factor(self, text, path, unit: str | None) -> float | None:
+        if not isinstance(text, str):
+            self.fail(path, f"must be a unit string, not {_kind(text)}")
+            return None
+        try:
+            given = u.Unit(text, parse_strict="raise")
+        except (ValueError, TypeError):
+            self.fail(path, f"{text!r} is not a unit astropy knows")
+            return None
+        target = u.dimensionless_unscaled if unit is None else u.Unit(unit)
+        try:
+            return float(given.to(target))
+        except u.UnitConversionError:
+            wanted = "dimensionless" if unit is None else f"convertible to {unit} ({target.physical_type})"
+            self.fail(path, f"unit {text!r} is not {wanted}")
+            return None
+
+    def body(self, cls, raw, path):
+        """A Star, Planet or Assumptions from its table, or None."""
+        allowed = {"name", *cls.UNITS} | ({"heat_redistribution"} if cls is Assumptions else set())
+        if self.table(raw, path, allowed, ("name", *_REQUIRED[cls]) if cls is not Assumptions else ()) is None:
+            return None
+        before = len(self.problems)
+        values, spreads, refs = {}, {}, {}
+        if cls is not Assumptions:
+            values["name"] = self.text(raw, path, "name", required=True)
+        for key, unit in cls.UNITS.items():
+            if key not in raw:
+                continue
+            parsed = self.quantity(raw[key], _join(path, key), unit)
+            if parsed is None:
+                continue
+            value, spread, ref = parsed
+            if self.in_bounds(cls.param[key], value, _join(path, key), unit):
+                values[key] = value
+                if spread is not None:
+                    spreads[key] = spread
+                if ref is not None:
+                    refs[key] = ref
+        if cls is Assumptions and "heat_redistribution" in raw:
+            choice = self.text(raw, path, "heat_redistribution")
+            if isinstance(choice, str) and choice not in REDISTRIBUTION_FACTORS:
+                self.fail(_join(path, "heat_redistribution"),
+                          f"must be one of {', '.join(map(repr, REDISTRIBUTION_FACTORS))}, not {choice!r}")
+            elif isinstance(choice, str):
+                values["heat_redistribution"] = choice
+        if len(self.problems) > before:
+            return None
+        return cls(**values, uncertainties=spreads, refs=refs)
+
+    def in_bounds(self, parameter: param.Number, value: float, path: str, unit: str | None) -> bool:
+        lo, hi = parameter.bounds or (None, None)
+        lo_in, hi_in = parameter.inclusive_bounds
+        shown = f" {unit}" if unit else ""
+        if lo is not None and (value < lo or (value == lo and not lo_in)):
+            self.fail(path, f"must be {'>=' if lo_in else '>'} {lo:g}{shown}, not {value:g}")
+            return False
+        if hi is not None and (value > hi or (value == hi and not hi_in)):
+            self.fail(path, f"must be {'<=' if hi_in else '<'} {hi:g}{shown}, not {value:g}")
+            return False
+        return True
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def _kind(value) -> str:
+    return {bool: "a boolean", str: "a string", dict: "a table", list: "an array",
+            int: "an integer", float: "a number"}.get(type(value), type(value).__name__)
+
+
+def system_from_document(doc: dict, source: str = "<document>") -> System:
+    """A :class:`System` from a parsed system-file document; raises :class:`SystemFileError`."""
+    check = _Checker(source)
+    if check.table(doc, "", {"format", "system", "assumptions", "star", "planets"},
+                   ("format", "system", "star", "planets")) is None:
+        raise SystemFileError(check.problems)
+    if "format" in doc and doc["format"] != FORMAT:
+        check.fail("format", f"must be {FORMAT!r}, not {doc['format']!r}")
+    header = check.table(doc.get("system", {}), "system", {"name", "notes", "epoch"}, ("name",)) or {}
+    name = check.text(header, "system", "name", "unnamed system", required=True)
+    notes = check.text(header, "system", "notes", "")
+    epoch = check.number(header["epoch"], "system.epoch") if "epoch" in header else System.param.epoch.default
+    assumptions = check.body(Assumptions, doc.get("assumptions", {}), "assumptions")
+    star = check.body(Star, doc["star"], "star") if "star" in doc else None
+    raw_planets = doc.get("planets", [])
+    planets = []
+    if not isinstance(raw_planets, list):
+        check.fail("planets", f"must be an array of tables ([[planets]]), not {_kind(raw_planets)}")
+    elif "planets" in doc and not raw_planets:
+        check.fail("planets", "at least one planet is needed")
+    else:
+        planets = [check.body(Planet, raw, f"planets[{i}]") for i, raw in enumerate(raw_planets)]
+        seen = {}
+        for i, planet in enumerate(planets):
+            if planet is None:
+                continue
+            if planet.name in seen:
+                check.fail(f"planets[{i}].name", f"duplicate planet name {planet.name!r} (also planets[{seen[planet.name]}])")
+            seen.setdefault(planet.name, i)
+    if check.problems:
+        raise SystemFileError(check.problems)
+    return System(name=name, notes=notes, epoch=epoch, star=star, assumptions=assumptions, planets=planets)
+
+
+def load_system(path) -> System:
+    """Read a system file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The ``orbitdeck-system/1`` TOML file.
+
+    Raises
+    ------
+    SystemFileError
+        With every problem found, each naming the file, field and reason.
+    """
+    source = str(path)
+    try:
+        size = os.stat(path).st_size
+        if size > MAX_FILE_BYTES:
+            raise SystemFileError([Problem(source, "", f"file is {size} bytes; system files are limited to "
+                                                        f"{MAX_FILE_BYTES} bytes")])
+        data = Path(path).read_bytes()
+    except OSError as error:
+        raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
+    return loads_system(data, source)
+
+
+def loads_system(data: bytes | str, source: str = "<text>") -> System:
+    """Parse a system file's content (bytes or text); see :func:`load_system`."""
+    if isinstance(data, bytes):
+        if len(data) > MAX_FILE_BYTES:
+            raise SystemFileError([Problem(source, "", f"content is {len(data)} bytes; system files are limited "
+                                                        f"to {MAX_FILE_BYTES} bytes")])
+        try:
+            data = data.decode("utf-8")
+        except UnicodeDecodeError as error:
+            raise SystemFileError([Problem(source, "", f"is not UTF-8 text (byte {error.start})")]) from None
+    if not data.strip():
+        raise SystemFileError([Problem(source, "", "is empty")])
+    try:
+        doc = tomllib.loads(data)
+    except tomllib.TOMLDecodeError as error:
+        raise SystemFileError([Problem(source, "", f"is not valid TOML: {error}")]) from None
+    except RecursionError:
+        raise SystemFileError([Problem(source, "", "is not valid TOML: nested too deeply")]) from None
+    return system_from_document(doc, source)
+
+
+def _quantity_out(body: _Body, key: str):
+    value = getattr(body, key)
+    spread, ref = body.uncertainty(key), body.refs.get(key)
+    if spread is None and ref is None:
+        return value
+    table = {"value": value}
+    if spread is not None:
+        table.update(spread.to_file_fields())
+    if ref is not None:
+        table["ref"] = ref
+    return table
+
+
+def _body_out(body: _Body, with_name: bool = True) -> dict:
+    out = {"name": body.name} if with_name else {}
+    for key in body.UNITS:
+        if getattr(body, key) is not None:
+            out[key] = _quantity_out(body, key)
+    return out
+
+
+def system_to_document(system: System) -> dict:
+    """The system-file document of ``system`` (values in the default units)."""
+    assumptions = _body_out(system.assumptions, with_name=False)
+    assumptions["heat_redistribution"] = system.assumptions.heat_redistribution
+    return {
+        "format": FORMAT,
+        "system": {"name": system.name, "notes": system.notes, "epoch": system.epoch},
+        "assumptions": assumptions,
+        "star": _body_out(system.star),
+        "planets": [_body_out(p) for p in system.planets],
+    }
+
+
+def dumps_system(system: System) -> str:
+    """The system file of ``system`` as TOML text."""
+    return tomli_w.dumps(system_to_document(system))
+
+
+def save_system(system: System, path) -> None:
+    """Write ``system`` to ``path`` atomically (temporary file, then rename).
+
+    Raises
+    ------
+    SystemFileError
+        When the folder cannot be written; the existing file is untouched.
+    """
+    target = Path(path)
+    text = dumps_system(system).encode("utf-8")
+    try:
+        handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent or ".")
+    except OSError as error:
+        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(text)
+            stream.flush()
+            os.fsync(stream.fileno())
+        os.replace(temporary, target)
+    except OSError as error:
+        Path(temporary).unlink(missing_ok=True)
+        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None

@@ -1,0 +1,161 @@
+"""Stellar luminosity, insolation, equilibrium temperature and habitable zone."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .constants import SIGMA_SB
+
+#: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
+#: S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K.
+#: The runaway greenhouse row is the one for a 1 Earth-mass planet.
+HZ_LIMITS = ("recent_venus", "runaway_greenhouse", "maximum_greenhouse", "early_mars")
+HZ_COEFFICIENTS = np.array([
+    [1.776, 2.136e-4, 2.533e-8, -1.332e-11, -3.097e-15],   # recent Venus
+    [1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15],   # runaway greenhouse, 1 Mearth
+    [0.356, 6.171e-5, 1.698e-9, -3.198e-12, -5.575e-16],   # maximum greenhouse
+    [0.320, 5.547e-5, 1.526e-9, -2.874e-12, -5.011e-16],   # early Mars
+])
+#: Teff range over which Kopparapu et al. 2014 state their fit valid [K]
+HZ_TEFF_RANGE = (2600.0, 7200.0)
+HZ_REGIONS = ("too hot", "optimistic inner", "conservative", "optimistic outer", "too cold")
+
+
+def luminosity_from_radius_teff(radius_m, teff_k):
+    """Bolometric luminosity of a black-body sphere.
+
+    L = 4 pi R^2 sigma_SB Teff^4 (Stefan-Boltzmann law).
+
+    Parameters
+    ----------
+    radius_m : array_like
+        Stellar radius [m].
+    teff_k : array_like
+        Effective temperature [K].
+
+    Returns
+    -------
+    ndarray
+        Luminosity [W].
+    """
+    return 4.0 * np.pi * np.asarray(radius_m) ** 2 * SIGMA_SB * np.asarray(teff_k) ** 4
+
+
+def insolation(luminosity_lsun, a_au, eccentricity):
+    """Orbit-averaged bolometric insolation relative to Earth's.
+
+    S / S_earth = (L / L_sun) / (a / au)^2 / sqrt(1 - e^2); the factor
+    1/sqrt(1-e^2) is the time average of 1/r^2 over a Keplerian orbit
+    (Williams & Pollard 2002; Méndez & Rivera-Valentín 2017).
+
+    Parameters
+    ----------
+    luminosity_lsun : array_like
+        Stellar luminosity [L_sun].
+    a_au : array_like
+        Semi-major axis [au].
+    eccentricity : array_like
+        Orbital eccentricity.
+
+    Returns
+    -------
+    ndarray
+        Insolation [S_earth].
+    """
+    return luminosity_lsun / a_au**2 / np.sqrt(1.0 - eccentricity**2)
+
+
+def equilibrium_temperature(teff_k, star_radius_m, a_m, bond_albedo, redistribution):
+    """Planetary equilibrium temperature.
+
+    Teq = Teff sqrt(R* / a) [f (1 - A)]^(1/4), with f = 1/4 for full
+    redistribution, 1/2 for dayside-only and 2/3 for none (instant
+    re-radiation); e.g. Cowan & Agol 2011, eq. 4, and Kempton et al. 2018.
+    A model estimate: no greenhouse effect, no internal heat.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K].
+    star_radius_m, a_m : array_like
+        Stellar radius and semi-major axis, in one length unit.
+    bond_albedo : array_like
+        Bond albedo A, 0 <= A < 1.
+    redistribution : array_like
+        Heat-redistribution factor f.
+
+    Returns
+    -------
+    ndarray
+        Equilibrium temperature [K].
+    """
+    return teff_k * np.sqrt(star_radius_m / a_m) * (redistribution * (1.0 - bond_albedo)) ** 0.25
+
+
+def hz_effective_flux(teff_k):
+    """Effective stellar flux at the four habitable-zone limits.
+
+    S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K
+    (Kopparapu et al. 2014, ApJL 787, L29, eq. 4 and Table 1). Valid for
+    2600 K <= Teff <= 7200 K; the caller checks the range.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K], any shape.
+
+    Returns
+    -------
+    ndarray
+        S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
+        runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
+    """
+    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
+    c = HZ_COEFFICIENTS
+    return c[:, 0] + t * (c[:, 1] + t * (c[:, 2] + t * (c[:, 3] + t * c[:, 4])))
+
+
+def hz_distance(luminosity_lsun, effective_flux):
+    """Distance at which a star delivers a given flux.
+
+    d = sqrt((L / L_sun) / S_eff) au (Kopparapu et al. 2013, eq. 3).
+
+    Parameters
+    ----------
+    luminosity_lsun : array_like
+        Stellar luminosity [L_sun].
+    effective_flux : array_like
+        S_eff [S_earth].
+
+    Returns
+    -------
+    ndarray
+        Distance [au].
+    """
+    return np.sqrt(luminosity_lsun / effective_flux)
+
+
+def hz_region_index(insolation_earth, limit_fluxes):
+    """Index into :data:`HZ_REGIONS` of each planet's place in the HZ.
+
+    Compares the orbit-averaged insolation with the four limit fluxes
+    (decreasing from recent Venus to early Mars): more than recent Venus is
+    "too hot", between recent Venus and runaway greenhouse "optimistic
+    inner", between runaway and maximum greenhouse "conservative", between
+    maximum greenhouse and early Mars "optimistic outer", below early Mars
+    "too cold" (Kopparapu et al. 2013, 2014 definitions).
+
+    Parameters
+    ----------
+    insolation_earth : array_like
+        Insolation [S_earth], shape (..., planets).
+    limit_fluxes : array_like
+        S_eff at the four limits, shape (..., 4), broadcast against planets.
+
+    Returns
+    -------
+    ndarray of int
+        0 ... 4, same shape as ``insolation_earth``.
+    """
+    s = np.asarray(insolation_earth)[..., None]
+    return np.sum(s <= np.asarray(limit_fluxes)[..., None, :], axis=-1)
