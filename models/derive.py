@@ -68,7 +68,7 @@ class Derived:
             "skies": _rows(self.skies, SKY_KEYS, self.intervals.get("skies")),
         }
         if self.samples:
-            doc["star"]["interval"] = {k: [_plain(a), _plain(b)] for k, (a, b) in self.intervals["star"].items()}
+            doc["star"]["interval"] = _plain(self.intervals["star"])
             doc["samples"] = self.samples
             doc["seed"] = self.seed
         return doc

@@ -321,6 +321,30 @@ def dumps_system(system: System) -> str:
     return tomli_w.dumps(system_to_document(system))
 
 
+def atomic_write(path, data: bytes) -> None:
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename.
+
+    Raises
+    ------
+    SystemFileError
+        When the folder cannot be written; an existing file is left untouched.
+    """
+    target = Path(path)
+    try:
+        handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    except OSError as error:
+        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(data)
+            stream.flush()
+            os.fsync(stream.fileno())
+        os.replace(temporary, target)
+    except OSError as error:
+        Path(temporary).unlink(missing_ok=True)
+        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+
+
 def save_system(system: System, path) -> None:
     """Write ``system`` to ``path`` atomically (temporary file, then rename).
 
@@ -329,18 +353,4 @@ def save_system(system: System, path) -> None:
     SystemFileError
         When the folder cannot be written; the existing file is untouched.
     """
-    target = Path(path)
-    text = dumps_system(system).encode("utf-8")
-    try:
-        handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent or ".")
-    except OSError as error:
-        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
-    try:
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(text)
-            stream.flush()
-            os.fsync(stream.fileno())
-        os.replace(temporary, target)
-    except OSError as error:
-        Path(temporary).unlink(missing_ok=True)
-        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+    atomic_write(path, dumps_system(system).encode("utf-8"))

@@ -25,7 +25,8 @@ class Inputs:
 
     Units: periods [d], planet radius [Rearth], planet mass [Mearth],
     angles [deg], star mass [Msun], star radius [Rsun], Teff [K],
-    luminosity [Lsun], magnitudes [mag].
+    luminosity [Lsun], magnitudes [mag] (star values and the albedo
+    are (samples, 1)).
     """
 
     period: np.ndarray
@@ -40,8 +41,8 @@ class Inputs:
     star_luminosity: np.ndarray
     bond_albedo: np.ndarray
     redistribution: float
-    j_mag: float
-    k_mag: float
+    j_mag: np.ndarray
+    k_mag: np.ndarray
 
     @property
     def samples(self) -> int:
@@ -62,4 +63,4 @@ def nominal_inputs(system: System) -> Inputs:
     return Inputs(**columns, **stars,
                   bond_albedo=np.array([[system.assumptions.bond_albedo]]),
                   redistribution=system.assumptions.redistribution_factor,
-                  j_mag=_value(star.j_mag), k_mag=_value(star.k_mag))
+                  j_mag=np.array([[_value(star.j_mag)]]), k_mag=np.array([[_value(star.k_mag)]]))

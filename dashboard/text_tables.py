@@ -1,0 +1,95 @@
+"""Readable plain-text tables of a derived document, for the terminal."""
+
+from __future__ import annotations
+
+import math
+
+#: (document key, heading with unit) of each planet column, in groups that fit a terminal
+PLANET_GROUPS = (
+    ("Orbits and irradiation", (
+        ("name", "planet"), ("period_d", "P [d]"), ("semi_major_axis_au", "a [au]"),
+        ("insolation_earth", "S [S_earth]"), ("teq_k", "Teq [K]"), ("hz_region", "HZ region"))),
+    ("Bulk properties", (
+        ("name", "planet"), ("radius_rearth", "R [R_earth]"), ("mass_mearth", "M [M_earth]"),
+        ("density_gcc", "rho [g/cm3]"), ("surface_gravity_ms2", "g [m/s2]"),
+        ("escape_speed_kms", "v_esc [km/s]"), ("hill_radius_au", "r_Hill [au]"),
+        ("tidal_lock_gyr", "t_lock [Gyr]"))),
+    ("Observability", (
+        ("name", "planet"), ("transit_probability", "P_transit"), ("transit_depth_ppm", "depth [ppm]"),
+        ("transit_duration_h", "T14 [h]"), ("impact_parameter", "b"), ("rv_semi_amplitude_ms", "K [m/s]"),
+        ("tsm", "TSM"), ("esm", "ESM"))),
+)
+PAIR_COLUMNS = (("inner", "inner"), ("outer", "outer"), ("period_ratio", "P2/P1"), ("nearest", "nearest"),
+                ("order", "order"), ("delta", "Delta"), ("super_period_d", "P_super [d]"),
+                ("mutual_hill_spacing", "spacing [R_H,m]"))
+TRIPLE_COLUMNS = (("planets", "planets"), ("p", "p"), ("q", "q"),
+                  ("residual_deg_per_day", "p/P1-(p+q)/P2+q/P3 [deg/d]"))
+SKY_COLUMNS = (("observer", "observer"), ("body", "body"), ("closest_distance_au", "closest [au]"),
+               ("max_angular_diameter_arcsec", "max diameter [arcsec]"), ("moon_ratio", "x Moon from Earth"))
+
+
+def format_number(value) -> str:
+    """Four significant figures, plain or scientific as the size asks."""
+    if value is None:
+        return "-"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, int):
+        return str(value)
+    if not math.isfinite(value):
+        return "-"
+    if value != 0 and (abs(value) >= 1e5 or abs(value) < 1e-3):
+        return f"{value:.3e}"
+    return f"{value:.4g}"
+
+
+def format_cell(row: dict, key: str) -> str:
+    value = row.get(key)
+    if key == "planets":
+        return "-".join(value)
+    if key == "mass_mearth" and row.get("mass_estimated"):
+        return format_number(value) + " (est.)"
+    if isinstance(value, str):
+        return value
+    text = format_number(value)
+    interval = row.get("interval", {}).get(key)
+    if interval and value is not None and None not in interval and isinstance(value, float):
+        low, high = interval
+        text += f" +{format_number(high - value)} -{format_number(value - low)}"
+    return text
+
+
+def render(headings: list[str], rows: list[list[str]]) -> str:
+    widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(headings)]
+    line = lambda cells: "  ".join(c.rjust(w) if i else c.ljust(w) for i, (c, w) in enumerate(zip(cells, widths)))
+    return "\n".join([line(headings), line(["-" * w for w in widths]), *(line(r) for r in rows)])
+
+
+def table_block(title: str, columns, records: list[dict]) -> str:
+    headings = [h for _, h in columns]
+    rows = [[format_cell(r, k) for k, _ in columns] for r in records]
+    return f"{title}\n{render(headings, rows) if records else '(none)'}"
+
+
+def document_text(doc: dict) -> str:
+    """The whole document as readable tables with units."""
+    star = doc["star"]
+    lines = [f"{doc['system']['name']}",
+             f"star {star['name']}: M = {format_number(star['mass_msun'])} Msun, "
+             f"R = {format_number(star['radius_rsun'])} Rsun, Teff = {format_number(star['teff_k'])} K, "
+             f"L = {format_cell(star, 'luminosity_lsun')} Lsun"]
+    if star["hz_au"]:
+        lines.append("habitable zone [au]: " + ", ".join(
+            f"{k.replace('_', ' ')} {format_number(v)}" for k, v in star["hz_au"].items()))
+    if "samples" in doc:
+        lines.append(f"intervals: 16th-84th percentiles of {doc['samples']} Monte Carlo samples (seed {doc['seed']})")
+    blocks = ["\n".join(lines)]
+    blocks += [table_block(title, cols, doc["planets"]) for title, cols in PLANET_GROUPS]
+    blocks.append(table_block("Adjacent pairs", PAIR_COLUMNS, doc["pairs"]))
+    blocks.append(table_block("Three-body relations (consecutive triples)", TRIPLE_COLUMNS, doc["triples"]))
+    blocks.append(table_block("Skies: largest apparent size of each body", SKY_COLUMNS, doc["skies"]))
+    notes = ["Results are model estimates under the stated assumptions "
+             "(albedo, heat redistribution, mass-radius relation)."]
+    notes += [f"warning: {w}" for w in doc["warnings"]]
+    blocks.append("\n".join(notes))
+    return "\n\n".join(blocks) + "\n"
