@@ -92,8 +92,14 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-#: functions that add further subcommands (kept separate so heavy imports stay lazy)
-_EXTRA_COMMANDS: list = []
+def _register_sky(commands):
+    from orbitdeck.dashboard.cli_sky import register
+
+    register(commands)
+
+
+#: functions that add further subcommands (kept in their own modules so heavy imports stay lazy)
+_EXTRA_COMMANDS: list = [_register_sky]
 
 
 def main(argv=None) -> int:

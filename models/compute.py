@@ -19,12 +19,17 @@ def sky_rows(n_planets: int):
     """Observer and body indices of the sky table; body -1 is the star.
 
     For each observer in period order: the star first, then every other
-    planet in period order.
+    planet in period order. Also returns, per row, the index of the
+    unordered planet pair in ``np.triu_indices(n_planets, 1)`` order (-1
+    for the star), since a pair's closest distance is the same both ways.
     """
     observer = np.repeat(np.arange(n_planets), n_planets)
     body = np.tile(np.arange(-1, n_planets - 1), n_planets)
     body = np.where(body >= observer, body + 1, body)
-    return observer, body
+    pair_index = np.full((n_planets, n_planets), -1)
+    inner, outer = np.triu_indices(n_planets, 1)
+    pair_index[inner, outer] = pair_index[outer, inner] = np.arange(inner.size)
+    return observer, body, np.where(body < 0, -1, pair_index[observer, np.maximum(body, 0)])
 
 
 def compute(inp: Inputs) -> dict[str, np.ndarray]:
@@ -120,12 +125,13 @@ def compute(inp: Inputs) -> dict[str, np.ndarray]:
     out.update({"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual})
 
     # -- skies -------------------------------------------------------------
-    observer, body = sky_rows(n)
+    observer, body, pair = sky_rows(n)
     is_star = body < 0
     other = np.where(is_star, 0, body)
-    closest = orbits.closest_orbit_distance(a_au[:, observer], e[:, observer], omega[:, observer],
-                                            a_au[:, other], e[:, other], omega[:, other])
-    distance_au = np.where(is_star, a_au[:, observer], closest)
+    inner_of, outer_of = np.triu_indices(n, 1)
+    closest = orbits.closest_orbit_distance(a_au[:, inner_of], e[:, inner_of], omega[:, inner_of],
+                                            a_au[:, outer_of], e[:, outer_of], omega[:, outer_of])
+    distance_au = np.where(is_star, a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
     body_radius_au = np.where(is_star, star_radius_m / AU, radius_m[:, other] / AU)
     diameter = skies.angular_diameter(body_radius_au, distance_au)
     out.update({

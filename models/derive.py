@@ -135,7 +135,7 @@ def tables_from_columns(system: System, columns: dict, row: int = 0) -> tuple[di
     triples = {"planets": np.array([list(names[i:i + 3]) for i in range(max(n - 2, 0))] or np.empty((0, 3)),
                                    dtype=object).reshape(-1, 3), **triple_cols}
 
-    observer, body = sky_rows(n)
+    observer, body, _ = sky_rows(n)
     body_names = np.where(body < 0, "star", names[np.maximum(body, 0)] if n else np.array([], dtype=object))
     skies = {"observer": names[observer], "body": body_names.astype(object), **pick("skies")}
     return star, planets, pairs, triples, skies, extra
@@ -163,9 +163,8 @@ def collect_warnings(system: System, derived: Derived) -> list[str]:
             if r >= 10.0:
                 warnings.append(f"planet {name}: TSM is defined for radii below 10 Rearth (Kempton et al. 2018).")
     sk = derived.skies
-    crossing = sorted({tuple(sorted((o, b))) for o, b, d in zip(sk["observer"], sk["body"], sk["closest_distance_au"])
-                       if b != "star" and d == 0.0})
-    for a, b in crossing:
+    crossed = (sk["body"] != "star") & (sk["closest_distance_au"] == 0.0) & (sk["observer"] < sk["body"])
+    for a, b in zip(sk["observer"][crossed], sk["body"][crossed]):
         warnings.append(f"planets {a} and {b}: their orbits cross.")
     pr = derived.pairs
     for a, b, spacing in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"]):

@@ -95,7 +95,10 @@ class OrbitalElements:
 
 
 class Positions(NamedTuple):
-    """Positions in the DESIGN.md frame, each shaped ``times.shape + (planets,)``."""
+    """Positions in the DESIGN.md frame, each shaped ``times.shape + (planets,)``.
+
+    ``true_anomaly_rad`` lies in [0, 2 pi).
+    """
 
     x_au: np.ndarray
     y_au: np.ndarray
@@ -143,7 +146,7 @@ def orbital_elements(system, a_au=None) -> OrbitalElements:
         estimated masses elsewhere. When omitted, Kepler's third law
         (:func:`semi_major_axis_au`) is applied with M* + Mp, taking Mp = 0
         for a planet without a mass (a relative error of Mp / (3 M*) in a,
-        below 1e-4 for an Earth-mass planet around a 0.1 Msun star).
+        1e-5 for an Earth-mass planet around a 0.1 Msun star).
 
     Returns
     -------
@@ -245,7 +248,7 @@ def positions_broadcast(elements: OrbitalElements, times) -> Positions:
     f = kepler.true_anomaly(E, elements.e)
     r = kepler.orbital_radius(elements.a_au, elements.e, E)
     x, y, z = sky_frame_position(r, f, elements.omega_rad, elements.inc_rad)
-    return Positions(x, y, z, f)
+    return Positions(x, y, z, np.mod(f, kepler.TWO_PI))
 
 
 def positions(elements: OrbitalElements, times) -> Positions:

@@ -79,8 +79,8 @@ def kepler_starting_guess(reduced_mean_anomaly, eccentricity) -> np.ndarray:
 
     With alpha = (1 - e) / (4 e + 1/2), beta = |M| / (2 (4 e + 1/2)),
     z = cbrt(beta + sqrt(beta^2 + alpha^3)) and s = z - alpha / z, corrected
-    by ds = -0.078 s^5 / (1 + e): E = M + e sign(M) (3 s - 4 s^3). Good to
-    about 1e-2 rad or better for all 0 <= e < 1.
+    by ds = -0.078 s^5 / (1 + e): E = M + e sign(M) (3 s - 4 s^3). Good to a
+    few 1e-3 rad for all 0 <= e < 1.
 
     Parameters
     ----------
@@ -94,18 +94,39 @@ def kepler_starting_guess(reduced_mean_anomaly, eccentricity) -> np.ndarray:
     numpy.ndarray
         Approximate eccentric anomaly [rad].
     """
-    M = np.asarray(reduced_mean_anomaly, dtype=float)
-    e = np.asarray(eccentricity, dtype=float)
+    M, e = np.broadcast_arrays(np.asarray(reduced_mean_anomaly, dtype=float), np.asarray(eccentricity, dtype=float))
+    shape = M.shape
+    M, e = np.atleast_1d(M, e)
+    # in-place arithmetic on a few buffers: large temporaries cost more than the arithmetic
     m_abs = np.abs(M)
-    denominator = 4.0 * e + 0.5
-    alpha = (1.0 - e) / denominator
-    beta = 0.5 * m_abs / denominator
-    z = np.cbrt(beta + np.sqrt(beta * beta + alpha * alpha * alpha))
-    s = z - alpha / z
-    s2 = s * s
-    s = s - 0.078 * s2 * s2 * s / (1.0 + e)  # products, not **: far faster in numpy
-    s2 = s * s
-    return np.sign(M) * (m_abs + e * s * (3.0 - 4.0 * s2))
+    den = 4.0 * e + 0.5
+    alpha = np.subtract(1.0, e)
+    alpha /= den
+    beta = 0.5 * m_abs
+    beta /= den
+    z = beta * beta
+    np.multiply(alpha, alpha, out=den)
+    den *= alpha
+    z += den
+    np.sqrt(z, out=z)
+    z += beta
+    np.cbrt(z, out=z)
+    np.divide(alpha, z, out=alpha)
+    s = np.subtract(z, alpha, out=z)                 # s = z - alpha / z
+    s2 = np.multiply(s, s, out=den)
+    np.multiply(s2, s2, out=beta)
+    beta *= s
+    beta *= 0.078
+    np.add(e, 1.0, out=alpha)
+    beta /= alpha
+    s -= beta                                        # s -= 0.078 s^5 / (1 + e)
+    np.multiply(s, s, out=s2)
+    s2 *= -4.0
+    s2 += 3.0
+    s2 *= s
+    s2 *= e
+    s2 += m_abs                                      # |M| + e s (3 - 4 s^2)
+    return np.copysign(s2, M, out=s2).reshape(shape)
 
 
 def solve_kepler(mean_anomaly, eccentricity, tol: float = 1e-12, max_iter: int = 10) -> np.ndarray:
@@ -114,9 +135,11 @@ def solve_kepler(mean_anomaly, eccentricity, tol: float = 1e-12, max_iter: int =
     Newton's iteration corrected by the second and third derivatives of
     ``g(E) = E - e sin E - M`` (Danby's quartic variant, Danby 1987), on the
     mean anomaly reduced to [-pi, pi], started from Mikkola's (1987) cubic
-    approximation (:func:`kepler_starting_guess`). All elements are iterated
-    together until every residual ``|E - e sin E - M|`` is at most ``tol``;
-    one step suffices for e <= 0.9 and two for e up to 0.999.
+    approximation (:func:`kepler_starting_guess`). Elements are iterated
+    together until every residual ``|E - e sin E - M|`` on the reduced M is
+    at most ``tol / 2``, leaving room for the rounding of adding whole turns
+    back (once most have converged, only the rest are carried on); one step
+    suffices for e <= 0.9 and two for e up to 0.999.
 
     Parameters
     ----------
@@ -125,8 +148,7 @@ def solve_kepler(mean_anomaly, eccentricity, tol: float = 1e-12, max_iter: int =
     eccentricity : array_like
         Eccentricity e, 0 <= e < 1, broadcastable against ``mean_anomaly``.
     tol : float
-        Largest accepted residual of Kepler's equation, evaluated on the
-        reduced mean anomaly [rad].
+        Largest accepted residual of Kepler's equation [rad].
     max_iter : int
         Largest number of iteration steps.
 
@@ -143,34 +165,64 @@ def solve_kepler(mean_anomaly, eccentricity, tol: float = 1e-12, max_iter: int =
     RuntimeError
         When the iteration has not reached ``tol`` after ``max_iter`` steps.
     """
-    M = np.asarray(mean_anomaly, dtype=float)
-    e = check_eccentricity(eccentricity)
-    M, e = np.broadcast_arrays(M, e)
-    turns = TWO_PI * np.round(M / TWO_PI)
+    M, e = np.broadcast_arrays(np.asarray(mean_anomaly, dtype=float), check_eccentricity(eccentricity))
+    shape = M.shape
+    M, e = M.ravel(), e.ravel()
+    turns = np.round(M / TWO_PI)
+    turns *= TWO_PI
     Mr = M - turns
-    E = kepler_starting_guess(Mr, e)
-    finite = np.isfinite(Mr)
-    worst = np.inf
+    result = E = kepler_starting_guess(Mr, e)
+    where = None                                     # indices of E in result; None: all of them
+    buffers = [np.empty_like(E) for _ in range(6)]   # in-place work: large temporaries are slow
     for _ in range(max_iter + 1):
-        e_sin = e * np.sin(E)
-        g = E - e_sin - Mr
-        worst = np.max(np.abs(g), where=finite, initial=0.0)
-        if worst <= tol:
-            return E + turns
-        e_cos = e * np.cos(E)
-        g1 = 1.0 - e_cos  # g' = 1 - e cos E, g'' = e sin E, g''' = e cos E
-        d1 = -g / g1
-        d2 = -g / (g1 + 0.5 * d1 * e_sin)
-        E = E - g / (g1 + 0.5 * d2 * e_sin + d2 * d2 * e_cos / 6.0)
-    raise RuntimeError(f"Kepler's equation did not converge to {tol:g} rad in {max_iter} steps "
-                       f"(largest residual {worst:.3g} rad)")
+        e_sin, e_cos, g, g1, step, tmp = (b[:E.size] for b in buffers)
+        np.sin(E, out=e_sin)
+        e_sin *= e
+        np.subtract(E, e_sin, out=g)
+        g -= Mr                                      # g = E - e sin E - M
+        bad = np.abs(g, out=tmp) > 0.5 * tol         # NaN counts as done; margin for E + 2 pi k
+        n_bad = np.count_nonzero(bad)
+        if n_bad == 0:
+            break
+        if n_bad < E.size // 2:                      # carry on with the unconverged ones only
+            if where is None:
+                where = np.flatnonzero(bad)
+            else:
+                result[where] = E
+                where = where[bad]
+            E, e, Mr, g, e_sin = E[bad], e[bad], Mr[bad], g[bad], e_sin[bad]
+            e_cos, g1, step, tmp = (b[:n_bad] for b in buffers[1:2] + buffers[3:])
+        np.cos(E, out=e_cos)
+        e_cos *= e
+        np.subtract(1.0, e_cos, out=g1)              # g' = 1 - e cos E; g'' = e sin E; g''' = e cos E
+        np.divide(g, g1, out=step)                   # -d1, Newton's step
+        np.multiply(step, e_sin, out=tmp)
+        tmp *= -0.5
+        tmp += g1
+        np.divide(g, tmp, out=step)                  # -d2 = g / (g' + d1 g''/2), Halley's step
+        np.multiply(step, step, out=tmp)
+        tmp *= e_cos
+        tmp /= 6.0
+        tmp += g1
+        step *= e_sin
+        step *= 0.5
+        tmp -= step                                  # g' + d2 g''/2 + d2^2 g'''/6
+        np.divide(g, tmp, out=tmp)
+        E -= tmp                                     # E + d3, Danby's quartic step
+    else:
+        raise RuntimeError(f"Kepler's equation did not converge to {tol:g} rad in {max_iter} steps "
+                           f"(largest residual {np.nanmax(np.abs(g)):.3g} rad)")
+    if where is not None:
+        result[where] = E
+    result += turns
+    return result.reshape(shape)
 
 
 def true_anomaly(eccentric_anomaly, eccentricity) -> np.ndarray:
     """True anomaly from the eccentric anomaly (M&D 1999, eq. 2.46).
 
     tan(f/2) = sqrt((1 + e) / (1 - e)) tan(E/2), evaluated with ``arctan2``
-    so that f falls in the same half-turn as E.
+    and put on the same revolution as E (|f - E| < pi).
 
     Parameters
     ----------
@@ -182,17 +234,19 @@ def true_anomaly(eccentric_anomaly, eccentricity) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        True anomaly f [rad], in (-pi, pi].
+        True anomaly f [rad].
     """
-    half = 0.5 * np.asarray(eccentric_anomaly, dtype=float)
+    E = np.asarray(eccentric_anomaly, dtype=float)
+    half = 0.5 * E
     e = np.asarray(eccentricity, dtype=float)
-    return 2.0 * np.arctan2(np.sqrt(1.0 + e) * np.sin(half), np.sqrt(1.0 - e) * np.cos(half))
+    f = 2.0 * np.arctan2(np.sqrt(1.0 + e) * np.sin(half), np.sqrt(1.0 - e) * np.cos(half))
+    return E + wrap_angle(f - E)
 
 
 def eccentric_anomaly(true_anomaly, eccentricity) -> np.ndarray:
     """Eccentric anomaly from the true anomaly, the inverse of M&D 1999 eq. 2.46.
 
-    tan(E/2) = sqrt((1 - e) / (1 + e)) tan(f/2).
+    tan(E/2) = sqrt((1 - e) / (1 + e)) tan(f/2), on the same revolution as f.
 
     Parameters
     ----------
@@ -204,11 +258,13 @@ def eccentric_anomaly(true_anomaly, eccentricity) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        Eccentric anomaly E [rad], in (-pi, pi].
+        Eccentric anomaly E [rad].
     """
-    half = 0.5 * np.asarray(true_anomaly, dtype=float)
+    f = np.asarray(true_anomaly, dtype=float)
+    half = 0.5 * f
     e = np.asarray(eccentricity, dtype=float)
-    return 2.0 * np.arctan2(np.sqrt(1.0 - e) * np.sin(half), np.sqrt(1.0 + e) * np.cos(half))
+    E = 2.0 * np.arctan2(np.sqrt(1.0 - e) * np.sin(half), np.sqrt(1.0 + e) * np.cos(half))
+    return f + wrap_angle(E - f)
 
 
 def orbital_radius(semi_major_axis, eccentricity, eccentric_anomaly) -> np.ndarray:
@@ -285,7 +341,7 @@ def mean_anomaly_of_transit(eccentricity, omega) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        Mean anomaly at transit [rad], in (-pi, pi].
+        Mean anomaly at transit [rad], in [-pi, pi].
     """
     e = check_eccentricity(eccentricity)
     return mean_anomaly(eccentric_anomaly(true_anomaly_of_transit(omega), e), e)

@@ -250,6 +250,13 @@ def _json_number(value):
 def sky_document(system, observer: str, time=None, a_au=None, geometric_albedo: float = 0.3) -> dict:
     """JSON-ready sky from one planet at one time (the system epoch by default).
 
+    Parameters
+    ----------
+    system, observer, a_au, geometric_albedo
+        As for :func:`sky_from`.
+    time : float, optional
+        One time [BJD_TDB, d]; the system epoch when omitted.
+
     Returns
     -------
     dict
@@ -315,8 +322,10 @@ def close_approaches(system, observer: str, after=None, count: int = 3, a_au=Non
     on, in blocks and for all pairs at once, until ``count`` local minima
     are found, (count + 2) synodic periods have been covered, or
     ``max_samples`` were used. Each minimum is then refined by a
-    golden-section search (Kiefer 1953) between its neighbouring samples.
-    No circular orbit is assumed.
+    golden-section search (Kiefer 1953, Proc. AMS 4, 502; from memory)
+    between its neighbouring samples. No circular orbit is assumed. A minimum counts only when the sampled
+    curvature exceeds 1e-9 of the distance, so a constant separation
+    (equal periods on circular coplanar orbits) gives none.
 
     Parameters
     ----------
@@ -368,7 +377,9 @@ def close_approaches(system, observer: str, after=None, count: int = 3, a_au=Non
         k = np.arange(max(start - 1, 0), start + block + 1, dtype=float)   # neighbours on both sides
         times = t0 + k[:, None] * step[active]
         sep = _separation(el.take(np.full(active.size, obs)), el.take(others[active]), times)
-        is_min = (sep[1:-1] < sep[:-2]) & (sep[1:-1] <= sep[2:])
+        mid = sep[1:-1]
+        # a local minimum whose curvature stands above rounding noise (1e-9 of the distance)
+        is_min = (mid < sep[:-2]) & (mid <= sep[2:]) & (sep[:-2] + sep[2:] - 2.0 * mid > 1e-9 * mid)
         rows, cols = np.nonzero(is_min)
         for r, c in zip(k[1:-1][rows].astype(int), active[cols]):
             if len(found[c]) < count:
