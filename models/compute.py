@@ -135,6 +135,7 @@ def compute(inp: Inputs) -> dict[str, np.ndarray]:
     body_radius_au = np.where(is_star, star_radius_m / AU, radius_m[:, other] / AU)
     diameter = skies.angular_diameter(body_radius_au, distance_au)
     out.update({
+        "sky_pairs.closest_distance_au": closest,
         "skies.closest_distance_au": distance_au,
         "skies.max_angular_diameter_arcsec": diameter * RAD_TO_ARCSEC,
         "skies.moon_ratio": skies.moon_ratio(diameter),

@@ -40,7 +40,8 @@ def transit_depth(planet_radius, star_radius):
 def impact_parameter(a, inclination, star_radius, eccentricity, omega):
     """Impact parameter of the transit.
 
-    b = (a cos i / R*) (1 - e^2) / (1 + e sin omega) (Winn 2010, eq. 7).
+    b = (a |cos i| / R*) (1 - e^2) / (1 + e sin omega) (Winn 2010, eq. 7;
+    reported >= 0 whichever side of 90 deg the inclination lies, as usual).
 
     Parameters
     ----------
@@ -50,7 +51,7 @@ def impact_parameter(a, inclination, star_radius, eccentricity, omega):
         Inclination and argument of periastron [rad].
     eccentricity : array_like
     """
-    return a * np.cos(inclination) / star_radius * (1.0 - eccentricity**2) / (1.0 + eccentricity * np.sin(omega))
+    return a * np.abs(np.cos(inclination)) / star_radius * (1.0 - eccentricity**2) / (1.0 + eccentricity * np.sin(omega))
 
 
 def transit_duration_total(period, a, star_radius, planet_radius, inclination, b, eccentricity, omega):
@@ -74,7 +75,7 @@ def transit_duration_total(period, a, star_radius, planet_radius, inclination, b
     """
     k = planet_radius / star_radius
     chord2 = (1.0 + k) ** 2 - b**2
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore"):
         argument = star_radius / a * np.sqrt(chord2) / np.sin(inclination)
         t14 = period / np.pi * np.arcsin(np.minimum(argument, 1.0))
     t14 = t14 * np.sqrt(1.0 - eccentricity**2) / (1.0 + eccentricity * np.sin(omega))

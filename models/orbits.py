@@ -50,7 +50,7 @@ _FIRST_ORDER_E_MAX = 0.1
 _SWEEP_SAMPLES = 24
 
 
-def _refine_extremum(gap, theta, step, iterations: int = 3):
+def _refine_extremum(gap, theta, step, iterations: int = 2):
     """Value of ``gap`` at its extremum near ``theta``, found by repeated parabolic fits."""
     for _ in range(iterations):
         g0, g1, g2 = gap(theta - step), gap(theta), gap(theta + step)
@@ -91,29 +91,38 @@ def closest_orbit_distance(a_in, e_in, omega_in, a_out, e_out, omega_out):
     """
     a_in, e_in, omega_in, a_out, e_out, omega_out = np.broadcast_arrays(
         *(np.asarray(x, dtype=float) for x in (a_in, e_in, omega_in, a_out, e_out, omega_out)))
-    result = np.abs(a_out - a_in)
+    result = np.array(np.abs(a_out - a_in), dtype=float)
     eccentric = (e_in != 0.0) | (e_out != 0.0)
     if not eccentric.any():
         return result
     a_i, e_i, w_i, a_o, e_o, w_o = (x[eccentric] for x in (a_in, e_in, omega_in, a_out, e_out, omega_out))
 
-    def gap(theta):
-        return orbital_radius(a_o, e_o, theta - w_o) - orbital_radius(a_i, e_i, theta - w_i)
+    semi_latus_i, semi_latus_o = a_i * (1.0 - e_i**2), a_o * (1.0 - e_o**2)
 
-    low_seed = np.angle(a_o * e_o * np.exp(1j * w_o) - a_i * e_i * np.exp(1j * w_i))
-    high_seed = low_seed + np.pi
-    step = np.full(low_seed.shape, 0.3)
+    def gap(theta, pick=slice(None)):
+        return (semi_latus_o[pick] / (1.0 + e_o[pick] * np.cos(theta - w_o[pick]))
+                - semi_latus_i[pick] / (1.0 + e_i[pick] * np.cos(theta - w_i[pick])))
+
+    seed = np.angle(a_o * e_o * np.exp(1j * w_o) - a_i * e_i * np.exp(1j * w_i))
+    step = np.full(seed.shape, 0.3)
     # beyond small e the gap can have two minima: seed those pairs from a coarse sweep
     wide = np.maximum(e_i, e_o) > _FIRST_ORDER_E_MAX
     if wide.any():
         count = _SWEEP_SAMPLES if np.max(np.maximum(e_i, e_o)) <= 0.6 else 8 * _SWEEP_SAMPLES
         sweep = np.linspace(0.0, 2.0 * np.pi, count, endpoint=False)
-        sampled = (orbital_radius(a_o[wide, None], e_o[wide, None], sweep - w_o[wide, None])
-                   - orbital_radius(a_i[wide, None], e_i[wide, None], sweep - w_i[wide, None]))
-        low_seed[wide] = sweep[np.argmin(sampled, axis=-1)]
-        high_seed[wide] = sweep[np.argmax(sampled, axis=-1)]
+        sampled = gap(sweep, (wide, None))
+        seed[wide] = sweep[np.argmin(sampled, axis=-1)]
         step[wide] = 2.0 * np.pi / count
-    low = _refine_extremum(gap, low_seed, step)
-    high = -_refine_extremum(lambda t: -gap(t), high_seed, step)
-    result[eccentric] = np.where(low > 0.0, low, np.where(high < 0.0, -high, 0.0))
+    low = _refine_extremum(gap, seed, step)
+    distance = np.maximum(low, 0.0)
+    # where the smallest gap is not positive, the orbits cross unless the whole
+    # "outer" orbit lies inside the inner one: look at the largest gap as well
+    inside = low <= 0.0
+    if inside.any():
+        pick = np.flatnonzero(inside)
+        sweep = np.linspace(0.0, 2.0 * np.pi, 8 * _SWEEP_SAMPLES, endpoint=False)
+        high_seed = sweep[np.argmax(gap(sweep, (pick, None)), axis=-1)]
+        high = -_refine_extremum(lambda t: -gap(t, pick), high_seed, np.full(pick.size, 2.0 * np.pi / sweep.size))
+        distance[pick] = np.where(high < 0.0, -high, 0.0)
+    result[eccentric] = distance
     return result

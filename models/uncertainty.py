@@ -1,7 +1,10 @@
 """Monte Carlo propagation of input uncertainties to every derived quantity.
 
 Inputs with a ``sigma`` are drawn from normals, inputs with ``plus``/``minus``
-from split normals (Wallis 2014, "Binomial and split-normal distributions"),
+from split normals whose halves each hold half the probability, so that the
+nominal value is the median and value - minus, value + plus are the 16th and
+84th percentiles, the way asymmetric errors are quoted (a two-piece normal,
+Wallis 2014, Stat. Sci. 29, 106, with equal half masses),
 all from one seeded numpy Generator in a fixed order, so the same seed gives
 the same numbers. Draws outside a parameter's physical domain (its param
 bounds: masses and radii > 0, 0 <= e < 1, 0 <= A < 1 ...) are redrawn, which
@@ -18,7 +21,9 @@ from dataclasses import replace
 import numpy as np
 
 from . import resonances
-from .compute import compute
+from .compute import compute, sky_rows
+from .constants import RAD_TO_ARCSEC
+from .skies import moon_ratio
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .system import System, _Body
 
@@ -28,10 +33,11 @@ _MAX_REDRAWS = 100
 
 
 def split_normal(rng: np.random.Generator, value, plus, minus, size):
-    """Draws from a split normal with mode ``value`` and widths ``plus`` / ``minus``.
+    """Draws from a split normal with median ``value`` and widths ``plus`` / ``minus``.
 
-    Each half of a unit normal is scaled by its own width (Wallis 2014,
-    split-normal distribution); for plus == minus it is a normal.
+    Each half of a unit normal is scaled by its own width, so each side
+    keeps half the probability (a two-piece normal with equal half masses;
+    Wallis 2014, Stat. Sci. 29, 106); for plus == minus it is a normal.
 
     Parameters
     ----------
@@ -133,12 +139,20 @@ def _anchor_to_nominal(columns: dict, samples: Inputs, derived) -> None:
 
 
 def percentile_interval(values: np.ndarray):
-    """16th and 84th percentiles over the sample axis (axis 0), ignoring NaN draws."""
-    if np.isnan(values).any():
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", RuntimeWarning)  # columns where every draw is NaN stay NaN
-            return np.nanpercentile(values, PERCENTILES, axis=0)
-    return np.percentile(values, PERCENTILES, axis=0)
+    """16th and 84th percentiles over the sample axis (axis 0), ignoring NaN draws.
+
+    Columns without NaN go through one fast ``np.percentile`` call; only the
+    others take the slower NaN-aware path.
+    """
+    has_nan = np.isnan(values).any(axis=0)
+    if not has_nan.any():
+        return np.percentile(values, PERCENTILES, axis=0)
+    result = np.empty((2, values.shape[1]))
+    result[:, ~has_nan] = np.percentile(values[:, ~has_nan], PERCENTILES, axis=0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # columns where every draw is NaN stay NaN
+        result[:, has_nan] = np.nanpercentile(values[:, has_nan], PERCENTILES, axis=0)
+    return result
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
@@ -154,21 +168,34 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     derived.extra["other_nearest_fraction"] = (columns["pairs.other_nearest"].mean(axis=0)
                                                if "pairs.other_nearest" in columns else np.zeros(0))
     tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples, "skies": derived.skies}
+    # sky distances repeat a (star rows) and each pair's distance twice, and the
+    # Moon ratio is the diameter rescaled: their percentiles follow from others
+    derived_later = {("skies", "closest_distance_au"), ("skies", "moon_ratio")}
     keys = [(table, key) for table, cols in tables.items() for key, col in cols.items()
-            if f"{table}.{key}" in columns and col.dtype.kind == "f"]
-    widths = [columns[f"{t}.{k}"].shape[1] for t, k in keys]
+            if f"{table}.{key}" in columns and col.dtype.kind == "f" and (table, key) not in derived_later]
+    keys.append(("sky_pairs", "closest_distance_au"))
     star_keys = ["luminosity_lsun"] + ([f"hz_au.{k}" for k in derived.star["hz_au"]] if derived.hz_valid else [])
-    stacked = np.concatenate([columns[f"{t}.{k}"] for t, k in keys]
-                             + [columns[f"star.{k}"][:, None] for k in star_keys], axis=1)
-    low, high = percentile_interval(stacked)
-    intervals: dict = {table: {} for table in tables}
-    start = 0
-    for (table, key), width in zip(keys, widths):
-        intervals[table][key] = (low[start:start + width], high[start:start + width])
-        start += width
-    star = {"luminosity_lsun": [low[start], high[start]]}
+    blocks = [columns[f"{t}.{k}"] for t, k in keys] + [columns[f"star.{k}"][:, None] for k in star_keys]
+    low, high = percentile_interval(np.concatenate(blocks, axis=1))
+    edges = np.cumsum([0] + [b.shape[1] for b in blocks])
+    bounds = [(low[a:b], high[a:b]) for a, b in zip(edges[:-1], edges[1:])]
+    intervals: dict = {table: {} for table in (*tables, "sky_pairs")}
+    for (table, key), bound in zip(keys, bounds):
+        intervals[table][key] = bound
+    _, body, pair = sky_rows(len(derived.planets["name"]))
+    a_low, a_high = intervals["planets"]["semi_major_axis_au"]
+    p_low, p_high = intervals.pop("sky_pairs")["closest_distance_au"]
+    observer = np.repeat(np.arange(len(a_low)), len(a_low))
+    star_row, safe_pair = body < 0, np.maximum(pair, 0)
+    intervals["skies"]["closest_distance_au"] = (
+        np.where(star_row, a_low[observer], p_low[safe_pair] if p_low.size else 0.0),
+        np.where(star_row, a_high[observer], p_high[safe_pair] if p_high.size else 0.0))
+    d_low, d_high = intervals["skies"]["max_angular_diameter_arcsec"]
+    intervals["skies"]["moon_ratio"] = (moon_ratio(d_low / RAD_TO_ARCSEC), moon_ratio(d_high / RAD_TO_ARCSEC))
+    star_bounds = [(float(lo[0]), float(hi[0])) for lo, hi in bounds[len(keys):]]
+    star = {"luminosity_lsun": list(star_bounds[0])}
     if derived.hz_valid:
-        star["hz_au"] = {k[6:]: [low[start + 1 + i], high[start + 1 + i]] for i, k in enumerate(star_keys[1:])}
+        star["hz_au"] = {k[6:]: list(b) for k, b in zip(star_keys[1:], star_bounds[1:])}
     intervals["star"] = star
     derived.intervals = intervals
     derived.samples = samples

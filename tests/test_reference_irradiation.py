@@ -1,0 +1,183 @@
+"""Luminosity, insolation, equilibrium temperature and habitable zone against outside references."""
+
+import astropy.constants as const
+import astropy.units as u
+import numpy as np
+import pytest
+from scipy import optimize
+
+from orbitdeck.models import Planet, derive, irradiation
+
+# Kopparapu et al. 2014 (ApJL 787, L29) Table 1, S_eff,sun column (recent Venus, runaway
+# greenhouse 1 Mearth, maximum greenhouse, early Mars), from memory of the paper's table
+KOPPARAPU_SEFF_SUN = (1.776, 1.107, 0.356, 0.320)
+
+
+def _period_for(a_au, star_msun=1.0, planet_mearth=1.0):
+    # Kepler III inverted with astropy units (independent of the model's code)
+    a = a_au * u.au
+    mass = star_msun * const.M_sun + planet_mearth * const.M_earth
+    return float((2 * np.pi * np.sqrt(a**3 / (const.G * mass))).to_value(u.day))
+
+
+# -- luminosity -----------------------------------------------------------------
+
+def test_nominal_sun_has_nominal_luminosity(solar_system):
+    star = derive(solar_system).to_dict()["star"]
+    # IAU 2015 Resolution B3: R = 6.957e8 m and Teff = 5772 K give L = 3.828e26 W (nominal L_sun)
+    assert star["luminosity_lsun"] == pytest.approx(1.0, abs=1e-4)
+    watts = irradiation.luminosity_from_radius_teff(6.957e8, 5772.0)
+    assert watts == pytest.approx(3.828e26, rel=1e-4)
+
+
+def test_luminosity_matches_astropy_stefan_boltzmann():
+    # an M dwarf, 0.2 Rsun at 3100 K, with astropy's sigma_sb and units
+    reference = (4 * np.pi * (0.2 * const.R_sun) ** 2 * const.sigma_sb * (3100 * u.K) ** 4).to(u.W)
+    assert irradiation.luminosity_from_radius_teff(0.2 * const.R_sun.value, 3100.0) == pytest.approx(
+        reference.value, rel=1e-12)
+
+
+def test_given_luminosity_is_used_instead_of_the_computed_one(make_system, row_of):
+    # 4 pi R^2 sigma T^4 applies only when no luminosity is given (design brief)
+    system = make_system([dict(name="b", period=365.256, radius=1.0, mass=1.0)],
+                         star=dict(name="s", mass=1.0, radius=1.0, teff=5772.0, luminosity=2.0))
+    doc = derive(system).to_dict()
+    assert doc["star"]["luminosity_lsun"] == 2.0
+    # S = L / a^2 (inverse-square law)
+    assert row_of(doc["planets"], "b")["insolation_earth"] == pytest.approx(2.0, rel=1e-5)
+
+
+# -- insolation -----------------------------------------------------------------
+
+def test_earth_receives_one_earth_insolation(solar_system, row_of):
+    earth = row_of(derive(solar_system).to_dict()["planets"], "earth")
+    # definition of S_earth: L_sun at 1 au
+    assert earth["insolation_earth"] == pytest.approx(1.0, abs=1e-4)
+
+
+def test_eccentric_insolation_is_the_time_average_of_inverse_square_flux():
+    e = 0.5
+    # independent numerical time average: mean anomaly uniform in time (midpoint rule, spectrally
+    # accurate for a periodic integrand), Kepler's equation solved with scipy's brentq
+    mean_anomaly = (np.arange(4000) + 0.5) * 2 * np.pi / 4000
+    E = np.array([optimize.brentq(lambda x, m=m: x - e * np.sin(x) - m, m - e, m + e, xtol=1e-14)
+                  for m in mean_anomaly])
+    r = 1.0 - e * np.cos(E)                      # r / a = 1 - e cos E (Murray & Dermott eq. 2.42)
+    numeric = np.mean(1.0 / r**2)
+    # analytic: <(a/r)^2> = (1 - e^2)^(-1/2) (Williams & Pollard 2002)
+    assert numeric == pytest.approx(1 / np.sqrt(1 - e**2), rel=1e-10)
+    assert irradiation.insolation(1.0, 1.0, e) == pytest.approx(numeric, rel=1e-10)
+    assert irradiation.insolation(1.0, 1.0, e) / irradiation.insolation(1.0, 1.0, 0.0) == pytest.approx(
+        1.1547005, rel=1e-7)   # 1/sqrt(0.75) by hand
+
+
+# -- equilibrium temperature ------------------------------------------------------
+
+def test_earth_equilibrium_temperature(solar_system, row_of):
+    earth = row_of(derive(solar_system).to_dict()["planets"], "earth")
+    # textbook value ~255 K for A ~ 0.3 and full redistribution (e.g. NASA Earth fact sheet
+    # "black-body temperature 254 K" for A = 0.306, from memory)
+    assert earth["teq_k"] == pytest.approx(254.0, abs=1.0)
+    # by hand with astropy: T = [L (1 - A) / (16 pi sigma a^2)]^(1/4)
+    by_hand = ((const.L_sun * (1 - 0.306) / (16 * np.pi * const.sigma_sb * const.au**2)) ** 0.25).to(u.K)
+    assert earth["teq_k"] == pytest.approx(by_hand.value, rel=1e-4)
+
+
+def test_redistribution_factor_ratios(make_system, row_of):
+    planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0)]
+    teq = {mode: row_of(derive(make_system(planets, heat_redistribution=mode)).to_dict()["planets"], "b")["teq_k"]
+           for mode in ("full", "dayside", "none")}
+    # Teq proportional to f^(1/4), f = 1/4, 1/2, 2/3 (Cowan & Agol 2011)
+    assert teq["dayside"] / teq["full"] == pytest.approx(2 ** 0.25, rel=1e-12)
+    assert teq["none"] / teq["full"] == pytest.approx((8 / 3) ** 0.25, rel=1e-12)
+
+
+def test_albedo_enters_as_one_minus_a_to_the_quarter(make_system, row_of):
+    planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0)]
+    t0 = row_of(derive(make_system(planets, bond_albedo=0.0)).to_dict()["planets"], "b")["teq_k"]
+    t5 = row_of(derive(make_system(planets, bond_albedo=0.5)).to_dict()["planets"], "b")["teq_k"]
+    assert t5 / t0 == pytest.approx(0.5 ** 0.25, rel=1e-12)   # (1 - A)^(1/4) by hand
+
+
+# -- habitable zone ----------------------------------------------------------------
+
+def test_hz_flux_at_5780_k_equals_the_paper_column():
+    # at Teff = 5780 K, T = 0 and S_eff = S_eff,sun (Kopparapu et al. 2014 eq. 4, Table 1)
+    np.testing.assert_allclose(irradiation.hz_effective_flux(5780.0), KOPPARAPU_SEFF_SUN, rtol=0, atol=1e-12)
+
+
+def test_hz_flux_for_a_cool_star_by_hand():
+    # Kopparapu et al. 2014 Table 1 coefficients (a, b, c, d) of the runaway-greenhouse (1 Mearth)
+    # and maximum-greenhouse rows, from memory, evaluated by hand at Teff = 3000 K
+    t = 3000.0 - 5780.0
+    runaway = 1.107 + 1.332e-4 * t + 1.580e-8 * t**2 - 8.308e-12 * t**3 - 1.931e-15 * t**4
+    maximum = 0.356 + 6.171e-5 * t + 1.698e-9 * t**2 - 3.198e-12 * t**3 - 5.575e-16 * t**4
+    flux = irradiation.hz_effective_flux(3000.0)
+    assert flux[1] == pytest.approx(runaway, rel=1e-12)
+    assert flux[2] == pytest.approx(maximum, rel=1e-12)
+    # M dwarfs' HZ lies at lower flux than the Sun's (Kopparapu et al. 2013, Fig. 7)
+    assert flux[1] < 1.107 and flux[2] < 0.356
+
+
+def test_sun_hz_distances(make_system):
+    # Sun with exactly 1 Lsun and Teff 5780 K: d = sqrt(1 / S_eff) au, ~0.75, 0.95, 1.68, 1.77 au
+    # as quoted by Kopparapu et al. 2013/2014 for the Solar System
+    system = make_system([dict(name="b", period=365.256, radius=1.0, mass=1.0)],
+                         star=dict(name="sun", mass=1.0, radius=1.0, teff=5780.0, luminosity=1.0))
+    hz = derive(system).to_dict()["star"]["hz_au"]
+    assert hz["recent_venus"] == pytest.approx(0.75, abs=0.005)
+    assert hz["runaway_greenhouse"] == pytest.approx(0.95, abs=0.005)
+    assert hz["maximum_greenhouse"] == pytest.approx(1.68, abs=0.005)
+    assert hz["early_mars"] == pytest.approx(1.77, abs=0.005)
+
+
+def test_solar_system_regions(make_system, row_of, solar_system):
+    # Mars: a = 1.5237 au, e = 0.0934 (NASA Mars fact sheet, from memory); S = 0.433 lies between
+    # the maximum greenhouse (0.356) and runaway greenhouse (1.107) fluxes: conservative HZ
+    mars = dict(name="mars", period=686.980, radius=0.532, mass=0.107, eccentricity=0.0934)
+    solar_system.add_planet(Planet(**mars))
+    planets = derive(solar_system).to_dict()["planets"]
+    assert row_of(planets, "earth")["hz_region"] == "conservative"   # S = 1.0, inside 0.356-1.107
+    assert row_of(planets, "venus")["insolation_earth"] == pytest.approx(1.91, abs=0.01)  # 1/0.7233^2
+    assert row_of(planets, "venus")["hz_region"] == "too hot"        # S = 1.91 > 1.776 (recent Venus)
+    assert row_of(planets, "mars")["insolation_earth"] == pytest.approx(0.4326, abs=0.001)
+    assert row_of(planets, "mars")["hz_region"] == "conservative"
+    assert row_of(planets, "jupiter")["hz_region"] == "too cold"     # S = 0.037 < 0.320 (early Mars)
+
+
+@pytest.mark.parametrize("flux, region", [
+    (1.5, "optimistic inner"),    # between runaway (1.107) and recent Venus (1.776)
+    (0.34, "optimistic outer"),   # between early Mars (0.320) and maximum greenhouse (0.356)
+    (0.2, "too cold"),            # below early Mars
+    (2.5, "too hot"),             # above recent Venus
+])
+def test_region_thresholds_are_the_papers(make_system, row_of, flux, region):
+    # flux thresholds: Kopparapu et al. 2014 Table 1 at Teff = 5780 K; a = 1/sqrt(S) for L = 1 Lsun
+    a_au = 1.0 / np.sqrt(flux)
+    system = make_system([dict(name="b", period=_period_for(a_au), radius=1.0, mass=1.0)],
+                         star=dict(name="sun", mass=1.0, radius=1.0, teff=5780.0, luminosity=1.0))
+    planet = row_of(derive(system).to_dict()["planets"], "b")
+    assert planet["insolation_earth"] == pytest.approx(flux, rel=1e-9)
+    assert planet["hz_region"] == region
+
+
+@pytest.mark.parametrize("teff", [2500.0, 7300.0])
+def test_hz_outside_validity_range_is_withheld_with_a_warning(make_system, teff):
+    # Kopparapu et al. 2014 state their fit for 2600 K <= Teff <= 7200 K
+    system = make_system([dict(name="b", period=20.0, radius=1.0, mass=1.0)],
+                         star=dict(name="s", mass=0.5, radius=0.5, teff=teff))
+    derived = derive(system)
+    doc = derived.to_dict()
+    assert doc["star"]["hz_au"] is None
+    assert all(p["hz_region"] is None for p in doc["planets"])
+    assert any("2600" in w and "7200" in w for w in doc["warnings"])
+    assert derived.hz_valid is False
+
+
+@pytest.mark.parametrize("teff", [2600.0, 7200.0])
+def test_hz_at_the_edges_of_the_validity_range_is_given(make_system, teff):
+    system = make_system([dict(name="b", period=20.0, radius=1.0, mass=1.0)],
+                         star=dict(name="s", mass=0.5, radius=0.5, teff=teff))
+    doc = derive(system).to_dict()
+    assert doc["star"]["hz_au"] is not None
+    assert not any("2600" in w for w in doc["warnings"])

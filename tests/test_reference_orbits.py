@@ -1,0 +1,90 @@
+"""Semi-major axes and orbit geometry against astropy, scipy and the Solar System."""
+
+import astropy.constants as const
+import astropy.units as u
+import numpy as np
+import pytest
+from scipy import optimize
+
+from orbitdeck.models import derive, orbits
+
+
+def _kepler_iii_astropy(period, total_mass):
+    # independent reference: the same law written with astropy quantities and unit handling
+    return ((const.G * total_mass * period**2 / (4 * np.pi**2)) ** (1 / 3)).to(u.au)
+
+
+def test_earth_year_gives_one_au(solar_system, row_of):
+    earth = row_of(derive(solar_system).to_dict()["planets"], "earth")
+    # 365.256 d sidereal year around 1 Msun + 1 Mearth is 1 au (definition of the au via the
+    # Gaussian constant, IAU 1976/2012; difference from exactly 1 au is ~1e-6)
+    assert earth["semi_major_axis_au"] == pytest.approx(1.0, abs=1e-4)
+    reference = _kepler_iii_astropy(365.256 * u.day, const.M_sun + const.M_earth)
+    assert earth["semi_major_axis_au"] == pytest.approx(reference.value, rel=1e-12)
+
+
+def test_jupiter_period_gives_5_20_au(solar_system, row_of):
+    jupiter = row_of(derive(solar_system).to_dict()["planets"], "jupiter")
+    # NASA Jupiter fact sheet: semi-major axis 778.5e6 km = 5.20 au (from memory), period 4332.589 d
+    assert jupiter["semi_major_axis_au"] == pytest.approx(5.20, abs=0.01)
+    reference = _kepler_iii_astropy(4332.589 * u.day, const.M_sun + const.M_jup)
+    assert jupiter["semi_major_axis_au"] == pytest.approx(reference.value, rel=1e-12)
+
+
+def test_semi_major_axis_function_matches_astropy_for_an_m_dwarf():
+    # a made-up 3.1 d planet of 4 Mearth around a 0.2 Msun star, checked with astropy units
+    period, star, planet = 3.1 * u.day, 0.2 * const.M_sun, 4 * const.M_earth
+    a_m = orbits.semi_major_axis(period.to_value(u.s), (star + planet).to_value(u.kg))
+    assert a_m == pytest.approx(_kepler_iii_astropy(period, star + planet).to_value(u.m), rel=1e-12)
+
+
+def test_orbital_radius_at_periastron_and_apoastron():
+    # r = a(1 - e^2)/(1 + e cos f): a(1 - e) at f = 0 and a(1 + e) at f = pi (Murray & Dermott eq. 2.20)
+    assert orbits.orbital_radius(2.0, 0.3, 0.0) == pytest.approx(2.0 * 0.7)
+    assert orbits.orbital_radius(2.0, 0.3, np.pi) == pytest.approx(2.0 * 1.3)
+
+
+def test_closest_distance_of_circular_orbits_is_the_gap():
+    # two circles about one focus: the nearest points are on one ray, |a2 - a1| (geometry)
+    gap = orbits.closest_orbit_distance(0.7233, 0.0, 0.0, 1.0, 0.0, 0.0)
+    assert gap == pytest.approx(1.0 - 0.7233, rel=1e-14)
+
+
+def test_closest_distance_of_eccentric_orbits_matches_scipy_minimum():
+    # independent reference: scipy's bounded scalar minimiser over the common longitude
+    a1, e1, w1, a2, e2, w2 = 1.0, 0.05, 0.3, 1.6, 0.2, 2.0
+
+    def gap(theta):
+        return orbits.orbital_radius(a2, e2, theta - w2) - orbits.orbital_radius(a1, e1, theta - w1)
+
+    grid = np.linspace(0, 2 * np.pi, 2001)
+    start = grid[np.argmin(gap(grid))]
+    best = optimize.minimize_scalar(gap, bounds=(start - 0.01, start + 0.01), method="bounded",
+                                    options={"xatol": 1e-12})
+    model = orbits.closest_orbit_distance(a1, e1, w1, a2, e2, w2)
+    # the model's value is the gap at some longitude, so never below the true minimum, and close to it
+    assert model >= best.fun - 1e-12
+    assert model == pytest.approx(best.fun, rel=2e-3)
+
+
+def test_closest_distance_is_vectorised_and_matches_scalar_calls():
+    a_in, e_in, w_in = np.array([1.0, 1.0, 0.5]), np.array([0.0, 0.05, 0.1]), np.array([0.0, 0.3, 1.0])
+    a_out, e_out, w_out = np.array([1.5, 1.6, 0.6]), np.array([0.0, 0.2, 0.3]), np.array([0.0, 2.0, 4.0])
+    vector = orbits.closest_orbit_distance(a_in, e_in, w_in, a_out, e_out, w_out)
+    scalar = [orbits.closest_orbit_distance(*args) for args in zip(a_in, e_in, w_in, a_out, e_out, w_out)]
+    np.testing.assert_allclose(vector, scalar, rtol=1e-12)
+    assert vector[0] == pytest.approx(0.5)   # circular: |a2 - a1|
+
+
+def test_crossing_orbits_give_zero_distance():
+    # periastron of the outer orbit (1.2 * 0.6 = 0.72) inside the inner circle (1.0): they cross
+    assert orbits.closest_orbit_distance(1.0, 0.0, 0.0, 1.2, 0.4, 0.0) == 0.0
+
+
+def test_semi_major_axis_is_vectorised_over_samples_and_planets():
+    periods = np.array([[1.0, 2.0, 4.0], [1.5, 3.0, 6.0]]) * 86400.0
+    masses = np.full((2, 1), const.M_sun.value)
+    a = orbits.semi_major_axis(periods, masses)
+    assert a.shape == (2, 3)
+    # Kepler III: doubling P multiplies a by 2^(2/3)
+    np.testing.assert_allclose(a[:, 1] / a[:, 0], 2 ** (2 / 3), rtol=1e-14)

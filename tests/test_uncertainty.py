@@ -1,0 +1,198 @@
+"""Monte Carlo intervals against first-order error propagation, and the sampler's guarantees."""
+
+import json
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import stats
+
+from orbitdeck.models import Planet, Star, System, Uncertainty, derive
+from orbitdeck.models.uncertainty import sampled_inputs
+
+N = 20000
+
+
+def _star(**spreads):
+    star = Star(name="s", mass=1.0, radius=1.0, teff=5772.0)
+    for key, spread in spreads.items():
+        star.set_uncertainty(key, spread)
+    return star
+
+
+def _planet(name="b", value=100.0, radius_value=1.0, mass_value=1.0, **spreads):
+    """A planet with period ``value``; keyword arguments are Uncertainty objects of its fields."""
+    planet = Planet(name=name, period=value, radius=radius_value, mass=mass_value)
+    for key, spread in spreads.items():
+        planet.set_uncertainty(key, spread)
+    return planet
+
+
+def _half_width(derived, table, key, index=0):
+    lo, hi = derived.intervals[table][key]
+    return 0.5 * (hi[index] - lo[index])
+
+
+@pytest.fixture(scope="module")
+def one_percent():
+    """A Sun-like star with 1 % errors on M, R and Teff and a planet with a 2 % radius error."""
+    sigma = Uncertainty.from_sigma
+    system = System(star=_star(mass=sigma(0.01), radius=sigma(0.01), teff=sigma(57.72)),
+                    planets=[_planet(radius=sigma(0.02))])
+    return system, derive(system, samples=N, seed=2024)
+
+
+def test_teq_interval_matches_first_order_propagation(one_percent):
+    _, derived = one_percent
+    teq = derived.planets["teq_k"][0]
+    # Teq ~ Teff R^(1/2) a^(-1/2) with a ~ M^(1/3): first-order propagation of independent errors
+    # (Taylor, An Introduction to Error Analysis, 1997, section 3.8, from memory)
+    expected = teq * np.sqrt(0.01**2 + (0.01 / 2) ** 2 + (0.01 / 6) ** 2)
+    # the 16-84 % half-width of a normal is one sigma; Monte Carlo noise at N = 20000 is ~1 %
+    assert _half_width(derived, "planets", "teq_k") == pytest.approx(expected, rel=0.05)
+
+
+def test_semi_major_axis_and_insolation_intervals_match_propagation(one_percent):
+    _, derived = one_percent
+    a = derived.planets["semi_major_axis_au"][0]
+    s = derived.planets["insolation_earth"][0]
+    # a ~ M^(1/3); S = L / a^2 with L ~ R^2 Teff^4, so S ~ R^2 Teff^4 M^(-2/3)
+    assert _half_width(derived, "planets", "semi_major_axis_au") == pytest.approx(a * 0.01 / 3, rel=0.05)
+    expected_s = s * np.sqrt((2 * 0.01) ** 2 + (4 * 0.01) ** 2 + (2 / 3 * 0.01) ** 2)
+    assert _half_width(derived, "planets", "insolation_earth") == pytest.approx(expected_s, rel=0.05)
+
+
+def test_transit_depth_interval_matches_propagation(one_percent):
+    _, derived = one_percent
+    depth = derived.planets["transit_depth_ppm"][0]
+    # depth = (Rp / R*)^2: relative sigma sqrt((2 sRp/Rp)^2 + (2 sR*/R*)^2)
+    expected = depth * np.sqrt((2 * 0.02) ** 2 + (2 * 0.01) ** 2)
+    assert _half_width(derived, "planets", "transit_depth_ppm") == pytest.approx(expected, rel=0.05)
+
+
+def test_exact_inputs_give_zero_width_intervals(one_percent):
+    _, derived = one_percent
+    # the period carries no uncertainty: its interval is the value itself
+    lo, hi = derived.intervals["planets"]["period_d"]
+    assert lo[0] == hi[0] == 100.0
+    system = System(star=_star(mass=Uncertainty.from_sigma(0.05)), planets=[_planet(), _planet("c", 180.0)])
+    d = derive(system, samples=500, seed=1)
+    for key in ("radius_rearth", "transit_depth_ppm", "period_d"):
+        lo, hi = d.intervals["planets"][key]
+        np.testing.assert_array_equal(lo, hi)
+        np.testing.assert_array_equal(lo, d.planets[key])
+    lo, hi = d.intervals["pairs"]["period_ratio"]
+    assert lo[0] == hi[0]
+    # while the star's mass uncertainty does reach a
+    lo, hi = d.intervals["planets"]["semi_major_axis_au"]
+    assert np.all(hi > lo)
+
+
+def test_same_seed_same_document_and_different_seeds_differ():
+    system = System(star=_star(mass=Uncertainty.from_sigma(0.03), radius=Uncertainty(0.04, 0.02)),
+                    planets=[_planet(), _planet("c", 151.0, period=Uncertainty.from_sigma(0.5))])
+    first = derive(system, samples=2000, seed=5).to_dict()
+    assert derive(system, samples=2000, seed=5).to_dict() == first
+    other = derive(system, samples=2000, seed=6).to_dict()
+    assert other != first
+    assert other["planets"][0]["interval"]["teq_k"] != first["planets"][0]["interval"]["teq_k"]
+    # nominal values do not depend on the seed
+    assert [p["teq_k"] for p in other["planets"]] == [p["teq_k"] for p in first["planets"]]
+
+
+def test_asymmetric_input_gives_a_skewed_interval():
+    system = System(star=_star(radius=Uncertainty(0.05, 0.01)), planets=[_planet(radius_value=2.0, radius=Uncertainty(0.3, 0.1))])
+    d = derive(system, samples=N, seed=9)
+    teq = d.planets["teq_k"][0]
+    lo, hi = (x[0] for x in d.intervals["planets"]["teq_k"])
+    # plus > minus on R*: Teq ~ R*^(1/2) is skewed upwards, ~ (0.05/2) up and (0.01/2) down
+    assert hi - teq > 3 * (teq - lo)
+    assert hi - teq == pytest.approx(teq * (np.sqrt(1.05) - 1), rel=0.05)
+    assert teq - lo == pytest.approx(teq * (1 - np.sqrt(0.99)), rel=0.05)
+    # an asymmetric value is read as median with 16th/84th percentiles at value - minus and
+    # value + plus (common practice for quoted asymmetric errors)
+    rlo, rhi = (x[0] for x in d.intervals["planets"]["radius_rearth"])
+    assert rhi == pytest.approx(2.3, abs=0.3 * 0.05)
+    assert rlo == pytest.approx(1.9, abs=0.1 * 0.05)
+
+
+def test_truncation_keeps_draws_physical():
+    # sigmas that would cross both e = 0 and e = 1, and a mass sigma that would cross zero
+    planet = _planet(mass_value=0.5, eccentricity=Uncertainty.from_sigma(0.5), mass=Uncertainty.from_sigma(1.0),
+                     radius=Uncertainty(2.0, 2.0))
+    planet.eccentricity = 0.05
+    system = System(star=_star(mass=Uncertainty.from_sigma(2.0)), planets=[planet])
+    draws = sampled_inputs(system, N, seed=3)
+    assert draws.eccentricity.shape == (N, 1)
+    assert np.all(draws.eccentricity >= 0.0) and np.all(draws.eccentricity < 1.0)
+    assert np.all(draws.mass > 0.0) and np.all(draws.radius > 0.0) and np.all(draws.star_mass > 0.0)
+    # redrawing outside the domain is exactly a truncated normal: compare with scipy.stats.truncnorm
+    e = draws.eccentricity[:, 0]
+    reference = stats.truncnorm((0.0 - 0.05) / 0.5, (1.0 - 0.05) / 0.5, loc=0.05, scale=0.5)
+    assert stats.kstest(e, reference.cdf).pvalue > 1e-3
+    m = draws.mass[:, 0]
+    reference = stats.truncnorm((0.0 - 0.5) / 1.0, np.inf, loc=0.5, scale=1.0)
+    assert stats.kstest(m, reference.cdf).pvalue > 1e-3
+    # and the derivation of these draws stays finite
+    d = derive(system, samples=2000, seed=3)
+    assert np.all(np.isfinite(d.intervals["planets"]["teq_k"]))
+
+
+@settings(max_examples=30, deadline=None)
+@given(e=st.floats(0.0, 0.98), e_sigma=st.floats(0.0, 2.0), mass=st.floats(0.01, 10.0), plus=st.floats(0.0, 20.0),
+       minus=st.floats(0.0, 20.0), albedo=st.floats(0.0, 0.95), a_sigma=st.floats(0.0, 2.0), seed=st.integers(0, 2**32))
+def test_draws_stay_in_their_domains(e, e_sigma, mass, plus, minus, albedo, a_sigma, seed):
+    # the param bounds are the physical domains: 0 <= e < 1, mass > 0, 0 <= A < 1
+    planet = _planet(mass_value=mass, eccentricity=Uncertainty.from_sigma(e_sigma), mass=Uncertainty(plus, minus))
+    planet.eccentricity = e
+    system = System(star=_star(), planets=[planet])
+    system.assumptions.bond_albedo = albedo
+    system.assumptions.set_uncertainty("bond_albedo", Uncertainty.from_sigma(a_sigma))
+    draws = sampled_inputs(system, 2000, seed)
+    assert np.all((draws.eccentricity >= 0.0) & (draws.eccentricity < 1.0))
+    assert np.all(draws.mass > 0.0)
+    assert np.all((draws.bond_albedo >= 0.0) & (draws.bond_albedo < 1.0))
+
+
+def test_symmetric_draws_are_normal():
+    # with a sigma far from any bound the draws are N(value, sigma) (scipy.stats.norm as reference)
+    system = System(star=_star(teff=Uncertainty.from_sigma(100.0)), planets=[_planet()])
+    teff = sampled_inputs(system, N, seed=4).star_teff[:, 0]
+    assert stats.kstest(teff, stats.norm(loc=5772.0, scale=100.0).cdf).pvalue > 1e-3
+
+
+def test_document_records_samples_seed_and_intervals():
+    system = System(star=_star(mass=Uncertainty.from_sigma(0.02)),
+                    planets=[_planet(), _planet("c", 149.0), _planet("d", 222.0)])
+    doc = derive(system, samples=300, seed=42).to_dict()
+    assert doc["samples"] == 300 and doc["seed"] == 42
+    assert "interval" in doc["star"] and "luminosity_lsun" in doc["star"]["interval"]
+    for table in ("planets", "pairs", "triples", "skies"):
+        assert doc[table], table
+        for r in doc[table]:
+            assert isinstance(r["interval"], dict) and r["interval"]
+            for lo_hi in r["interval"].values():
+                assert len(lo_hi) == 2
+    assert "teq_k" in doc["planets"][0]["interval"]
+    lo, hi = doc["planets"][0]["interval"]["teq_k"]
+    assert lo < doc["planets"][0]["teq_k"] < hi
+    json.dumps(doc, allow_nan=False)   # strict JSON
+    # without samples the document carries none of this
+    nominal = derive(system).to_dict()
+    assert "samples" not in nominal and "interval" not in nominal["planets"][0]
+
+
+def test_delta_interval_stays_on_the_nominal_rung():
+    # ratio 1.545 lies near the 3:2 / 8:5 midpoint (1.55); draws cross to the other rung, yet the
+    # offset of every draw is measured from the nominal 3:2, so Delta = ratio * 2/3 - 1 holds for
+    # the interval ends too (Lithwick et al. 2012 eq. 5)
+    outer = _planet("c", 154.5, period=Uncertainty.from_sigma(1.0))
+    system = System(star=_star(), planets=[_planet(), outer])
+    d = derive(system, samples=4000, seed=8)
+    assert d.pairs["nearest"][0] == "3:2"
+    rlo, rhi = (x[0] for x in d.intervals["pairs"]["period_ratio"])
+    dlo, dhi = (x[0] for x in d.intervals["pairs"]["delta"])
+    assert dlo == pytest.approx(rlo * 2 / 3 - 1, rel=1e-9)
+    assert dhi == pytest.approx(rhi * 2 / 3 - 1, rel=1e-9)
+    assert 0.0 < d.extra["other_nearest_fraction"][0] < 0.5
