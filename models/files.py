@@ -9,8 +9,11 @@ the target and renames it over, so a failed save never damages a file.
 
 from __future__ import annotations
 
+import json
 import math
 import os
+import re
+import stat
 import tempfile
 import tomllib
 from dataclasses import dataclass
@@ -89,7 +92,11 @@ class _Checker:
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             self.fail(path, f"must be a number, not {_kind(value)}")
             return None
-        value = float(value)
+        try:
+            value = float(value)
+        except OverflowError:
+            self.fail(path, "is too large to be a number")
+            return None
         if not math.isfinite(value):
             self.fail(path, f"must be finite, not {value}")
             return None
@@ -108,7 +115,11 @@ class _Checker:
         ref = self.text(raw, path, "ref")
         if value is None or factor is None or spread is False:
             return None
-        return value * factor, (spread.scaled(factor) if spread else None), ref
+        scaled = [value * factor, *((spread.plus * factor, spread.minus * factor) if spread else ())]
+        if not all(math.isfinite(x) for x in scaled):
+            self.fail(path, f"is not finite once converted to {unit or 'a pure number'}")
+            return None
+        return scaled[0], (spread.scaled(factor) if spread else None), ref
 
     def spread(self, raw, path):
         has_sigma, has_sides = "sigma" in raw, ("plus" in raw or "minus" in raw)
@@ -141,18 +152,22 @@ class _Checker:
             return None
         target = u.dimensionless_unscaled if unit is None else u.Unit(unit)
         try:
-            return float(given.to(target))
+            factor = float(given.to(target))
         except u.UnitConversionError:
             wanted = "dimensionless" if unit is None else f"convertible to {unit} ({target.physical_type})"
             self.fail(path, f"unit {text!r} is not {wanted}")
             return None
+        if not (math.isfinite(factor) and factor > 0):
+            self.fail(path, f"unit {text!r} is not convertible to {unit or 'a pure number'} by a positive scale factor")
+            return None
+        return factor
 
     def body(self, cls, raw, path):
         """A Star, Planet or Assumptions from its table, or None."""
-        allowed = {"name", *cls.UNITS} | ({"heat_redistribution"} if cls is Assumptions else set())
+        allowed = set(cls.UNITS) | ({"heat_redistribution"} if cls is Assumptions else {"name"})
+        before = len(self.problems)
         if self.table(raw, path, allowed, ("name", *_REQUIRED[cls]) if cls is not Assumptions else ()) is None:
             return None
-        before = len(self.problems)
         values, spreads, refs = {}, {}, {}
         if cls is not Assumptions:
             values["name"] = self.text(raw, path, "name", required=True)
@@ -194,6 +209,8 @@ class _Checker:
 
 
 def _join(path: str, key: str) -> str:
+    if not re.fullmatch(r"[A-Za-z0-9_-]+", key):
+        key = json.dumps(key)
     return f"{path}.{key}" if path else key
 
 
@@ -271,11 +288,14 @@ def loads_system(data: bytes | str, source: str = "<text>") -> System:
             data = data.decode("utf-8")
         except UnicodeDecodeError as error:
             raise SystemFileError([Problem(source, "", f"is not UTF-8 text (byte {error.start})")]) from None
+    elif len(data) > MAX_FILE_BYTES:
+        raise SystemFileError([Problem(source, "", f"content is over {MAX_FILE_BYTES} characters; system files "
+                                                    f"are limited to {MAX_FILE_BYTES} bytes")])
     if not data.strip():
         raise SystemFileError([Problem(source, "", "is empty")])
     try:
         doc = tomllib.loads(data)
-    except tomllib.TOMLDecodeError as error:
+    except ValueError as error:  # TOMLDecodeError, and the int-digit limit that tomllib lets through
         raise SystemFileError([Problem(source, "", f"is not valid TOML: {error}")]) from None
     except RecursionError:
         raise SystemFileError([Problem(source, "", "is not valid TOML: nested too deeply")]) from None
@@ -321,6 +341,13 @@ def dumps_system(system: System) -> str:
     return tomli_w.dumps(system_to_document(system))
 
 
+def _current_umask() -> int:
+    """The process umask (read by setting and restoring it)."""
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
 def atomic_write(path, data: bytes) -> None:
     """Write ``data`` to ``path`` through a temporary file in the same folder and a rename.
 
@@ -339,10 +366,17 @@ def atomic_write(path, data: bytes) -> None:
             stream.write(data)
             stream.flush()
             os.fsync(stream.fileno())
+        try:
+            mode = stat.S_IMODE(os.stat(target).st_mode)
+        except FileNotFoundError:
+            mode = 0o666 & ~_current_umask()
+        os.chmod(temporary, mode)
         os.replace(temporary, target)
-    except OSError as error:
+    except BaseException as error:
         Path(temporary).unlink(missing_ok=True)
-        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+        if isinstance(error, OSError):
+            raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
+        raise
 
 
 def save_system(system: System, path) -> None:

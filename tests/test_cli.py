@@ -1,0 +1,235 @@
+"""The ``orbitdeck`` command line: version, help, tables, JSON, ECSV and check, on the demos.
+
+Commands run as child processes (see ``cli_harness``); a sample also goes
+through the installed console script and ``python -m``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+from importlib.metadata import version
+
+import astropy.units as u
+import pytest
+from astropy.table import Table
+from cli_harness import ForkedCli, console_script, run_installed
+
+from orbitdeck.dashboard.cli import DEFAULT_SAMPLES, build_parser
+from orbitdeck.demo_systems import DEFAULT_DEMO, demo_names, demo_path
+from orbitdeck.models import derive, load_system
+from orbitdeck.models.derive import PAIR_KEYS, PLANET_KEYS, SKY_KEYS, TRIPLE_KEYS
+
+DEMOS = demo_names()
+DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies"}
+STAR_KEYS = {"name", "mass_msun", "radius_rsun", "teff_k", "luminosity_lsun", "hz_au"}
+
+
+@pytest.fixture(scope="module")
+def cli():
+    with ForkedCli() as runner:
+        yield runner
+
+
+def _ok(result):
+    assert result.returncode == 0, result.stderr
+    assert "Traceback" not in result.stderr
+    return result
+
+
+def _strict_json(text):
+    def refuse(constant):
+        raise ValueError(f"{constant} is not JSON")
+
+    return json.loads(text, parse_constant=refuse)
+
+
+def _subcommands():
+    (action,) = [a for a in build_parser()._actions if isinstance(a, argparse._SubParsersAction)]
+    return sorted(action.choices)
+
+
+# -- version and help ----------------------------------------------------------------------------
+
+@pytest.mark.parametrize("entry", ["script", "module"])
+def test_version(entry):
+    assert console_script().is_file()
+    result = _ok(run_installed("--version", entry=entry))
+    assert result.stdout == f"orbitdeck {version('orbitdeck')}\n"
+
+
+def test_help_lists_every_subcommand(cli):
+    commands = _subcommands()
+    assert {"table", "check"} <= set(commands)
+    text = _ok(cli.run("--help")).stdout
+    assert text.startswith("usage: orbitdeck")
+    assert all(name in text for name in commands)
+
+
+@pytest.mark.parametrize("command", _subcommands())
+def test_help_of_subcommand(cli, command):
+    result = _ok(cli.run(command, "--help"))
+    assert result.stdout.startswith(f"usage: orbitdeck {command}")
+    assert "-h, --help" in result.stdout and result.stderr == ""
+
+
+@pytest.mark.parametrize("argv", [[], ["no-such-command"], ["check"], ["table", "--samples", "many"]])
+def test_usage_errors_exit_2_without_traceback(cli, argv):
+    result = cli.run(*argv)
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+    assert "usage: orbitdeck" in result.stderr and result.stdout == ""
+
+
+def test_negative_samples_are_refused(cli):
+    result = cli.run("table", "--samples", "-1", demo_path(DEFAULT_DEMO))
+    assert result.returncode == 2 and result.stderr == "orbitdeck: --samples must be >= 0\n"
+
+
+# -- check ---------------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_check_says_ok_on_demos(cli, name):
+    result = _ok(cli.run("check", demo_path(name)))
+    assert (result.stdout, result.stderr) == ("ok\n", "")
+
+
+# -- table as text -------------------------------------------------------------------------------
+
+UNIT_HEADINGS = ["P [d]", "a [au]", "S [S_earth]", "Teq [K]", "R [R_earth]", "M [M_earth]", "rho [g/cm3]",
+                 "g [m/s2]", "v_esc [km/s]", "r_Hill [au]", "t_lock [Gyr]", "depth [ppm]", "T14 [h]", "K [m/s]",
+                 "P_super [d]", "closest [au]", "max diameter [arcsec]"]
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_table_prints_tables_with_units(cli, name):
+    system = load_system(demo_path(name))
+    text = _ok(cli.run("table", demo_path(name))).stdout
+    lines = text.splitlines()
+    assert lines[0] == system.name
+    star = system.star
+    assert lines[1].startswith(f"star {star.name}: M = {star.mass:.4g} Msun, R = {star.radius:.4g} Rsun, "
+                               f"Teff = {star.teff:.4g} K, L = ")
+    assert lines[1].endswith(" Lsun")
+    for heading in UNIT_HEADINGS:
+        assert heading in text, heading
+    # one row per planet in the first table, its period to four significant figures with its interval
+    first = lines.index("Orbits and irradiation")
+    rows = lines[first + 3: first + 3 + len(system.planets)]
+    for planet, row in zip(system.planets, rows):
+        cells = row.split()
+        assert cells[0] == planet.name and math.isclose(float(cells[1]), planet.period, rel_tol=5e-4)
+        assert cells[2].startswith("+") and cells[3].startswith("-")
+    assert f"intervals: 16th-84th percentiles of {DEFAULT_SAMPLES} Monte Carlo samples" in text
+    assert "Results are model estimates" in text
+
+
+def test_table_without_file_shows_the_default_demo(cli):
+    text = _ok(cli.run("table", "--samples", "0")).stdout
+    assert text.splitlines()[0] == load_system(demo_path(DEFAULT_DEMO)).name
+    assert "intervals:" not in text and " +" not in text
+
+
+def test_table_through_the_installed_script_matches(cli):
+    args = ("table", "--samples", "40", "--seed", "9", demo_path("skew_trio"))
+    installed = _ok(run_installed(*args, entry="script"))
+    assert installed.stdout == _ok(cli.run(*args)).stdout
+
+
+# -- table --json --------------------------------------------------------------------------------
+
+def _assert_document_shape(doc, system, sampled):
+    expected = DOCUMENT_KEYS | ({"samples", "seed"} if sampled else set())
+    assert set(doc) == expected
+    assert doc["format"] == "orbitdeck-derived/1" and doc["system"] == {"name": system.name}
+    assert set(doc["star"]) == STAR_KEYS | ({"interval"} if sampled else set())
+    n = len(system.planets)
+    for table, keys, rows in (("planets", PLANET_KEYS, n), ("pairs", PAIR_KEYS, n - 1),
+                              ("triples", TRIPLE_KEYS, max(n - 2, 0)), ("skies", SKY_KEYS, n * n)):
+        assert len(doc[table]) == rows, table
+        for row in doc[table]:
+            assert list(row) == list(keys) + (["interval"] if sampled and "interval" in row else []), table
+    assert [row["name"] for row in doc["planets"]] == system.planet_names
+    assert all(isinstance(w, str) for w in doc["warnings"])
+
+
+def _contains_key(node, key):
+    if isinstance(node, dict):
+        return key in node or any(_contains_key(v, key) for v in node.values())
+    if isinstance(node, list):
+        return any(_contains_key(v, key) for v in node)
+    return False
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_json_nominal(cli, name):
+    system = load_system(demo_path(name))
+    doc = _strict_json(_ok(cli.run("table", "--json", "--samples", "0", demo_path(name))).stdout)
+    _assert_document_shape(doc, system, sampled=False)
+    assert not _contains_key(doc, "interval")
+    assert doc == json.loads(json.dumps(derive(system).to_dict()))
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_json_sampled_is_reproducible(cli, name):
+    args = ("table", "--json", "--samples", "200", "--seed", "3", demo_path(name))
+    first, second = _ok(cli.run(*args)).stdout, _ok(cli.run(*args)).stdout
+    assert first == second
+    system = load_system(demo_path(name))
+    doc = _strict_json(first)
+    _assert_document_shape(doc, system, sampled=True)
+    assert doc["samples"] == 200 and doc["seed"] == 3
+    for row in doc["planets"]:
+        assert set(row["interval"]) <= set(PLANET_KEYS) and "period_d" in row["interval"]
+        for low, high in row["interval"].values():
+            assert low is None or high is None or low <= high
+    assert doc == json.loads(json.dumps(derive(system, samples=200, seed=3).to_dict()))
+    other = _ok(cli.run("table", "--json", "--samples", "200", "--seed", "4", demo_path(name))).stdout
+    assert other != first  # the seed is the one used
+
+
+# -- table --ecsv --------------------------------------------------------------------------------
+
+ECSV_UNITS = {"period_d": u.d, "semi_major_axis_au": u.au, "teq_k": u.K, "radius_rearth": u.earthRad,
+              "mass_mearth": u.earthMass, "density_gcc": u.g / u.cm**3, "surface_gravity_ms2": u.m / u.s**2,
+              "escape_speed_kms": u.km / u.s, "transit_duration_h": u.h, "rv_semi_amplitude_ms": u.m / u.s}
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_ecsv_is_read_back_by_astropy_with_units(cli, tmp_path, name):
+    out = tmp_path / "planets.ecsv"
+    result = _ok(cli.run("table", "--ecsv", out, "--samples", "0", demo_path(name)))
+    assert result.stdout == "" and result.stderr == f"wrote {out}\n"
+    table = Table.read(out, format="ascii.ecsv")
+    nominal = derive(load_system(demo_path(name))).to_dict()["planets"]
+    assert list(table.colnames) == list(PLANET_KEYS)
+    assert list(table["name"]) == [row["name"] for row in nominal]
+    for key, unit in ECSV_UNITS.items():
+        assert table[key].unit == unit, key
+        for got, row in zip(table[key].quantity, nominal):
+            assert math.isclose(got.to_value(unit), row[key], rel_tol=1e-12), key
+    # the units are real astropy units: conversions follow them
+    # (au = 149 597 870.7 km exactly, IAU 2012 Resolution B2, from memory; a day is 24 h)
+    for got, row in zip(table["semi_major_axis_au"].quantity, nominal):
+        assert math.isclose(got.to_value(u.km), row["semi_major_axis_au"] * 149_597_870.7, rel_tol=1e-12)
+    for got, row in zip(table["period_d"].quantity, nominal):
+        assert math.isclose(got.to_value(u.h), row["period_d"] * 24, rel_tol=1e-12)
+
+
+def test_ecsv_with_intervals_and_json_together(cli, tmp_path):
+    out = tmp_path / "planets.ecsv"
+    result = _ok(cli.run("table", "--ecsv", out, "--json", "--samples", "100", "--seed", "5",
+                         demo_path("amber_pair")))
+    doc = _strict_json(result.stdout)
+    table = Table.read(out, format="ascii.ecsv")
+    assert table["period_d_p16"].unit == u.d and table["period_d_p84"].unit == u.d
+    low, high = doc["planets"][0]["interval"]["period_d"]
+    assert math.isclose(table["period_d_p16"][0], low) and math.isclose(table["period_d_p84"][0], high)
+
+
+def test_ecsv_into_a_missing_folder_is_a_clear_error(cli, tmp_path):
+    out = tmp_path / "absent" / "planets.ecsv"
+    result = cli.run("table", "--ecsv", out, "--samples", "0", demo_path(DEFAULT_DEMO))
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+    assert result.stderr == f"{out}: cannot be written: No such file or directory\n"
+    assert not out.parent.exists()
