@@ -30,7 +30,6 @@ in one process or in several.
 """
 from __future__ import annotations
 
-import hashlib
 import html
 import json
 import re
@@ -278,7 +277,9 @@ def _rewrite_page(page: str, inliner: ResourceInliner, extra_head: str) -> str:
     docs = json.loads(unescape_json(json_body))
     docs, ids = _rewrite_doc(docs, inliner)
     from bokeh.core.json_encoder import serialize_json
-    digest = hashlib.sha256(serialize_json(list(docs.values())).encode("utf-8")).hexdigest()[:8]
+    # a fixed prefix: a page holds one document, and a content hash would make any
+    # change of text (an export time) ripple through every id of the file
+    digest = "page"
     uuids = {json_id: f"{digest}-json"}
     uuids.update((old, f"{digest}-doc{n}") for n, old in enumerate(docs))
     docs = {uuids[k]: v for k, v in docs.items()}

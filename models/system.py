@@ -57,7 +57,7 @@ class Star(_Body):
         "j_mag": "mag", "k_mag": "mag", "distance": "pc",
     }
 
-    name = param.String(default="star", doc="Name of the star (free text)")
+    name = param.String(default="star", constant=False, doc="Name of the star (free text)")
     mass = param.Number(default=1.0, bounds=(1e-3, 300.0), inclusive_bounds=(False, True), doc="Mass [Msun]")
     radius = param.Number(default=1.0, bounds=(1e-3, 2000.0), inclusive_bounds=(False, True), doc="Radius [Rsun]")
     teff = param.Number(default=5772.0, bounds=(500.0, 60000.0), doc="Effective temperature [K]")
@@ -77,7 +77,7 @@ class Planet(_Body):
         "inclination": "deg", "omega": "deg", "transit_time": "d",
     }
 
-    name = param.String(default="b", doc="Planet name, usually its letter")
+    name = param.String(default="b", constant=False, doc="Planet name, usually its letter")
     period = param.Number(default=10.0, bounds=(0.0, 1e8), inclusive_bounds=(False, True), doc="Orbital period [d]")
     radius = param.Number(default=1.0, bounds=(0.0, 1000.0), inclusive_bounds=(False, True), doc="Radius [Rearth]")
     mass = param.Number(default=None, allow_None=True, bounds=(0.0, 1e5), inclusive_bounds=(False, True),
@@ -106,7 +106,7 @@ class Assumptions(_Body):
 class System(param.Parameterized):
     """A star, its planets ordered by period, and the assumptions in force."""
 
-    name = param.String(default="unnamed system", doc="Name of the system (free text)")
+    name = param.String(default="unnamed system", constant=False, doc="Name of the system (free text)")
     notes = param.String(default="", doc="Free-text notes")
     epoch = param.Number(default=2461000.0, doc="Default time for positions and skies [BJD_TDB, d]")
     star = param.ClassSelector(class_=Star, instantiate=False, doc="The host star")
