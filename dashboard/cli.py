@@ -98,8 +98,20 @@ def _register_sky(commands):
     register(commands)
 
 
+def _register_serve(commands):
+    from orbitdeck.dashboard.serve import register_serve
+
+    register_serve(commands)
+
+
+def _register_snapshot(commands):
+    from orbitdeck.dashboard.cli_snapshot import register
+
+    register(commands)
+
+
 #: functions that add further subcommands (kept in their own modules so heavy imports stay lazy)
-_EXTRA_COMMANDS: list = [_register_sky]
+_EXTRA_COMMANDS: list = [_register_sky, _register_serve, _register_snapshot]
 
 
 def main(argv=None) -> int:

@@ -124,10 +124,13 @@ class System(param.Parameterized):
         self._watch_items()
 
     # -- bookkeeping -------------------------------------------------------
-    def _sort_planets(self) -> None:
+    def _sort_planets(self) -> bool:
+        """Re-sort the planets by period; True when the order changed (which counts as a revision)."""
         ordered = sorted(self.planets, key=lambda p: p.period)
         if ordered != list(self.planets):
             self.planets = ordered
+            return True
+        return False
 
     def _watch_items(self) -> None:
         for obj, watcher in self._item_watchers:
@@ -137,8 +140,8 @@ class System(param.Parameterized):
             self._item_watchers.append((obj, obj.param.watch(self._on_item_change, list(obj.param))))
 
     def _on_item_change(self, *events) -> None:
-        if any(e.name == "period" for e in events):
-            self._sort_planets()
+        if any(e.name == "period" for e in events) and self._sort_planets():
+            return  # the re-sort already counted this change
         self.revision += 1
 
     def _on_own_change(self, *events) -> None:

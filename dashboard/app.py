@@ -1,0 +1,168 @@
+"""The dashboard of one system: the per-session app object and its layout.
+
+:class:`OrbitDeckApp` holds one :class:`~orbitdeck.models.System`, watches
+its ``revision`` and derives it once per change into ``derived`` (and the
+Keplerian elements used for positions into ``elements``); every view reads
+from those two parameters and patches its plots in place. ``selected`` is
+the planet chosen anywhere (a click on a point or a bar, a table row, the
+planet selector) and every view highlights it. An app object belongs to one
+browser session or one notebook cell; nothing mutable is shared.
+"""
+
+from __future__ import annotations
+
+import panel as pn
+import param
+
+from orbitdeck.models import Derived, System, derive, ephemeris
+
+from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
+from .views.common import escape
+from .views.controls import Controls
+from .views.layout import REFERENCE_ORBITS
+
+#: view classes in the order of the tabs
+VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView)
+SIDEBAR_WIDTH = 350
+
+
+class OrbitDeckApp(param.Parameterized):
+    """Linked views of one system, for one browser session or notebook cell."""
+
+    system = param.ClassSelector(class_=System, instantiate=False, doc="The system shown and edited")
+    derived = param.ClassSelector(class_=Derived, allow_None=True, instantiate=False,
+                                  doc="derive(system), recomputed once per change of the system")
+    elements = param.Parameter(default=None, doc="Keplerian elements (ephemeris.OrbitalElements) for positions")
+    selected = param.String(default=None, allow_None=True, doc="Name of the selected planet")
+    time = param.Number(default=2461000.0, doc="Time of the positions in Layout [BJD_TDB, d]")
+    show_hill = param.Boolean(default=False, doc="Draw Hill spheres in Layout")
+    reference = param.Selector(default="none", objects=list(REFERENCE_ORBITS),
+                               doc="Solar System orbit drawn in Layout for scale")
+    problem = param.String(default="", doc="Why the last change could not be derived (empty when it could)")
+
+    def __init__(self, system: System, **params):
+        derived, elements = _derive(system)
+        names = derived.planet_names
+        params.setdefault("selected", names[0] if names else None)
+        super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
+        self._revision_watcher = system.param.watch(self._on_revision, "revision")
+        self.views = {cls.title: cls(self) for cls in VIEW_CLASSES}
+        self.controls = Controls(self)
+        self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
+        self.header_name = pn.pane.HTML("", styles={"color": "white", "font-size": "18px"}, margin=(0, 10))
+        # the browser's document.title follows this hidden widget (set as text, never parsed as HTML)
+        self._title_holder = pn.widgets.TextInput(value=self._document_title(), visible=False)
+        self._title_holder.jscallback(value="document.title = cb_obj.value")
+        self.alerts = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
+        self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
+        self.tabs = pn.Tabs(*((title, view.panel()) for title, view in self.views.items()),
+                            sizing_mode="stretch_width", dynamic=True)
+        self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
+        self.sidebar = self.controls.panel()
+        self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
+        self.param.watch(self._texts, ["derived", "problem", "elements"])
+        self._texts()
+
+    # -- state -----------------------------------------------------------------
+    def _on_revision(self, *_):
+        """Derive the system once for a change of anything in it."""
+        try:
+            derived, elements = _derive(self.system)
+        except Exception as error:  # a valid but underivable state: keep the last views, say why
+            self.problem = f"{type(error).__name__}: {error}"
+            return
+        names = derived.planet_names
+        selected = self.selected if self.selected in names else (names[0] if names else None)
+        with pn.io.hold():
+            self.param.update(derived=derived, elements=elements, selected=selected, problem="")
+
+    def replace_system(self, system: System) -> None:
+        """Show ``system`` instead of the current one (the current one is kept if it cannot be derived)."""
+        try:
+            derived, elements = _derive(system)
+        except Exception as error:
+            self.problem = f"{type(error).__name__}: {error}"
+            return
+        self.system.param.unwatch(self._revision_watcher)
+        names = derived.planet_names
+        with pn.io.hold():
+            self.param.update(system=system, derived=derived, elements=elements, time=system.epoch,
+                              selected=names[0] if names else None, problem="")
+        self._revision_watcher = system.param.watch(self._on_revision, "revision")
+
+    # -- text around the views ----------------------------------------------------
+    def _texts(self, *_):
+        d, system = self.derived, self.system
+        star = d.star
+        self.header_name.object = escape(system.name)
+        self._title_holder.value = self._document_title()
+        self.header.object = (
+            f'<h2 style="margin:4px 0">{escape(system.name)}</h2>'
+            f'<div style="font-size:13px;color:#333">star {escape(star["name"])}: '
+            f'M = {star["mass_msun"]:.4g} Msun, R = {star["radius_rsun"]:.4g} Rsun, Teff = {star["teff_k"]:.0f} K, '
+            f'L = {star["luminosity_lsun"]:.4g} Lsun; {len(d.planet_names)} planets'
+            + (f'; {escape(system.notes)}' if system.notes else "") + "</div>")
+        notes = list(d.warnings)
+        phaseless = [n for n, given in zip(self.elements.names, self.elements.tref_is_transit) if not given]
+        if phaseless:
+            notes.append(f"no transit_time for {', '.join(map(str, phaseless))}: the system epoch is taken as "
+                         "the mid-transit time, so the orbital phase shown in Layout is arbitrary.")
+        if self.problem:
+            notes.insert(0, f"the last change could not be derived and was not applied to the views: {self.problem}")
+        self.alerts.object = ("" if not notes else
+                              '<div role="alert" style="background:#fff3cd;border:1px solid #e6c65c;color:#5c4400;'
+                              'padding:6px 10px;border-radius:4px;font-size:13px;max-height:9.5em;overflow-y:auto">'
+                              '<b>Warnings</b><ul style="margin:2px 0 0 0;padding-left:18px">'
+                              + "".join(f"<li>{escape(n)}</li>" for n in notes) + "</ul></div>")
+        a = system.assumptions
+        self.caution.object = (
+            '<div style="font-size:12px;color:#555;margin:4px 0">All values are model estimates under the stated '
+            f'assumptions (Bond albedo A = {a.bond_albedo:.2f}, heat redistribution "{escape(a.heat_redistribution)}", '
+            "masses from Chen &amp; Kipping 2017 where none is measured, fixed Keplerian orbits for positions), "
+            "not measurements.</div>")
+
+    def _document_title(self) -> str:
+        return f"{self.system.name} \u2013 orbitdeck"
+
+    # -- pages -------------------------------------------------------------------
+    def page(self) -> pn.template.BaseTemplate:
+        """The served page: a plain template whose resources all come from the local server."""
+        template = PlainTemplate(title=self._document_title(), header=[self.header_name, self._title_holder],
+                                 sidebar=[self.sidebar], main=[self.main], sidebar_width=SIDEBAR_WIDTH,
+                                 header_background="#2d3a4a")
+        template.orbitdeck_app = self  # the session's state, for tests and benchmarks
+        return template
+
+
+class PlainTemplate(pn.template.VanillaTemplate):
+    """Panel's vanilla template without its web font, so that the page needs no network.
+
+    ``title`` (free text) is used only for the document's ``<title>``, which the
+    page template escapes; the header shows a fixed name and the system's name
+    comes from an escaped header item.
+    """
+
+    _resources = {"css": {}}
+
+    def _update_vars(self, *args) -> None:
+        super()._update_vars(*args)
+        self._render_variables["app_title"] = "orbitdeck"
+        self._render_variables["meta_name"] = "orbitdeck"
+
+
+def _derive(system: System):
+    derived = derive(system)
+    elements = ephemeris.orbital_elements(system, a_au=derived.planets["semi_major_axis_au"])
+    return derived, elements
+
+
+def build_app(system: System) -> pn.layout.Row:
+    """The dashboard of ``system`` as a plain Panel layout (for a notebook cell or ``.servable()``).
+
+    The dashboard edits ``system`` in place; pass ``system.copy()`` to keep
+    the original. Use :class:`OrbitDeckApp` directly to reach the state
+    (``app.derived``, ``app.selected``) from code; its ``layout`` is what this
+    function returns.
+    """
+    pn.extension("tabulator")
+    return OrbitDeckApp(system).layout

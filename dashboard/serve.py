@@ -1,0 +1,168 @@
+"""``orbitdeck serve``: the dashboard on a local Panel server.
+
+The server listens on 127.0.0.1 only. Every browser session gets its own
+app object built around its own copy of the system (``System.copy()``), so
+an edit in one tab never shows in another; the system read at start-up is
+only ever copied, never edited.
+
+Run as ``orbitdeck serve [FILE] [--port N] [--no-show]`` or
+``python -m orbitdeck.dashboard.serve [FILE] [--port N] [--no-show]``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import socket
+import sys
+
+HOST = "127.0.0.1"
+DEFAULT_PORT = 5006
+#: how many ports above the default are tried before giving up
+PORT_SEARCH = 50
+ROUTE = "orbitdeck"
+EXIT_BAD_INPUT = 2
+
+
+def port_is_free(port: int, host: str = HOST) -> bool:
+    """True when ``host:port`` can be bound now."""
+    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
+        try:
+            probe.bind((host, port))
+        except OSError:
+            return False
+    return True
+
+
+def choose_port(requested: int | None) -> int:
+    """The requested port, or the first free one from 5006 upwards.
+
+    Raises
+    ------
+    OSError
+        When the requested port is taken, or no port in the search range is free.
+    """
+    if requested is not None:
+        if not port_is_free(requested):
+            raise OSError(f"port {requested} on {HOST} is already in use")
+        return requested
+    for port in range(DEFAULT_PORT, DEFAULT_PORT + PORT_SEARCH):
+        if port_is_free(port):
+            return port
+    raise OSError(f"no free port in {DEFAULT_PORT}-{DEFAULT_PORT + PORT_SEARCH - 1} on {HOST}")
+
+
+def _read(path_or_none):
+    from orbitdeck.demo_systems import demo_path
+    from orbitdeck.models import load_system
+
+    return load_system(path_or_none if path_or_none else demo_path())
+
+
+def session_factory(system):
+    """A function building one session's page around a fresh copy of ``system``."""
+    def make_app():
+        import panel as pn
+
+        from .app import OrbitDeckApp
+
+        pn.extension("tabulator")
+        return OrbitDeckApp(system.copy()).page()
+
+    return make_app
+
+
+def serve(path_or_none=None, port: int | None = None, show: bool = True) -> int:
+    """Serve the dashboard of a system file (the bundled demo when None) until interrupted.
+
+    Parameters
+    ----------
+    path_or_none : str or os.PathLike or None
+        The system file; None for the default demo system.
+    port : int, optional
+        Port on 127.0.0.1; by default 5006 or the next free one.
+    show : bool
+        Open the page in the default web browser.
+
+    Returns
+    -------
+    int
+        Exit code: 0 after a normal stop, 2 when the file or the port cannot be used.
+    """
+    from orbitdeck.models import SystemFileError
+
+    try:
+        system = _read(path_or_none)
+    except SystemFileError as error:
+        for problem in error.problems:
+            print(problem, file=sys.stderr)
+        return EXIT_BAD_INPUT
+    try:
+        port = choose_port(port)
+    except OSError as error:
+        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+
+    import importlib
+
+    import panel as pn
+
+    importlib.import_module(".app", __package__)  # imported now, so that the first page opens as fast as the next
+
+    url = f"http://{HOST}:{port}/{ROUTE}"
+    print(f"orbitdeck: serving {system.name!r} at {url} (Ctrl+C to stop)", flush=True)
+    try:
+        pn.serve({ROUTE: session_factory(system)}, port=port, address=HOST, show=show, start=True,
+                 title="orbitdeck", websocket_origin=[f"{HOST}:{port}", f"localhost:{port}"],
+                 threaded=False, verbose=False)
+    except KeyboardInterrupt:
+        pass
+    return 0
+
+
+def run(args) -> int:
+    """The ``serve`` subcommand (argparse namespace -> exit code)."""
+    return serve(args.file, port=args.port, show=not args.no_show)
+
+
+def _port(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a port number") from None
+    if not 1 <= value <= 65535:
+        raise argparse.ArgumentTypeError(f"port must be between 1 and 65535, not {value}")
+    return value
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """The arguments of ``serve``."""
+    parser.add_argument("file", nargs="?", metavar="FILE",
+                        help="system file (orbitdeck-system/1 TOML); default: the bundled demo system")
+    parser.add_argument("--port", type=_port, default=None, metavar="N",
+                        help=f"port on {HOST} (default {DEFAULT_PORT}, or the next free one)")
+    parser.add_argument("--no-show", action="store_true", help="do not open a web browser")
+    parser.set_defaults(run=run)
+
+
+def register_serve(subparsers) -> argparse.ArgumentParser:
+    """Add the ``serve`` subcommand to an ``argparse`` subparsers object."""
+    parser = subparsers.add_parser(
+        "serve", help="serve the interactive dashboard of a system on this machine",
+        description=f"Serve the linked views of a system (Layout, Neighbour skies, Period ladder, Flux & "
+                    f"temperature, Observability) with a local Panel server on {HOST}. Every browser tab gets "
+                    f"its own copy of the system to edit; the file itself is never changed (download the "
+                    f"edited system from the page).")
+    add_arguments(parser)
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(prog="python -m orbitdeck.dashboard.serve",
+                                     description="Serve the orbitdeck dashboard of a system on this machine.")
+    add_arguments(parser)
+    args = parser.parse_args(argv)
+    return args.run(args)
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,141 @@
+"""Static snapshots: every view of one state of a system in one self-contained HTML file.
+
+The page holds every view (plots keep pan, zoom and hover) and table, a
+provenance footer (orbitdeck version, export time, input file name and
+SHA-256, assumptions, samples and seed) and the full input system as
+system-file text, so ``orbitdeck snapshot --extract`` gives the system back.
+It opens from disk with no network: every script, style sheet and font is
+inlined (:mod:`orbitdeck.dashboard.offline`). All user text is escaped.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import html
+import re
+from dataclasses import dataclass
+from datetime import datetime, timezone
+
+import panel as pn
+
+from orbitdeck import __version__
+from orbitdeck.models import System, derive, dumps_system
+from orbitdeck.models.files import Problem, SystemFileError, atomic_write
+
+from .offline import render_offline
+
+#: name of the <meta> element that carries the input system (base64 of its TOML text)
+SYSTEM_META = "orbitdeck-system"
+_META_PATTERN = re.compile(r'<meta name="' + SYSTEM_META + r'" content="([A-Za-z0-9+/=]*)">')
+_EXPORT_TIME_PATTERN = re.compile(r"exported \d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ")
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """Where a snapshot's numbers came from."""
+
+    source_name: str
+    source_sha256: str
+    exported_utc: str
+    samples: int
+    seed: int | None
+    time: float
+
+
+def _esc(text) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def provenance_html(system: System, info: Provenance, system_text: str) -> str:
+    """The provenance footer, with the system file shown as text."""
+    a = system.assumptions
+    sampling = (f"{info.samples} Monte Carlo samples, seed {info.seed}; intervals are 16th-84th percentiles"
+                if info.samples else "nominal values only (no Monte Carlo sampling)")
+    rows = [
+        ("orbitdeck", __version__),
+        ("export", f"exported {info.exported_utc}"),
+        ("input file", info.source_name),
+        ("input SHA-256", info.source_sha256),
+        ("assumptions", f"Bond albedo {a.bond_albedo:g}, heat redistribution {a.heat_redistribution} "
+                        f"(f = {a.redistribution_factor:.4g}); masses without a measurement from Chen & Kipping 2017"),
+        ("uncertainties", sampling),
+        ("time of positions", f"BJD_TDB {info.time:.5f}"),
+    ]
+    table = "".join(f'<tr><th style="text-align:left;padding-right:12px">{_esc(k)}</th><td>{_esc(v)}</td></tr>'
+                    for k, v in rows)
+    return (
+        '<section id="orbitdeck-provenance" style="font-size:12px;color:#333;border-top:1px solid #bbb;'
+        'margin-top:16px;padding-top:8px"><h3 style="margin:4px 0">Provenance</h3>'
+        f"<table>{table}</table>"
+        "<p>All values are model estimates under the stated assumptions, not measurements.</p>"
+        "<details><summary>Input system (orbitdeck-system/1)</summary>"
+        f'<pre id="orbitdeck-system-text" style="white-space:pre-wrap">{_esc(system_text)}</pre></details></section>')
+
+
+def snapshot_layout(system: System, info: Provenance):
+    """A plain Panel layout of every view of ``system`` for a static page."""
+    from .app import OrbitDeckApp
+
+    app = OrbitDeckApp(system)
+    app.time = info.time
+    if info.samples:
+        app.derived = derive(system, samples=info.samples, seed=info.seed)
+    sections = []
+    for title, view in app.views.items():
+        sections.append(pn.pane.HTML(f'<h2 style="margin:16px 0 4px 0">{_esc(title)}</h2>', margin=(0, 10)))
+        sections.append(view.panel())
+    footer = pn.pane.HTML(provenance_html(system, info, dumps_system(system)), sizing_mode="stretch_width",
+                          margin=(0, 10))
+    return pn.Column(app.header, app.alerts, app.caution, *sections, footer, sizing_mode="stretch_width")
+
+
+def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
+                    samples: int = 0, seed: int | None = None, exported: datetime | None = None) -> str:
+    """The snapshot page of ``system`` as HTML text.
+
+    Parameters
+    ----------
+    system : System
+        The state to show (it is copied, never edited).
+    source_name, source_bytes : str, bytes
+        Name and content of the input file, for the provenance (SHA-256).
+    time : float, optional
+        Time of the positions [BJD_TDB]; default the system epoch.
+    samples, seed : int
+        Monte Carlo samples (0: nominal only) and seed.
+    exported : datetime, optional
+        Export time (default now, UTC).
+    """
+    moment = (exported or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
+    info = Provenance(source_name, hashlib.sha256(source_bytes).hexdigest(),
+                      moment.strftime("%Y-%m-%dT%H:%M:%SZ"), samples, seed if samples else None,
+                      system.epoch if time is None else float(time))
+    text = dumps_system(system)
+    meta = f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
+    page, _ = render_offline(snapshot_layout(system.copy(), info),
+                             f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta)
+    return page
+
+
+def write_snapshot(path, system: System, source_name: str, source_bytes: bytes, **options) -> int:
+    """Write the snapshot atomically to ``path``; returns its size in bytes."""
+    data = render_snapshot(system, source_name, source_bytes, **options).encode("utf-8")
+    atomic_write(path, data)
+    return len(data)
+
+
+def extract_system_text(page: str, source: str = "<snapshot>") -> str:
+    """The system file embedded in a snapshot page."""
+    match = _META_PATTERN.search(page)
+    if not match:
+        raise SystemFileError([Problem(source, "", "is not an orbitdeck snapshot (no embedded system file)")])
+    try:
+        return base64.b64decode(match.group(1), validate=True).decode("utf-8")
+    except (ValueError, UnicodeDecodeError):
+        raise SystemFileError([Problem(source, "", "the embedded system file is damaged")]) from None
+
+
+def without_export_time(page: str) -> str:
+    """The page with its export time blanked, for comparing two exports."""
+    return _EXPORT_TIME_PATTERN.sub("exported -", page)

@@ -1,0 +1,145 @@
+"""Pieces shared by the views: figures, tables, tap-to-select and text helpers.
+
+Every view builds its Bokeh figures and data sources once per session and
+afterwards only replaces the data of those sources (and ranges or tick
+labels), so an edit patches the page in place instead of rebuilding a
+figure; tables are Panel ``Tabulator`` widgets whose ``value`` is replaced.
+"""
+
+from __future__ import annotations
+
+import functools
+import html
+import math
+
+import numpy as np
+import pandas as pd
+import panel as pn
+from bokeh.models import ColumnDataSource, HoverTool, NumberFormatter
+from bokeh.plotting import figure
+
+#: tools of every plot; "tap" picks a planet where the view allows it
+TOOLS = "pan,wheel_zoom,box_zoom,reset,save"
+#: shared look of plot titles and axis labels
+TITLE_FONT_SIZE = "13px"
+AXIS_LABEL_FONT_SIZE = "12px"
+
+
+def batched(method):
+    """Run a method that changes Bokeh models inside ``pn.io.hold()``.
+
+    In a served session this sends the changes as one message and makes them
+    safe when the call comes from a Panel event handler that does not hold
+    the document lock (a table's selection, for instance); elsewhere it only
+    calls the method.
+    """
+    @functools.wraps(method)
+    def wrapper(*args, **kwargs):
+        with pn.io.hold():
+            return method(*args, **kwargs)
+
+    return wrapper
+
+
+def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
+    """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
+    options.setdefault("height", 420)
+    if "width" not in options and "frame_width" not in options:
+        options.setdefault("sizing_mode", "stretch_width")
+    fig = figure(title=title, tools=TOOLS + (",tap" if tap else ""), toolbar_location="above", **options)
+    fig.title.text_font_size = TITLE_FONT_SIZE
+    fig.xaxis.axis_label = x_label
+    fig.yaxis.axis_label = y_label
+    for axis in (*fig.xaxis, *fig.yaxis):
+        axis.axis_label_text_font_size = AXIS_LABEL_FONT_SIZE
+        axis.axis_label_text_font_style = "normal"
+    fig.toolbar.logo = None
+    return fig
+
+
+def add_hover(fig, renderers, tooltips) -> HoverTool:
+    """Attach a hover tool showing ``tooltips`` (label, "@column{format}") for ``renderers``."""
+    tool = HoverTool(renderers=list(renderers), tooltips=list(tooltips))
+    fig.add_tools(tool)
+    return tool
+
+
+def empty_source(*columns: str) -> ColumnDataSource:
+    """A data source with the named, empty columns."""
+    return ColumnDataSource({c: [] for c in columns})
+
+
+def calm_selection(renderer) -> None:
+    """Keep a glyph's look when Bokeh marks it selected; the app draws its own highlight."""
+    renderer.selection_glyph = None
+    renderer.nonselection_glyph = None
+    renderer.muted_glyph = None
+
+
+def watch_taps(source: ColumnDataSource, pick) -> None:
+    """Call ``pick(row)`` when the user taps a glyph of ``source``.
+
+    The selection is cleared again right away so that tapping the same glyph
+    a second time (after choosing another planet elsewhere) still counts.
+    """
+    def changed(attr, old, new):
+        if new:
+            row = int(new[0])
+            source.selected.indices = []
+            pick(row)
+
+    source.selected.on_change("indices", changed)
+
+
+def escape(text) -> str:
+    """HTML-escaped text (names and notes are free text and may contain markup)."""
+    return html.escape(str(text), quote=True)
+
+
+def fmt(value, digits: int = 4) -> str:
+    """A number with ``digits`` significant digits; an em dash for a missing value."""
+    if value is None:
+        return "\u2014"
+    value = float(value)
+    if not math.isfinite(value):
+        return "\u2014"
+    return f"{value:.{digits}g}"
+
+
+def as_floats(values) -> np.ndarray:
+    """Values as a float array (None becomes NaN)."""
+    return np.array([np.nan if v is None else v for v in np.asarray(values, dtype=object).ravel()], dtype=float)
+
+
+def table_widget(columns: dict, formats: dict | None = None, height: int = 280, **options) -> pn.widgets.Tabulator:
+    """A read-only, single-selection table; ``formats`` maps a column to a Bokeh number format."""
+    formatters = {name: NumberFormatter(format=f, nan_format="\u2014") for name, f in (formats or {}).items()}
+    options.setdefault("selectable", 1)
+    return pn.widgets.Tabulator(pd.DataFrame(columns), disabled=True, show_index=False,
+                                formatters=formatters, layout="fit_data_table", height=height,
+                                sizing_mode="stretch_width", **options)
+
+
+def link_table_selection(table: pn.widgets.Tabulator, app, names_of):
+    """Two-way link between a table's selected row and ``app.selected``.
+
+    ``names_of()`` returns the planet name of every row, in row order.
+    Returns the function that puts ``app.selected`` into the table; the view
+    calls it again after it has replaced the table's rows.
+    """
+    def from_table(event):
+        if event.new:
+            names = names_of()
+            row = event.new[0]
+            if 0 <= row < len(names):
+                app.selected = str(names[row])
+
+    def to_table(*_):
+        names = list(names_of())
+        wanted = [names.index(app.selected)] if app.selected in names else []
+        if table.selection != wanted:
+            table.selection = wanted
+
+    table.param.watch(from_table, "selection")
+    app.param.watch(to_table, "selected")
+    return to_table

@@ -1,0 +1,330 @@
+"""Controls of the side area: the system file, the star, the assumptions, one planet, time and display.
+
+Entries are text boxes that apply on Enter (or leaving the box) only after
+their text has been checked against the parameter's own bounds; an invalid
+entry shows an inline message and leaves the system unchanged. Sliders
+apply on release (``value_throttled``). After every change the widgets are
+refreshed from the model, so they always show what the views show.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from functools import partial
+
+import panel as pn
+
+from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
+
+from .common import escape
+from .sky_from import TimePlayer
+
+#: star entries: field, label, unit, optional (blank allowed)
+STAR_ENTRIES = (("mass", "Mass [Msun]", "Msun", False), ("radius", "Radius [Rsun]", "Rsun", False),
+                ("teff", "Teff [K]", "K", False),
+                ("luminosity", "Luminosity [Lsun] (blank: 4 pi R^2 sigma Teff^4)", "Lsun", True))
+#: planet entries (eccentricity has a slider)
+PLANET_ENTRIES = (("period", "Period [d]", "d", False), ("radius", "Radius [Rearth]", "Rearth", False),
+                  ("mass", "Mass [Mearth] (blank: estimated from radius)", "Mearth", True),
+                  ("inclination", "Inclination [deg]", "deg", False),
+                  ("omega", "Argument of periastron omega [deg]", "deg", False))
+REDISTRIBUTION_CHOICES = {"full (f = 1/4)": "full", "dayside only (f = 1/2)": "dayside", "none (f = 2/3)": "none"}
+MAX_NAME_LENGTH = 40
+WIDGET_WIDTH = 290
+
+
+class Rejected(ValueError):
+    """An entry that cannot be applied; the message is shown to the user."""
+
+
+def parse_entry(text: str, parameter, label: str, unit: str, optional: bool = False):
+    """The value of an entry's ``text`` for ``parameter``, checked against its bounds.
+
+    Returns None for a blank optional entry. Raises :class:`Rejected` with a
+    message naming the field and the reason.
+    """
+    text = (text or "").strip()
+    if not text:
+        if optional:
+            return None
+        raise Rejected(f"{label}: a value is needed")
+    try:
+        value = float(text)
+    except ValueError:
+        raise Rejected(f"{label}: {text!r} is not a number") from None
+    if not math.isfinite(value):
+        raise Rejected(f"{label}: must be a finite number, not {text!r}")
+    lo, hi = getattr(parameter, "bounds", None) or (None, None)
+    lo_in, hi_in = getattr(parameter, "inclusive_bounds", (True, True))
+    if lo is not None and (value < lo or (value == lo and not lo_in)):
+        raise Rejected(f"{label}: must be {'>=' if lo_in else '>'} {lo:g} {unit}, not {value:g}")
+    if hi is not None and (value > hi or (value == hi and not hi_in)):
+        raise Rejected(f"{label}: must be {'<=' if hi_in else '<'} {hi:g} {unit}, not {value:g}")
+    return value
+
+
+def entry_text(value) -> str:
+    """How a model value is shown in an entry."""
+    if value is None:
+        return ""
+    return f"{value:.10g}" if isinstance(value, (int, float)) else str(value)
+
+
+def file_name_for(system_name: str) -> str:
+    """A safe file name for the download of a system called ``system_name``."""
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "_", system_name).strip("._") or "system"
+    return stem[:60] + ".toml"
+
+
+def _message(pane, text: str = "", ok: bool = False) -> None:
+    colour = "#1d6b1d" if ok else "#a11a1a"
+    pane.object = f'<div style="color:{colour};font-size:12px">{escape(text)}</div>' if text else ""
+
+
+class Controls:
+    """The side area of one app; every widget belongs to this session only."""
+
+    def __init__(self, app):
+        self.app = app
+        self._quiet = False
+        entry = partial(pn.widgets.TextInput, width=WIDGET_WIDTH)
+        self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
+        self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",
+                                                label="Download the edited system file", color="primary",
+                                                width=WIDGET_WIDTH)
+        self.star_entries = {f: entry(label=label) for f, label, _, _ in STAR_ENTRIES}
+        self.star_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.albedo = pn.widgets.FloatSlider(label="Bond albedo A", start=0.0, end=0.99, step=0.01,
+                                             width=WIDGET_WIDTH)
+        self.redistribution = pn.widgets.Select(label="Heat redistribution", options=REDISTRIBUTION_CHOICES,
+                                                width=WIDGET_WIDTH)
+        self.assumption_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.planet_select = pn.widgets.Select(label="Planet (also picked by clicking it in a view)",
+                                               width=WIDGET_WIDTH)
+        self.planet_entries = {f: entry(label=label) for f, label, _, _ in PLANET_ENTRIES}
+        self.eccentricity = pn.widgets.FloatSlider(label="Eccentricity e", start=0.0, end=0.99, step=0.005,
+                                                   width=WIDGET_WIDTH)
+        self.planet_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.remove_button = pn.widgets.Button(label="Remove this planet", color="danger", width=WIDGET_WIDTH)
+        self.new_name = entry(label="New planet: name", placeholder="e.g. i")
+        self.new_period = entry(label="New planet: period [d]")
+        self.new_radius = entry(label="New planet: radius [Rearth]", value="1.0")
+        self.add_button = pn.widgets.Button(label="Add the planet", width=WIDGET_WIDTH)
+        self.add_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.time_entry = entry(label="Time of the positions [BJD_TDB]")
+        self.time_slider = pn.widgets.FloatSlider(label="Days after the epoch", start=0.0, end=10.0, step=0.01,
+                                                  width=WIDGET_WIDTH)
+        self.epoch_button = pn.widgets.Button(label="Back to the system epoch", width=WIDGET_WIDTH)
+        self.time_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.hill = pn.widgets.Checkbox.from_param(app.param.show_hill, label="Show Hill spheres (Layout)")
+        self.reference = pn.widgets.Select.from_param(app.param.reference, label="Scale reference (Layout)",
+                                                      width=WIDGET_WIDTH)
+
+        self.file_input.param.watch(self._load, "value")
+        for field, widget in self.star_entries.items():
+            widget.param.watch(partial(self._star_entry, field), "value")
+        self.albedo.param.watch(self._albedo, "value_throttled")
+        self.redistribution.param.watch(self._redistribution, "value")
+        self.planet_select.param.watch(self._pick, "value")
+        for field, widget in self.planet_entries.items():
+            widget.param.watch(partial(self._planet_entry, field), "value")
+        self.eccentricity.param.watch(self._eccentricity, "value_throttled")
+        self.remove_button.on_click(self._remove)
+        self.add_button.on_click(self._add)
+        self.time_entry.param.watch(self._time_entry, "value")
+        self.time_slider.param.watch(self._time_slider, "value_throttled")
+        self.epoch_button.on_click(lambda _: self._set_time(self.app.system.epoch))
+        self.player = TimePlayer(app)
+        app.param.watch(self.sync, ["derived", "selected", "time"])
+        self.sync()
+
+    # -- model -> widgets ------------------------------------------------------
+    def sync(self, *_):
+        """Show the model's current values in every widget (without applying them back)."""
+        app, system = self.app, self.app.system
+        self._quiet = True
+        try:
+            for field, widget in self.star_entries.items():
+                widget.value = entry_text(getattr(system.star, field))
+            self.albedo.value = min(system.assumptions.bond_albedo, self.albedo.end)
+            self.redistribution.value = system.assumptions.heat_redistribution
+            names = system.planet_names
+            self.planet_select.options = names
+            if app.selected in names:
+                self.planet_select.value = app.selected
+                planet = system.planet(app.selected)
+                for field, widget in self.planet_entries.items():
+                    widget.value = entry_text(getattr(planet, field))
+                self.eccentricity.value = min(planet.eccentricity, self.eccentricity.end)
+            longest = max((p.period for p in system.planets), default=10.0)
+            self.time_slider.end = round(max(longest, 1.0), 2)
+            self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
+            self.time_entry.value = entry_text(app.time)
+            self.download.filename = file_name_for(system.name)
+        finally:
+            self._quiet = False
+
+    # -- widgets -> model ------------------------------------------------------
+    def _apply(self, obj, field: str, value, label: str, pane) -> bool:
+        """Set ``obj.field``; undo it when the system cannot be derived with it."""
+        old = getattr(obj, field)
+        if value == old:
+            _message(pane)
+            return True
+        try:
+            setattr(obj, field, value)
+        except ValueError as error:
+            _message(pane, f"{label}: {error}")
+            return False
+        if self.app.problem:
+            problem = self.app.problem
+            setattr(obj, field, old)
+            _message(pane, f"{label}: {entry_text(value) or 'blank'} cannot be used: {problem}")
+            self.sync()
+            return False
+        _message(pane)
+        return True
+
+    def _star_entry(self, field, event):
+        if self._quiet:
+            return
+        _, label, unit, optional = next(e for e in STAR_ENTRIES if e[0] == field)
+        star = self.app.system.star
+        try:
+            value = parse_entry(event.new, star.param[field], label.split(" (")[0], unit, optional)
+        except Rejected as error:
+            _message(self.star_message, str(error))
+            return
+        self._apply(star, field, value, label.split(" (")[0], self.star_message)
+
+    def _albedo(self, event):
+        if not self._quiet and event.new is not None:
+            self._apply(self.app.system.assumptions, "bond_albedo", float(event.new), "Bond albedo",
+                        self.assumption_message)
+
+    def _redistribution(self, event):
+        if not self._quiet:
+            self._apply(self.app.system.assumptions, "heat_redistribution", event.new, "Heat redistribution",
+                        self.assumption_message)
+
+    def _pick(self, event):
+        if not self._quiet and event.new:
+            self.app.selected = event.new
+
+    def _current_planet(self) -> Planet | None:
+        names = self.app.system.planet_names
+        return self.app.system.planet(self.app.selected) if self.app.selected in names else None
+
+    def _planet_entry(self, field, event):
+        planet = self._current_planet()
+        if self._quiet or planet is None:
+            return
+        _, label, unit, optional = next(e for e in PLANET_ENTRIES if e[0] == field)
+        short = f"planet {planet.name}: {label.split(' (')[0]}"
+        try:
+            value = parse_entry(event.new, planet.param[field], short, unit, optional)
+        except Rejected as error:
+            _message(self.planet_message, str(error))
+            return
+        self._apply(planet, field, value, short, self.planet_message)
+
+    def _eccentricity(self, event):
+        planet = self._current_planet()
+        if not self._quiet and planet is not None and event.new is not None:
+            self._apply(planet, "eccentricity", float(event.new), f"planet {planet.name}: eccentricity",
+                        self.planet_message)
+
+    def _remove(self, _):
+        system, planet = self.app.system, self._current_planet()
+        if planet is None:
+            return
+        if len(system.planets) == 1:
+            _message(self.planet_message, "a system needs at least one planet; add another before removing this one")
+            return
+        system.remove_planet(planet.name)
+        _message(self.planet_message, f"removed planet {planet.name}", ok=True)
+
+    def _add(self, _):
+        name = (self.new_name.value_input or self.new_name.value or "").strip()
+        try:
+            if not name:
+                raise Rejected("new planet: a name is needed")
+            if len(name) > MAX_NAME_LENGTH:
+                raise Rejected(f"new planet: the name is longer than {MAX_NAME_LENGTH} characters")
+            if name in self.app.system.planet_names:
+                raise Rejected(f"new planet: a planet named {name!r} already exists")
+            period = parse_entry(self.new_period.value_input or self.new_period.value, Planet.param.period,
+                                 "new planet: period", "d")
+            radius = parse_entry(self.new_radius.value_input or self.new_radius.value, Planet.param.radius,
+                                 "new planet: radius", "Rearth")
+        except Rejected as error:
+            _message(self.add_message, str(error))
+            return
+        planet = Planet(name=name, period=period, radius=radius)
+        self.app.system.add_planet(planet)
+        if self.app.problem:
+            problem = self.app.problem
+            self.app.system.remove_planet(name)
+            _message(self.add_message, f"new planet {name}: cannot be used: {problem}")
+            return
+        self.app.selected = name
+        self.new_name.value = ""
+        _message(self.add_message, f"added planet {name} (no transit time: its phase is arbitrary)", ok=True)
+
+    def _set_time(self, value: float) -> None:
+        self.app.time = float(value)
+        _message(self.time_message)
+
+    def _time_entry(self, event):
+        if self._quiet:
+            return
+        try:
+            value = parse_entry(event.new, None, "time", "BJD_TDB")
+        except Rejected as error:
+            _message(self.time_message, str(error))
+            return
+        self._set_time(value)
+
+    def _time_slider(self, event):
+        if not self._quiet and event.new is not None:
+            self._set_time(self.app.system.epoch + float(event.new))
+
+    def _load(self, event):
+        if not event.new:
+            return
+        source = self.file_input.filename or "uploaded file"
+        try:
+            system = loads_system(event.new, source)
+        except SystemFileError as error:
+            shown = error.problems[:12]
+            more = len(error.problems) - len(shown)
+            text = "; ".join(str(p) for p in shown) + (f"; and {more} more" if more > 0 else "")
+            _message(self.file_message, f"not loaded, the current system is kept: {text}")
+            return
+        self.app.replace_system(system)
+        if self.app.problem:
+            _message(self.file_message, f"loaded {source}, but: {self.app.problem}")
+        else:
+            _message(self.file_message, f"loaded {source}: {len(system.planets)} planets", ok=True)
+
+    def _download(self):
+        return io.BytesIO(dumps_system(self.app.system).encode("utf-8"))
+
+    # -- layout ------------------------------------------------------------------
+    def panel(self):
+        card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
+        return pn.Column(
+            card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
+                 self.file_message, self.download, title="System file"),
+            card(*self.star_entries.values(), self.star_message, title="Star"),
+            card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
+            card(self.planet_select, *self.planet_entries.values(), self.eccentricity, self.planet_message,
+                 self.remove_button, pn.layout.Divider(), self.new_name, self.new_period, self.new_radius,
+                 self.add_button, self.add_message, title="Planet"),
+            card(self.time_entry, self.time_slider, self.player.panel(), self.epoch_button, self.time_message,
+                 self.hill,
+                 self.reference, title="Time and display"),
+            width=WIDGET_WIDTH + 40)

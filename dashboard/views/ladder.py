@@ -1,0 +1,196 @@
+"""Period ladder: adjacent period ratios against the rungs of commensurabilities.
+
+Horizontal rungs mark every p:q of order p - q <= 3 (from
+``orbitdeck.models.resonances.commensurability_table``) across the range of
+the system's ratios. Each adjacent pair is drawn at its ratio P_outer/P_inner
+as a disc split into the colours of its two planets, with a stub to its
+nearest rung and the offset Delta = (P2/P1)/(p/q) - 1 (Lithwick, Xie & Wu
+2012) beside it; consecutive pairs are linked where they form a triple,
+labelled with the best small-integer three-body relation
+p/P1 - (p+q)/P2 + q/P3 and its residual. TTV super-periods of pairs near
+first-order rungs are in the tooltips and in the table beneath.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import panel as pn
+from bokeh.models import FixedTicker, Range1d
+
+from orbitdeck.models.resonances import commensurability_table
+
+from . import palette
+from .common import add_hover, batched, calm_selection, empty_source, new_figure, table_widget
+
+#: rung styles by order: (dash, colour, width)
+RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
+PAIR_RADIUS_PX = 9
+#: above this many pairs the offsets and relations are left to the tooltips and tables (labels would overlap)
+MAX_LABELLED_PAIRS = 12
+
+
+def ladder_range(ratios) -> tuple[float, float]:
+    """The period-ratio interval the ladder shows: the system's ratios with a margin."""
+    ratios = np.asarray(ratios, dtype=float)
+    if ratios.size == 0:
+        return 1.0, 2.0
+    lo, hi = float(ratios.min()), float(ratios.max())
+    pad = max(0.04, 0.08 * (hi - lo))
+    return max(1.0, lo - pad), hi + pad
+
+
+def rungs_between(lo: float, hi: float):
+    """Commensurabilities p:q (order <= 3) with lo <= p/q <= hi: (p, q, order, ratio) arrays."""
+    p, q, order = commensurability_table()
+    ratio = p / q
+    keep = (ratio >= lo) & (ratio <= hi)
+    return p[keep], q[keep], order[keep], ratio[keep]
+
+
+class LadderView:
+    """The "Period ladder" view of one app."""
+
+    title = "Period ladder"
+
+    def __init__(self, app):
+        self.app = app
+        self.y_range, self.x_range = Range1d(1.0, 2.0), Range1d(-0.7, 0.7)
+        fig = new_figure("Adjacent period ratios and the commensurabilities near them", "adjacent pair",
+                         "period ratio P_outer / P_inner", height=480, x_range=self.x_range, y_range=self.y_range)
+        fig.xgrid.grid_line_color = None
+        fig.ygrid.grid_line_alpha = 0.3
+        fig.xaxis.major_label_text_font_size = "12px"
+        self.ticker = FixedTicker(ticks=[])
+        fig.xaxis.ticker = self.ticker
+        self.figure = fig
+        rung_columns = ("x0", "x1", "y", "label", "order")
+        self.sources = {
+            **{f"rungs{k}": empty_source(*rung_columns) for k in RUNG_STYLES},
+            "pairs": empty_source("x", "y", "pair", "inner_colour", "outer_colour", "nearest", "rung", "order",
+                                  "delta", "delta_text", "super_period", "spacing", "outline", "ring"),
+            "links": empty_source("x0", "y0", "x1", "y1", "xm", "ym", "planets", "p", "q", "residual", "text",
+                                  "width", "colour"),
+        }
+        s = self.sources
+        for k, (dash, colour, width) in RUNG_STYLES.items():
+            fig.segment(x0="x0", y0="y", x1="x1", y1="y", line_dash=dash, line_color=colour, line_width=width,
+                        source=s[f"rungs{k}"])
+            fig.text(x="x1", y="y", text="label", text_align="right", text_baseline="bottom",
+                     text_font_size="11px", text_color=colour, source=s[f"rungs{k}"])
+        fig.segment(x0="x", y0="y", x1="x", y1="rung", line_color="#333333", line_width=1.5, source=s["pairs"])
+        links = fig.segment(x0="x0", y0="y0", x1="x1", y1="y1", line_color="colour", line_width="width",
+                            line_dash="dashdot", source=s["links"])
+        fig.text(x="xm", y="ym", text="text", text_align="center", text_baseline="top", y_offset=8,
+                 text_font_size="10.5px", text_color="#4a2d6a", background_fill_color="white",
+                 background_fill_alpha=0.85, source=s["links"])
+        rings = fig.scatter(x="x", y="y", size="ring", fill_alpha=0, line_color=palette.HIGHLIGHT_COLOUR,
+                            line_width="outline", source=s["pairs"])
+        left = fig.wedge(x="x", y="y", radius=PAIR_RADIUS_PX, radius_units="screen", start_angle=np.pi / 2,
+                         end_angle=3 * np.pi / 2, fill_color="inner_colour", line_color="white", source=s["pairs"])
+        right = fig.wedge(x="x", y="y", radius=PAIR_RADIUS_PX, radius_units="screen", start_angle=-np.pi / 2,
+                          end_angle=np.pi / 2, fill_color="outer_colour", line_color="white", source=s["pairs"])
+        fig.text(x="x", y="y", text="delta_text", y_offset=-(PAIR_RADIUS_PX + 4), text_align="center",
+                 text_baseline="bottom", text_font_size="11.5px", background_fill_color="white",
+                 background_fill_alpha=0.85, source=s["pairs"])
+        for r in (links, rings, left, right):
+            calm_selection(r)
+        add_hover(fig, [left, right], [
+            ("pair", "@pair"), ("P2/P1", "@y{0.00000}"), ("nearest", "@nearest (order @order)"),
+            ("Delta", "@delta{+0.00000}"), ("TTV super-period", "@super_period{0.0} d"),
+            ("spacing", "@spacing{0.00} mutual Hill radii")])
+        add_hover(fig, [links], [("three-body relation", "@planets"), ("p, q", "@p, @q"),
+                                 ("p/P1 - (p+q)/P2 + q/P3", "@residual{0.000000} deg/d")])
+        self.pairs_table = table_widget({}, formats={
+            "P2/P1": "0.00000", "Delta [%]": "+0.000", "TTV super-period [d]": "0.0",
+            "spacing [mutual Hill radii]": "0.00"}, height=230, selectable=False)
+        self.triples_table = table_widget({}, formats={"residual [deg/d]": "0.000000"}, height=190,
+                                          selectable=False)
+        app.param.watch(self.update, "derived")
+        app.param.watch(self._highlight, "selected")
+        self.update()
+
+    @batched
+    def update(self, *_):
+        d = self.app.derived
+        if d is None:
+            return
+        pr, tr, names = d.pairs, d.triples, d.planet_names
+        colours = palette.planet_colours(len(names))
+        ratio = np.asarray(pr["period_ratio"], dtype=float)
+        n_pairs = ratio.size
+        lo, hi = ladder_range(ratio)
+        x_lo, x_hi = -0.7, max(n_pairs - 1, 0) + 1.4
+        self.y_range.update(start=lo, end=hi)
+        self.x_range.update(start=x_lo, end=x_hi)
+        p, q, order, rung = rungs_between(lo, hi)
+        for k in RUNG_STYLES:
+            keep = order == k
+            self.sources[f"rungs{k}"].data = {
+                "x0": np.full(keep.sum(), x_lo), "x1": np.full(keep.sum(), x_hi - 0.02), "y": rung[keep],
+                "label": [f"{a}:{b}" for a, b in zip(p[keep], q[keep])], "order": order[keep]}
+        nearest = [str(s) for s in pr["nearest"]]
+        near_ratio = np.array([int(s.split(":")[0]) / int(s.split(":")[1]) for s in nearest]) if nearest else ratio
+        pair_names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]
+        self.ticker.ticks = list(range(n_pairs))
+        self.figure.xaxis.major_label_overrides = {i: name for i, name in enumerate(pair_names)}
+        delta = np.asarray(pr["delta"], dtype=float)
+        self.sources["pairs"].data = {
+            "x": np.arange(n_pairs, dtype=float), "y": ratio, "pair": pair_names,
+            "inner_colour": colours[:-1] if n_pairs else [], "outer_colour": colours[1:] if n_pairs else [],
+            "nearest": nearest, "rung": near_ratio, "order": np.asarray(pr["order"]), "delta": delta,
+            "delta_text": [f"{s}  \u0394 = {100 * v:+.2f}%" if n_pairs <= MAX_LABELLED_PAIRS else ""
+                           for v, s in zip(delta, nearest)],
+            "super_period": np.asarray(pr["super_period_d"], dtype=float),
+            "spacing": np.asarray(pr["mutual_hill_spacing"], dtype=float), **self._ring_columns(d)}
+        n_triples = len(tr["p"])
+        trio = [list(t) for t in tr["planets"]]
+        residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
+        x0 = np.arange(n_triples, dtype=float)
+        self.sources["links"].data = {
+            "x0": x0, "y0": ratio[:n_triples], "x1": x0 + 1, "y1": ratio[1:n_triples + 1], "xm": x0 + 0.5,
+            "ym": 0.5 * (ratio[:n_triples] + ratio[1:n_triples + 1]), "planets": ["\u2013".join(t) for t in trio],
+            "p": np.asarray(tr["p"]), "q": np.asarray(tr["q"]), "residual": residual,
+            "text": [f"p={a} q={b}: {v:.2g}\u00b0/d" if n_pairs <= MAX_LABELLED_PAIRS else ""
+                     for a, b, v in zip(tr["p"], tr["q"], residual)],
+            **self._link_columns(trio)}
+        self.pairs_table.value = _pairs_frame(pr)
+        self.triples_table.value = _triples_frame(tr)
+
+    def _ring_columns(self, d) -> dict:
+        chosen = self.app.selected
+        hit = [chosen in (a, b) for a, b in zip(d.pairs["inner"], d.pairs["outer"])]
+        return {"outline": [3.0 if h else 0.0 for h in hit], "ring": [2 * PAIR_RADIUS_PX + 9 if h else 1 for h in hit]}
+
+    def _link_columns(self, trio) -> dict:
+        hit = [self.app.selected in t for t in trio]
+        return {"width": [3.5 if h else 1.8 for h in hit], "colour": ["#2b1a40" if h else "#8a6fae" for h in hit]}
+
+    @batched
+    def _highlight(self, *_):
+        d = self.app.derived
+        if d is None:
+            return
+        self.sources["pairs"].data.update(self._ring_columns(d))
+        self.sources["links"].data.update(self._link_columns([list(t) for t in d.triples["planets"]]))
+
+    def panel(self):
+        return pn.Column(pn.pane.Bokeh(self.figure, sizing_mode="stretch_width"),
+                         pn.pane.HTML("<b>Adjacent pairs</b>"), self.pairs_table,
+                         pn.pane.HTML("<b>Three-body relations of consecutive triples</b>"), self.triples_table,
+                         sizing_mode="stretch_width")
+
+
+def _pairs_frame(pr) -> dict:
+    import pandas as pd
+
+    return pd.DataFrame({
+        "inner": pr["inner"], "outer": pr["outer"], "P2/P1": pr["period_ratio"], "nearest p:q": pr["nearest"],
+        "order": pr["order"], "Delta [%]": 100 * np.asarray(pr["delta"], dtype=float),
+        "TTV super-period [d]": pr["super_period_d"], "spacing [mutual Hill radii]": pr["mutual_hill_spacing"]})
+
+
+def _triples_frame(tr):
+    import pandas as pd
+
+    return pd.DataFrame({"planets": ["\u2013".join(t) for t in tr["planets"]], "p": tr["p"], "q": tr["q"],
+                         "residual [deg/d]": tr["residual_deg_per_day"]})
