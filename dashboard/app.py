@@ -16,6 +16,7 @@ import param
 
 from orbitdeck.models import Derived, System, derive, ephemeris
 
+from .cli import DEFAULT_SEED
 from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
 from .views.common import escape
 from .views.controls import Controls
@@ -39,13 +40,19 @@ class OrbitDeckApp(param.Parameterized):
     reference = param.Selector(default="none", objects=list(REFERENCE_ORBITS),
                                doc="Solar System orbit drawn in Layout for scale")
     problem = param.String(default="", doc="Why the last change could not be derived (empty when it could)")
+    uncertainty = param.Boolean(default=False, doc="Derive with Monte Carlo draws and show their intervals")
+    samples = param.Integer(default=4000, bounds=(100, 20000), doc="Monte Carlo draws when uncertainty is on")
+    seed = param.Integer(default=DEFAULT_SEED, constant=True, doc="Seed of the Monte Carlo draws (fixed)")
 
     def __init__(self, system: System, **params):
-        derived, elements = _derive(system)
+        cls = type(self)
+        draws = params.get("samples", cls.param.samples.default) if params.get("uncertainty") else 0
+        derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
         names = derived.planet_names
         params.setdefault("selected", names[0] if names else None)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
+        self.param.watch(self._on_draws, ["uncertainty", "samples"])
         self.views = {cls.title: cls(self) for cls in VIEW_CLASSES}
         self.controls = Controls(self)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
@@ -64,10 +71,20 @@ class OrbitDeckApp(param.Parameterized):
         self._texts()
 
     # -- state -----------------------------------------------------------------
+    @property
+    def draws(self) -> int:
+        """Monte Carlo draws of the next derivation: ``samples`` when ``uncertainty`` is on, else 0."""
+        return int(self.samples) if self.uncertainty else 0
+
+    def _on_draws(self, *events):
+        """Derive again when the switch changes, or the sample count while the switch is on."""
+        if any(e.name == "uncertainty" for e in events) or self.uncertainty:
+            self._on_revision()
+
     def _on_revision(self, *_):
         """Derive the system once for a change of anything in it."""
         try:
-            derived, elements = _derive(self.system)
+            derived, elements = _derive(self.system, self.draws, self.seed)
         except Exception as error:  # a valid but underivable state: keep the last views, say why
             self.problem = f"{type(error).__name__}: {error}"
             return
@@ -79,7 +96,7 @@ class OrbitDeckApp(param.Parameterized):
     def replace_system(self, system: System) -> None:
         """Show ``system`` instead of the current one (the current one is kept if it cannot be derived)."""
         try:
-            derived, elements = _derive(system)
+            derived, elements = _derive(system, self.draws, self.seed)
         except Exception as error:
             self.problem = f"{type(error).__name__}: {error}"
             return
@@ -94,13 +111,16 @@ class OrbitDeckApp(param.Parameterized):
     def _texts(self, *_):
         d, system = self.derived, self.system
         star = d.star
+        lum = (d.intervals or {}).get("star", {}).get("luminosity_lsun")
+        luminosity_range = (f" (16th\u201384th percentiles {lum[0]:.4g}\u2013{lum[1]:.4g} of {d.samples} "
+                            "Monte Carlo draws)" if lum else "")
         self.header_name.object = escape(system.name)
         self._title_holder.value = self._document_title()
         self.header.object = (
             f'<h2 style="margin:4px 0">{escape(system.name)}</h2>'
             f'<div style="font-size:13px;color:#333">star {escape(star["name"])}: '
             f'M = {star["mass_msun"]:.4g} Msun, R = {star["radius_rsun"]:.4g} Rsun, Teff = {star["teff_k"]:.0f} K, '
-            f'L = {star["luminosity_lsun"]:.4g} Lsun; {len(d.planet_names)} planets'
+            f'L = {star["luminosity_lsun"]:.4g} Lsun{luminosity_range}; {len(d.planet_names)} planets'
             + (f'; {escape(system.notes)}' if system.notes else "") + "</div>")
         notes = list(d.warnings)
         phaseless = [n for n, given in zip(self.elements.names, self.elements.tref_is_transit) if not given]
@@ -150,8 +170,8 @@ class PlainTemplate(pn.template.VanillaTemplate):
         self._render_variables["meta_name"] = "orbitdeck"
 
 
-def _derive(system: System):
-    derived = derive(system)
+def _derive(system: System, samples: int = 0, seed: int | None = None):
+    derived = derive(system, samples=samples, seed=seed) if samples else derive(system)
     elements = ephemeris.orbital_elements(system, a_au=derived.planets["semi_major_axis_au"])
     return derived, elements
 

@@ -143,3 +143,38 @@ def link_table_selection(table: pn.widgets.Tabulator, app, names_of):
     table.param.watch(from_table, "selection")
     app.param.watch(to_table, "selected")
     return to_table
+
+
+# -- Monte Carlo intervals ------------------------------------------------------------
+def interval(derived, table: str, key: str):
+    """The (16th, 84th) percentile arrays of ``derived.<table>[key]``; None without Monte Carlo draws."""
+    found = (derived.intervals or {}).get(table, {}).get(key) if derived is not None else None
+    if found is None:
+        return None
+    lo, hi = found
+    return np.asarray(lo, dtype=float), np.asarray(hi, dtype=float)
+
+
+def interval_caption(derived) -> str:
+    """What the drawn ranges are (empty without Monte Carlo draws)."""
+    if derived is None or not derived.intervals:
+        return ""
+    return (f"16th\u201384th percentiles of {derived.samples} Monte Carlo draws "
+            f"\n(seed {derived.seed}; model estimates, not measurements)")
+
+
+def range_texts(values, lo, hi, digits: int = 3) -> list[str]:
+    """"+err \u2212err" of each value from its interval, ``digits`` significant digits; a dash where missing."""
+    out = []
+    for v, a, b in zip(as_floats(values), as_floats(lo), as_floats(hi)):
+        if not all(math.isfinite(x) for x in (v, a, b)):
+            out.append("\u2014")
+        else:
+            out.append(f"+{fmt(max(b - v, 0.0), digits)} \u2212{fmt(max(v - a, 0.0), digits)}")
+    return out
+
+
+def span_texts(lo, hi, digits: int = 4) -> list[str]:
+    """"lo\u2013hi" of each interval; a dash where missing."""
+    return ["\u2014" if not (math.isfinite(a) and math.isfinite(b)) else f"{fmt(a, digits)}\u2013{fmt(b, digits)}"
+            for a, b in zip(as_floats(lo), as_floats(hi))]

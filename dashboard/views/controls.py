@@ -122,6 +122,11 @@ class Controls:
         self.hill = pn.widgets.Checkbox.from_param(app.param.show_hill, label="Show Hill spheres (Layout)")
         self.reference = pn.widgets.Select.from_param(app.param.reference, label="Scale reference (Layout)",
                                                       width=WIDGET_WIDTH)
+        self.uncertainty = pn.widgets.Checkbox.from_param(app.param.uncertainty,
+                                                          label="Show Monte Carlo uncertainties (all views)")
+        self.samples = pn.widgets.IntInput.from_param(app.param.samples, label="Monte Carlo draws (100 to 20000)",
+                                                      step=1000, width=WIDGET_WIDTH)
+        self.uncertainty_message = pn.pane.HTML("", width=WIDGET_WIDTH)
 
         self.file_input.param.watch(self._load, "value")
         for field, widget in self.star_entries.items():
@@ -139,6 +144,8 @@ class Controls:
         self.epoch_button.on_click(lambda _: self._set_time(self.app.system.epoch))
         self.player = TimePlayer(app)
         app.param.watch(self.sync, ["derived", "selected", "time"])
+        app.param.watch(self._uncertainty_note, "derived")
+        self._uncertainty_note()
         self.sync()
 
     # -- model -> widgets ------------------------------------------------------
@@ -166,6 +173,13 @@ class Controls:
             self.download.filename = file_name_for(system.name)
         finally:
             self._quiet = False
+
+    def _uncertainty_note(self, *_):
+        d = self.app.derived
+        self.uncertainty_message.object = (
+            f'<div style="font-size:12px;color:#444">shown: 16th\u201384th percentiles of {d.samples} Monte Carlo '
+            f'draws of the inputs with uncertainties (seed {d.seed})</div>' if d is not None and d.intervals else
+            '<div style="font-size:12px;color:#444">nominal values only</div>')
 
     # -- widgets -> model ------------------------------------------------------
     def _apply(self, obj, field: str, value, label: str, pane) -> bool:
@@ -327,4 +341,5 @@ class Controls:
             card(self.time_entry, self.time_slider, self.player.panel(), self.epoch_button, self.time_message,
                  self.hill,
                  self.reference, title="Time and display"),
+            card(self.uncertainty, self.samples, self.uncertainty_message, title="Uncertainties"),
             width=WIDGET_WIDTH + 40)

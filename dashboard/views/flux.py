@@ -14,13 +14,13 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import panel as pn
-from bokeh.models import BoxAnnotation, FixedTicker, Label, PrintfTickFormatter, Range1d, Span
+from bokeh.models import BoxAnnotation, FixedTicker, Label, PrintfTickFormatter, Range1d, Span, Whisker
 
 from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
-from .common import (add_hover, as_floats, batched, calm_selection, empty_source, link_table_selection,
-                     new_figure, table_widget, watch_taps)
+from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
+                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -40,18 +40,36 @@ def hz_limit_fluxes(derived) -> dict | None:
     return {k: luminosity / hz[k] ** 2 for k in HZ_LIMITS}
 
 
+#: table columns that get a "+err −err" column beside them when there are Monte Carlo intervals
+RANGED_COLUMNS = {"a [au]": ("semi_major_axis_au", 3), "S [S\u2295]": ("insolation_earth", 3),
+                  "Teq [K]": ("teq_k", 3), "M [M\u2295]": ("mass_mearth", 3), "\u03c1 [g/cm\u00b3]": ("density_gcc", 3)}
+
+
 def planet_frame(derived) -> pd.DataFrame:
-    """The rows of the Flux & temperature table."""
+    """The rows of the Flux & temperature table (with "+err \u2212err" columns when there are intervals)."""
     pl = derived.planets
     estimated = np.asarray(pl["mass_estimated"], dtype=bool)
     region = ["\u2014" if r is None else str(r) for r in pl["hz_region"]]
-    return pd.DataFrame({
+    frame = pd.DataFrame({
         "planet": [str(n) for n in pl["name"]], "P [d]": pl["period_d"], "a [au]": pl["semi_major_axis_au"],
         "S [S\u2295]": pl["insolation_earth"], "Teq [K]": pl["teq_k"], "HZ region": region,
         "R [R\u2295]": pl["radius_rearth"], "M [M\u2295]": pl["mass_mearth"],
         "mass": ["estimated" if e else "measured" for e in estimated],
         "\u03c1 [g/cm\u00b3]": pl["density_gcc"], "g [m/s\u00b2]": pl["surface_gravity_ms2"],
         "v_esc [km/s]": pl["escape_speed_kms"]})
+    return with_ranges(frame, derived, "planets", RANGED_COLUMNS)
+
+
+def with_ranges(frame: pd.DataFrame, derived, table: str, columns: dict) -> pd.DataFrame:
+    """``frame`` with a "<column> 16\u201384%" text column ("+err \u2212err") after each of ``columns``."""
+    if not derived.intervals:
+        return frame
+    for column, (key, digits) in columns.items():
+        found = interval(derived, table, key)
+        if found is not None:
+            at = frame.columns.get_loc(column) + 1
+            frame.insert(at, f"{column.split(' [')[0]} err (16\u201384%)", range_texts(frame[column], *found, digits))
+    return frame
 
 
 class FluxView:
@@ -70,7 +88,8 @@ class FluxView:
         fig.xaxis.formatter = PrintfTickFormatter(format="%g")
         self.figure = fig
         self.sources = {"planets": empty_source("S", "R", "name", "colour", "size", "line_colour", "line_width",
-                                                "teq", "region", "a")}
+                                                "teq", "region", "a", "S_range", "teq_range"),
+                        "errors": empty_source("R", "lower", "upper", "colour")}
         s = self.sources["planets"]
         self.zones = {
             "conservative": BoxAnnotation(fill_color=palette.HZ_CONSERVATIVE_COLOUR, fill_alpha=0.25, line_alpha=0),
@@ -90,12 +109,23 @@ class FluxView:
         self.hz_note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
                              text_color="#8a2d00")
         fig.add_layout(self.hz_note)
+        self.whiskers = Whisker(base="R", lower="lower", upper="upper", dimension="width",
+                                source=self.sources["errors"], line_color="colour", line_width=2,
+                                upper_head=None, lower_head=None)
+        self.whiskers.upper_head = self.whiskers.lower_head = None
+        fig.add_layout(self.whiskers)
+        self.error_note = Label(x=8, y=24, x_units="screen", y_units="screen", text="", text_font_size="11px",
+                                text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
+        fig.add_layout(self.error_note)
         points = fig.scatter(x="S", y="R", size="size", fill_color="colour", line_color="line_colour",
                              line_width="line_width", source=s)
         fig.text(x="S", y="R", text="name", x_offset=10, y_offset=-8, text_font_size="12px", source=s)
         calm_selection(points)
-        add_hover(fig, [points], [("planet", "@name"), ("S", "@S{0.000} S_earth"), ("radius", "@R{0.000} R_earth"),
-                                  ("Teq", "@teq{0.0} K"), ("HZ region", "@region"), ("a", "@a{0.00000} au")])
+        self.base_tooltips = [("planet", "@name"), ("S", "@S{0.000} S_earth"), ("radius", "@R{0.000} R_earth"),
+                              ("Teq", "@teq{0.0} K"), ("HZ region", "@region"), ("a", "@a{0.00000} au")]
+        self.range_tooltips = [("S 16th\u201384th pct", "@S_range S_earth"),
+                               ("Teq 16th\u201384th pct", "@teq_range K")]
+        self.hover = add_hover(fig, [points], self.base_tooltips)
         watch_taps(s, self._pick)
         self.table = table_widget({}, formats=TABLE_FORMATS, height=300)
         self._sync_table = link_table_selection(self.table, app, lambda: list(self.table.value["planet"])
@@ -117,11 +147,22 @@ class FluxView:
         pl, names = d.planets, d.planet_names
         S, R = as_floats(pl["insolation_earth"]), as_floats(pl["radius_rearth"])
         regions = ["\u2014" if r is None else str(r) for r in pl["hz_region"]]
+        colours = palette.planet_colours(len(names))
+        s_interval, t_interval = interval(d, "planets", "insolation_earth"), interval(d, "planets", "teq_k")
+        blank = [""] * len(names)
         self.sources["planets"].data = {
-            "S": S, "R": R, "name": list(names), "colour": palette.planet_colours(len(names)),
-            "teq": pl["teq_k"], "region": regions, "a": pl["semi_major_axis_au"], **self._marker_columns(names)}
+            "S": S, "R": R, "name": list(names), "colour": colours,
+            "teq": pl["teq_k"], "region": regions, "a": pl["semi_major_axis_au"],
+            "S_range": span_texts(*s_interval) if s_interval else blank,
+            "teq_range": span_texts(*t_interval, digits=4) if t_interval else blank, **self._marker_columns(names)}
+        self.sources["errors"].data = ({"R": R, "lower": s_interval[0], "upper": s_interval[1], "colour": colours}
+                                       if s_interval else {k: [] for k in self.sources["errors"].data})
+        self.hover.tooltips = self.base_tooltips + (self.range_tooltips if s_interval else [])
+        caption = interval_caption(d)
+        self.error_note.text = f"horizontal bars: insolation, {caption}" if caption else ""
         limits = hz_limit_fluxes(d)
-        shown = [v for v in S if v > 0]
+        shown = [v for v in S if v > 0] + ([v for v in s_interval[1] if v > 0] if s_interval else [])
+        shown += [v for v in s_interval[0] if v > 0] if s_interval else []
         if limits:
             shown += [limits["recent_venus"], limits["early_mars"]]
             self._place_zones(limits)

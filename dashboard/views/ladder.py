@@ -15,12 +15,13 @@ from __future__ import annotations
 
 import numpy as np
 import panel as pn
-from bokeh.models import FixedTicker, Range1d
+from bokeh.models import FixedTicker, Label, Range1d, TeeHead, Whisker
 
 from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
-from .common import add_hover, batched, calm_selection, empty_source, new_figure, table_widget
+from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption, new_figure,
+                     span_texts, table_widget)
 
 #: rung styles by order: (dash, colour, width)
 RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
@@ -67,7 +68,9 @@ class LadderView:
         self.sources = {
             **{f"rungs{k}": empty_source(*rung_columns) for k in RUNG_STYLES},
             "pairs": empty_source("x", "y", "pair", "inner_colour", "outer_colour", "nearest", "rung", "order",
-                                  "delta", "delta_text", "super_period", "spacing", "outline", "ring"),
+                                  "delta", "delta_text", "super_period", "spacing", "outline", "ring",
+                                  "delta_range", "other_fraction", "other_text"),
+            "errors": empty_source("x", "lower", "upper"),
             "links": empty_source("x0", "y0", "x1", "y1", "xm", "ym", "planets", "p", "q", "residual", "text",
                                   "width", "colour"),
         }
@@ -94,15 +97,25 @@ class LadderView:
                  background_fill_alpha=0.85, source=s["pairs"])
         for r in (links, rings, left, right):
             calm_selection(r)
-        add_hover(fig, [left, right], [
+        self.whiskers = Whisker(base="x", lower="lower", upper="upper", dimension="height", source=s["errors"],
+                                line_color="#111111", line_width=2, level="underlay",
+                                upper_head=TeeHead(size=10, line_width=2, line_color="#111111"),
+                                lower_head=TeeHead(size=10, line_width=2, line_color="#111111"))
+        fig.add_layout(self.whiskers)
+        self.error_note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
+                                text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
+        fig.add_layout(self.error_note)
+        self.base_tooltips = [
             ("pair", "@pair"), ("P2/P1", "@y{0.00000}"), ("nearest", "@nearest (order @order)"),
             ("Delta", "@delta{+0.00000}"), ("TTV super-period", "@super_period{0.0} d"),
-            ("spacing", "@spacing{0.00} mutual Hill radii")])
+            ("spacing", "@spacing{0.00} mutual Hill radii")]
+        self.range_tooltips = [("Delta 16th\u201384th pct", "@delta_range"), ("other rungs", "@other_text")]
+        self.hover = add_hover(fig, [left, right], self.base_tooltips)
         add_hover(fig, [links], [("three-body relation", "@planets"), ("p, q", "@p, @q"),
                                  ("p/P1 - (p+q)/P2 + q/P3", "@residual{0.000000} deg/d")])
         self.pairs_table = table_widget({}, formats={
-            "P2/P1": "0.00000", "Delta [%]": "+0.000", "TTV super-period [d]": "0.0",
-            "spacing [mutual Hill radii]": "0.00"}, height=230, selectable=False)
+            "P2/P1": "0.00000", "other rung nearer [% of draws]": "0.0", "Delta [%]": "+0.000",
+            "TTV super-period [d]": "0.0", "spacing [mutual Hill radii]": "0.00"}, height=230, selectable=False)
         self.triples_table = table_widget({}, formats={"residual [deg/d]": "0.000000"}, height=190,
                                           selectable=False)
         app.param.watch(self.update, "derived")
@@ -141,7 +154,9 @@ class LadderView:
             "delta_text": [f"{s}  \u0394 = {100 * v:+.2f}%" if n_pairs <= MAX_LABELLED_PAIRS else ""
                            for v, s in zip(delta, nearest)],
             "super_period": np.asarray(pr["super_period_d"], dtype=float),
-            "spacing": np.asarray(pr["mutual_hill_spacing"], dtype=float), **self._ring_columns(d)}
+            "spacing": np.asarray(pr["mutual_hill_spacing"], dtype=float), **self._ring_columns(d),
+            **self._range_columns(d, n_pairs)}
+        self._update_errors(d, n_pairs, hi - lo)
         n_triples = len(tr["p"])
         trio = [list(t) for t in tr["planets"]]
         residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
@@ -153,8 +168,34 @@ class LadderView:
             "text": [f"p={a} q={b}: {v:.2g}\u00b0/d" if n_pairs <= MAX_LABELLED_PAIRS else ""
                      for a, b, v in zip(tr["p"], tr["q"], residual)],
             **self._link_columns(trio)}
-        self.pairs_table.value = _pairs_frame(pr)
+        self.pairs_table.value = _pairs_frame(pr, d)
         self.triples_table.value = _triples_frame(tr)
+
+    def _range_columns(self, d, n_pairs: int) -> dict:
+        """Tooltip texts of the Monte Carlo intervals of Delta and of how often another rung is nearer."""
+        found = interval(d, "pairs", "delta")
+        other = np.asarray(d.extra.get("other_nearest_fraction", np.zeros(0)), dtype=float)
+        if found is None or other.size != n_pairs:
+            return {"delta_range": [""] * n_pairs, "other_fraction": np.full(n_pairs, np.nan),
+                    "other_text": [""] * n_pairs}
+        return {"delta_range": span_texts(*found, digits=4), "other_fraction": other,
+                "other_text": [f"in {100 * f:.1f}% of draws another commensurability is nearer" for f in other]}
+
+    def _update_errors(self, d, n_pairs: int, shown_span: float) -> None:
+        """Vertical bars between the 16th and 84th percentiles of each period ratio (none without draws)."""
+        found = interval(d, "pairs", "period_ratio")
+        self.hover.tooltips = self.base_tooltips + (self.range_tooltips if found is not None else [])
+        if found is None:
+            self.sources["errors"].data = {k: [] for k in self.sources["errors"].data}
+            self.error_note.text = ""
+            return
+        lo, hi = found
+        self.sources["errors"].data = {"x": np.arange(n_pairs, dtype=float), "lower": lo, "upper": hi}
+        # about 400 px of plot height: say so when every bar is shorter than the pair's disc
+        tallest_px = float(np.nanmax(hi - lo, initial=0.0)) / shown_span * 400.0 if shown_span > 0 else 0.0
+        self.error_note.text = (f"vertical bars: period ratio, {interval_caption(d)}"
+                                + ("\n(every bar is shorter than the discs: the ratios are known far more "
+                                   "precisely than the rungs are apart)" if tallest_px < 2 * PAIR_RADIUS_PX else ""))
 
     def _ring_columns(self, d) -> dict:
         chosen = self.app.selected
@@ -180,13 +221,21 @@ class LadderView:
                          sizing_mode="stretch_width")
 
 
-def _pairs_frame(pr) -> dict:
+def _pairs_frame(pr, d=None) -> dict:
     import pandas as pd
 
-    return pd.DataFrame({
+    frame = pd.DataFrame({
         "inner": pr["inner"], "outer": pr["outer"], "P2/P1": pr["period_ratio"], "nearest p:q": pr["nearest"],
         "order": pr["order"], "Delta [%]": 100 * np.asarray(pr["delta"], dtype=float),
         "TTV super-period [d]": pr["super_period_d"], "spacing [mutual Hill radii]": pr["mutual_hill_spacing"]})
+    found = interval(d, "pairs", "delta") if d is not None else None
+    if found is not None:
+        frame.insert(frame.columns.get_loc("Delta [%]") + 1, "Delta 16\u201384% [%]",
+                     span_texts(100 * found[0], 100 * found[1], digits=4))
+        other = np.asarray(d.extra.get("other_nearest_fraction", []), dtype=float)
+        if other.size == len(frame):
+            frame.insert(frame.columns.get_loc("order") + 1, "other rung nearer [% of draws]", 100 * other)
+    return frame
 
 
 def _triples_frame(tr):

@@ -23,7 +23,8 @@ from orbitdeck.models import ephemeris
 from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
-from .common import add_hover, batched, calm_selection, empty_source, new_figure, watch_taps
+from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption, new_figure,
+                     watch_taps)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -75,6 +76,7 @@ class LayoutView:
         self.sources = {
             "hz": empty_source("inner", "outer", "kind", "limits", "colour", "alpha"),
             "reference": empty_source("radius", "label"),
+            "bands": empty_source("inner", "outer", "name", "colour"),
             "orbits": empty_source("xs", "ys", "name", "colour", "a", "e", "periastron", "apoastron", "width"),
             "star": empty_source("radius", "name", "radius_rsun", "teff"),
             "hill": empty_source("x", "y", "radius", "name", "colour"),
@@ -84,6 +86,8 @@ class LayoutView:
         s = self.sources
         hz = fig.annulus(x=0, y=0, inner_radius="inner", outer_radius="outer", fill_color="colour",
                          fill_alpha="alpha", line_alpha=0, source=s["hz"])
+        bands = fig.annulus(x=0, y=0, inner_radius="inner", outer_radius="outer", fill_color="colour",
+                            fill_alpha=0.5, line_color="colour", line_alpha=0.8, line_width=1, source=s["bands"])
         ref = fig.circle(x=0, y=0, radius="radius", fill_alpha=0, line_color=palette.REFERENCE_COLOUR,
                          line_dash="dashed", line_width=1.5, source=s["reference"])
         orbits = fig.multi_line(xs="xs", ys="ys", line_color="colour", line_width="width", line_alpha=0.8,
@@ -96,7 +100,7 @@ class LayoutView:
                               line_width="line_width", source=s["planets"])
         fig.text(x="x", y="y", text="name", x_offset=9, y_offset=-9, text_font_size="12px",
                  text_color="#222222", source=s["planets"])
-        for r in (hz, ref, orbits, star, self.hill, planets):
+        for r in (hz, bands, ref, orbits, star, self.hill, planets):
             calm_selection(r)
         add_hover(fig, [planets], [("planet", "@name"), ("distance now", "@r{0.00000} au"),
                                    ("true anomaly f", "@f_deg{0.0} deg"), ("a", "@a{0.00000} au"), ("e", "@e{0.000}"),
@@ -105,6 +109,9 @@ class LayoutView:
                                 ("Teff", "@teff{0} K")])
         add_hover(fig, [self.hill], [("Hill sphere of", "@name"), ("radius", "@radius{0.000000} au")])
         add_hover(fig, [ref], [("scale reference", "@label")])
+        add_hover(fig, [bands], [("semi-major axis of", "@name"),
+                                 ("16th\u201384th percentiles", "@inner{0.00000}\u2013@outer{0.00000} au")])
+        self.band_item = LegendItem(label=value("a: 16th\u201384th percentiles"), renderers=[bands], visible=False)
         self.reference_item = LegendItem(label=value("no scale reference"), renderers=[ref])
         self.hz_items = [LegendItem(label=value("conservative HZ"), renderers=[hz], index=0),
                          LegendItem(label=value("optimistic HZ"), renderers=[hz], index=1)]
@@ -113,6 +120,7 @@ class LayoutView:
             LegendItem(label=value("star (to scale)"), renderers=[star]),
             LegendItem(label=value("Hill spheres"), renderers=[self.hill]),
             self.reference_item,
+            self.band_item,
         ], location="top_left", label_text_font_size="11px", border_line_alpha=0)
         fig.add_layout(legend, "right")
         self.note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
@@ -155,6 +163,7 @@ class LayoutView:
         self.sources["star"].data = {"radius": [star_radius_au], "name": [d.star["name"]],
                                      "radius_rsun": [d.star["radius_rsun"]], "teff": [d.star["teff_k"]]}
         self._update_hz(d)
+        self._update_bands(d, names, colours)
         x, y, r, f = in_plane_positions(app.elements, app.time)
         self.sources["planets"].data = {
             "x": x, "y": y, "name": list(names), "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a,
@@ -180,7 +189,20 @@ class LayoutView:
             self.x_range.update(start=-extent, end=extent)
             self.y_range.update(start=-extent, end=extent)
         self.figure.title.text = f"Top-down view of the orbits, to scale, at BJD_TDB {app.time:.4f}"
-        self.note.text = "observer towards +y (transit at \u03c9 + f = 90\u00b0); positions from Kepler's equation"
+        caption = interval_caption(d)
+        self.note.text = ("observer towards +y (transit at \u03c9 + f = 90\u00b0); positions from Kepler's equation"
+                          + (f"\nbands: semi-major axis, {caption}" if caption else ""))
+
+    def _update_bands(self, d, names, colours) -> None:
+        """Annuli between the 16th and 84th percentiles of each semi-major axis (none without draws)."""
+        found = interval(d, "planets", "semi_major_axis_au")
+        self.band_item.visible = found is not None
+        if found is None:
+            self.sources["bands"].data = {k: [] for k in self.sources["bands"].data}
+            return
+        lo, hi = found
+        self.band_item.label = value(f"a: 16th\u201384th percentiles\nof {d.samples} Monte Carlo draws")
+        self.sources["bands"].data = {"inner": lo, "outer": hi, "name": list(names), "colour": colours}
 
     def _update_hz(self, d) -> None:
         hz = d.star["hz_au"]

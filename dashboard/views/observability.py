@@ -14,21 +14,28 @@ import panel as pn
 from bokeh.models import FactorRange
 
 from . import palette
-from .common import (add_hover, as_floats, batched, calm_selection, empty_source, link_table_selection,
-                     new_figure, table_widget, watch_taps)
+from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
+                     link_table_selection, new_figure, table_widget, watch_taps)
+from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
                  "TSM": "0.00", "ESM": "0.000", "K [m/s]": "0.000"}
 
 
+#: table columns that get a "+err \u2212err" column beside them when there are Monte Carlo intervals
+RANGED_COLUMNS = {"depth [ppm]": ("transit_depth_ppm", 3), "T14 [h]": ("transit_duration_h", 3),
+                  "TSM": ("tsm", 3), "ESM": ("esm", 3), "K [m/s]": ("rv_semi_amplitude_ms", 3)}
+
+
 def observability_frame(derived) -> pd.DataFrame:
-    """The rows of the Observability table."""
+    """The rows of the Observability table (with "+err \u2212err" columns when there are intervals)."""
     pl = derived.planets
-    return pd.DataFrame({
+    frame = pd.DataFrame({
         "planet": [str(n) for n in pl["name"]], "depth [ppm]": pl["transit_depth_ppm"],
         "T14 [h]": pl["transit_duration_h"], "b": pl["impact_parameter"],
         "transit probability": pl["transit_probability"], "TSM": pl["tsm"], "ESM": pl["esm"],
         "K [m/s]": pl["rv_semi_amplitude_ms"]})
+    return with_ranges(frame, derived, "planets", RANGED_COLUMNS)
 
 
 class ObservabilityView:
@@ -76,8 +83,12 @@ class ObservabilityView:
             "name": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "esm": as_floats(pl["esm"]),
             "depth": as_floats(pl["transit_depth_ppm"]), "colour": palette.planet_colours(len(names)),
             **self._outline(names)}
-        self.note.object = ("" if np.isfinite(tsm).any() else
-                            "TSM needs the star's J magnitude and ESM its K magnitude (j_mag, k_mag in the file).")
+        notes = [] if np.isfinite(tsm).any() else [
+            "TSM needs the star's J magnitude and ESM its K magnitude (j_mag, k_mag in the file)."]
+        caption = interval_caption(d)
+        if caption:
+            notes.append(f'<span style="color:#444">"+err \u2212err" columns: {caption}</span>')
+        self.note.object = "<br>".join(notes)
         self.table.value = observability_frame(d)
         self._sync_table()
 

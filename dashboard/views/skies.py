@@ -15,7 +15,8 @@ from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span
 from bokeh.palettes import Cividis256
 
 from . import palette
-from .common import add_hover, batched, calm_selection, empty_source, new_figure, watch_taps
+from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption, new_figure,
+                     span_texts, watch_taps)
 from .sky_from import SkyFromView
 
 #: above this many planets the values are no longer printed inside the cells
@@ -44,9 +45,13 @@ class SkiesView:
         matrix.xgrid.grid_line_color = matrix.ygrid.grid_line_color = None
         matrix.xaxis.major_label_text_font_size = matrix.yaxis.major_label_text_font_size = "12px"
         self.matrix = matrix
-        columns = ("observer", "body", "moon_ratio", "arcsec", "distance", "text", "text_colour")
+        columns = ("observer", "body", "moon_ratio", "arcsec", "distance", "text", "text_colour",
+                   "moon_range", "arcsec_range")
         self.sources = {"cells": empty_source(*columns), "row": empty_source("observer", "body"),
-                        "bars": empty_source("body", "moon_ratio", "arcsec", "distance", "colour")}
+                        "bars": empty_source("body", "moon_ratio", "arcsec", "distance", "colour",
+                                             "moon_range", "arcsec_range")}
+        #: tooltip lines added when there are Monte Carlo intervals
+        self.range_tooltips = [("16th\u201384th pct", "@moon_range x the Moon"), ("", "@arcsec_range arcsec")]
         s = self.sources
         cells = matrix.rect(x="body", y="observer", width=1, height=1, source=s["cells"], line_color="white",
                             fill_color={"field": "moon_ratio", "transform": self.mapper})
@@ -56,9 +61,10 @@ class SkiesView:
                           line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, source=s["row"])
         calm_selection(cells)
         calm_selection(row)
-        add_hover(matrix, [cells], [("observer", "@observer"), ("body", "@body"),
-                                    ("largest diameter", "@moon_ratio{0.000} x the Moon from Earth"),
-                                    ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")])
+        self.cell_tooltips = [("observer", "@observer"), ("body", "@body"),
+                              ("largest diameter", "@moon_ratio{0.000} x the Moon from Earth"),
+                              ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")]
+        self.cell_hover = add_hover(matrix, [cells], self.cell_tooltips)
         matrix.add_layout(ColorBar(color_mapper=self.mapper, title="x Moon's diameter from Earth",
                                    title_text_font_size="11px", width=12), "right")
         watch_taps(s["cells"], self._pick)
@@ -74,8 +80,12 @@ class SkiesView:
         bars.add_layout(Span(location=1.0, dimension="width", line_color="#555555", line_dash="dashed"))
         bars.add_layout(Label(x=4, y=1.0, x_units="screen", text="the Moon from Earth", text_font_size="11px",
                               text_color="#555555", y_offset=3))
-        add_hover(bars, [bar], [("body", "@body"), ("largest diameter", "@moon_ratio{0.000} x the Moon"),
-                                ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")])
+        self.bar_tooltips = [("body", "@body"), ("largest diameter", "@moon_ratio{0.000} x the Moon"),
+                             ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")]
+        self.bar_hover = add_hover(bars, [bar], self.bar_tooltips)
+        self.error_note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
+                                text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
+        bars.add_layout(self.error_note)
         self.sky_from = SkyFromView(app)
         app.param.watch(self.update, "derived")
         app.param.watch(self._observer, "selected")
@@ -105,7 +115,12 @@ class SkiesView:
             "observer": list(sk["observer"]), "body": list(sk["body"]), "moon_ratio": ratio,
             "arcsec": sk["max_angular_diameter_arcsec"], "distance": sk["closest_distance_au"],
             "text": [f"{v:.2g}" if show_text else "" for v in ratio],
-            "text_colour": _cell_text_colour(ratio, low, high)}
+            "text_colour": _cell_text_colour(ratio, low, high), **self._range_columns(d, slice(None))}
+        ranged = bool(d.intervals)
+        self.cell_hover.tooltips = self.cell_tooltips + (self.range_tooltips if ranged else [])
+        self.bar_hover.tooltips = self.bar_tooltips + (self.range_tooltips if ranged else [])
+        caption = interval_caption(d)
+        self.error_note.text = f"ranges in the tooltips: {caption}" if caption else ""
         self._observer()
 
     @batched
@@ -123,9 +138,18 @@ class SkiesView:
         self.sources["bars"].data = {
             "body": bodies, "moon_ratio": np.asarray(sk["moon_ratio"], dtype=float)[rows],
             "arcsec": np.asarray(sk["max_angular_diameter_arcsec"])[rows],
-            "distance": np.asarray(sk["closest_distance_au"])[rows], "colour": colours}
+            "distance": np.asarray(sk["closest_distance_au"])[rows], "colour": colours,
+            **self._range_columns(d, rows)}
         self.bars.title.text = (f"In the sky of planet {chosen}: largest apparent diameters (closest approach)"
                                 if rows.size else "Pick a planet to see its sky")
+
+    @staticmethod
+    def _range_columns(d, rows) -> dict:
+        """"lo\u2013hi" texts of the moon ratio and the arcseconds for ``rows`` (blank without draws)."""
+        moon, arcsec = interval(d, "skies", "moon_ratio"), interval(d, "skies", "max_angular_diameter_arcsec")
+        count = len(np.asarray(d.skies["observer"])[rows])
+        return {"moon_range": span_texts(moon[0][rows], moon[1][rows], 3) if moon else [""] * count,
+                "arcsec_range": span_texts(arcsec[0][rows], arcsec[1][rows], 4) if arcsec else [""] * count}
 
     def panel(self):
         return pn.Column(pn.pane.Bokeh(self.matrix, sizing_mode="stretch_width"),

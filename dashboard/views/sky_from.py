@@ -182,10 +182,11 @@ class TimePlayer:
 
     def __init__(self, app):
         self.app = app
-        self.step = pn.widgets.FloatInput(name="Step [d]", value=DEFAULT_STEP_D, start=1e-4, end=1e4, width=110)
-        self.back = pn.widgets.Button(name="\u25c0 step", width=80)
-        self.forward = pn.widgets.Button(name="step \u25b6", width=80)
-        self.play = pn.widgets.Toggle(name="play", width=80)
+        self.step = pn.widgets.FloatInput(name="Step of the time buttons [d]", value=DEFAULT_STEP_D,
+                                          start=1e-4, end=1e4, width=150)
+        self.back = pn.widgets.Button(name="\u25c0 step", width=78)
+        self.forward = pn.widgets.Button(name="step \u25b6", width=78)
+        self.play = pn.widgets.Toggle(name="play", width=78)
         self.back.on_click(lambda _: self.advance(-1))
         self.forward.on_click(lambda _: self.advance(+1))
         self.play.param.watch(self._toggle, "value")
@@ -202,4 +203,4 @@ class TimePlayer:
             self._callback = None
 
     def panel(self):
-        return pn.Row(self.back, self.play, self.forward, self.step, align="end")
+        return pn.Column(pn.Row(self.back, self.play, self.forward), self.step)
