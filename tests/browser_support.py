@@ -15,6 +15,11 @@
 from __future__ import annotations
 
 import os
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -133,3 +138,40 @@ def screenshot(page, name: str) -> Path:
     path = ARTIFACTS / name
     page.screenshot(path=str(path), full_page=True)
     return path
+
+
+def free_port() -> int:
+    with socket.socket() as probe:
+        probe.bind(("127.0.0.1", 0))
+        return probe.getsockname()[1]
+
+
+@contextmanager
+def served(tmp_path: Path, *arguments: str):
+    """Run ``orbitdeck serve`` in a subprocess; yields the page URL; stops the server afterwards."""
+    port = free_port()
+    log = open(tmp_path / f"serve-{port}.log", "w+")
+    server = subprocess.Popen([sys.executable, "-m", "orbitdeck.dashboard.serve", *arguments, "--no-show",
+                               "--port", str(port)], stdout=log, stderr=subprocess.STDOUT)
+    try:
+        deadline = time.monotonic() + 90
+        while True:
+            if server.poll() is not None:
+                log.seek(0)
+                raise RuntimeError(f"orbitdeck serve exited with {server.returncode}: {log.read()}")
+            try:  # a static file answers once the server listens, without opening a session
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
+                    break
+            except OSError:
+                if time.monotonic() > deadline:
+                    raise
+                time.sleep(0.3)
+        yield f"http://127.0.0.1:{port}/orbitdeck"
+    finally:
+        server.terminate()
+        try:
+            server.wait(timeout=15)
+        except subprocess.TimeoutExpired:
+            server.kill()
+            server.wait()
+        log.close()

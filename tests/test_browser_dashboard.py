@@ -10,16 +10,12 @@ exercised. Values shown are compared with ``derive()``.
 from __future__ import annotations
 
 import contextlib
-import socket
-import subprocess
-import sys
 import time
-import urllib.request
 from pathlib import Path
 
 import pytest
 
-from browser_support import chromium, open_page, screenshot
+from browser_support import chromium, open_page, screenshot, served
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -30,43 +26,6 @@ VIEWPORT = {"width": 1500, "height": 1100}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "text_colour", "Period ladder": "delta_text",
                   "Flux & temperature": "teq", "Observability": "tsm"}
-
-
-def free_port() -> int:
-    with socket.socket() as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
-@contextlib.contextmanager
-def served(tmp_path: Path, *arguments: str):
-    """Run ``orbitdeck serve`` in a subprocess; yields the page URL; stops the server afterwards."""
-    port = free_port()
-    log = open(tmp_path / f"serve-{port}.log", "w+")
-    server = subprocess.Popen([sys.executable, "-m", "orbitdeck.dashboard.serve", *arguments, "--no-show",
-                               "--port", str(port)], stdout=log, stderr=subprocess.STDOUT)
-    try:
-        deadline = time.monotonic() + 90
-        while True:
-            if server.poll() is not None:
-                log.seek(0)
-                raise RuntimeError(f"orbitdeck serve exited with {server.returncode}: {log.read()}")
-            try:  # a static file answers once the server listens, without opening a session
-                with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
-                    break
-            except OSError:
-                if time.monotonic() > deadline:
-                    raise
-                time.sleep(0.3)
-        yield f"http://127.0.0.1:{port}/orbitdeck"
-    finally:
-        server.terminate()
-        try:
-            server.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait()
-        log.close()
 
 
 @pytest.fixture(scope="module")

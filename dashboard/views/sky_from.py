@@ -87,8 +87,8 @@ class SkyFromView:
                  source=self.sources["discs"])
         sky.circle(x="x", y="y", radius="radius", fill_alpha=0, line_color="#555555", line_dash="dashed",
                    source=self.sources["moon"])
-        self.moon_label = Label(x=0, y=0, text="the Moon from Earth, to scale", text_font_size="10px",
-                                text_color="#555555")
+        self.moon_label = Label(x=0, y=0, text="dashed: the Moon from Earth, to scale", text_font_size="10px",
+                                text_color="#555555", text_align="center", text_baseline="top")
         sky.add_layout(self.moon_label)
         for renderer in (discs, marks):
             calm_selection(renderer)
@@ -139,7 +139,7 @@ class SkyFromView:
         side = -1.0 if np.sum(longitude[1:] > 0) > np.sum(longitude[1:] < 0) else 1.0
         moon_x = side * (now["angular_diameter_arcsec"][0] / 7200.0 + MOON_DEG)
         self.sources["moon"].data = {"x": [moon_x], "y": [0.0], "radius": [MOON_DEG / 2.0]}
-        self.moon_label.update(x=moon_x - 0.5 * MOON_DEG, y=MOON_DEG * 0.7)
+        self.moon_label.update(x=moon_x, y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0) - 0.3)
         self.sky.title.text = (f"The sky of planet {observer} at BJD_TDB {time:.4f} "
                                "(discs to scale; hover for phase and brightness)")
 
