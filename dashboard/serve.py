@@ -15,6 +15,8 @@ import argparse
 import socket
 import sys
 
+from .sharing import origins_argument
+
 HOST = "127.0.0.1"
 DEFAULT_PORT = 5006
 #: how many ports above the default are tried before giving up
@@ -71,7 +73,7 @@ def session_factory(system):
     return make_app
 
 
-def serve(path_or_none=None, port: int | None = None, show: bool = True) -> int:
+def serve(path_or_none=None, port: int | None = None, show: bool = True, share: list[str] | None = None) -> int:
     """Serve the dashboard of a system file (the bundled demo when None) until interrupted.
 
     Parameters
@@ -82,6 +84,9 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True) -> int:
         Port on 127.0.0.1; by default 5006 or the next free one.
     show : bool
         Open the page in the default web browser.
+    share : list of str, optional
+        ``host:port`` origins allowed to open sessions; when given, the
+        server listens on every interface (see :mod:`orbitdeck.dashboard.sharing`).
 
     Returns
     -------
@@ -108,12 +113,21 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True) -> int:
 
     importlib.import_module(".app", __package__)  # imported now, so that the first page opens as fast as the next
 
+    from .sharing import share_notice, share_settings
+
+    try:
+        settings = share_settings(list(share or []), port)
+    except ValueError as error:
+        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     url = f"http://{HOST}:{port}/{ROUTE}"
     print(f"orbitdeck: serving {system.name!r} at {url} (Ctrl+C to stop)", flush=True)
+    notice = share_notice(settings, ROUTE)
+    if notice:
+        print(notice, flush=True)
     try:
-        pn.serve({ROUTE: session_factory(system)}, port=port, address=HOST, show=show, start=True,
-                 title="orbitdeck", websocket_origin=[f"{HOST}:{port}", f"localhost:{port}"],
-                 threaded=False, verbose=False)
+        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title="orbitdeck",
+                 threaded=False, verbose=False, **settings)
     except KeyboardInterrupt:
         pass
     return 0
@@ -121,7 +135,7 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True) -> int:
 
 def run(args) -> int:
     """The ``serve`` subcommand (argparse namespace -> exit code)."""
-    return serve(args.file, port=args.port, show=not args.no_show)
+    return serve(args.file, port=args.port, show=not args.no_show, share=args.share)
 
 
 def _port(text: str) -> int:
@@ -141,6 +155,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--port", type=_port, default=None, metavar="N",
                         help=f"port on {HOST} (default {DEFAULT_PORT}, or the next free one)")
     parser.add_argument("--no-show", action="store_true", help="do not open a web browser")
+    parser.add_argument("--share", type=origins_argument, default=None, metavar="HOST:PORT[,HOST:PORT...]",
+                        help="let browsers at these origins open sessions: listens on every interface, with no "
+                             "log-in; only on a trusted network (a caution is printed)")
     parser.set_defaults(run=run)
 
 
