@@ -41,6 +41,23 @@ def batched(method):
     return wrapper
 
 
+def when_shown(method):
+    """Defer a view's update while its tab is hidden in a served page.
+
+    The deferred call is kept (once per method) in ``app.stale_updates`` and
+    runs when the tab is shown; in a notebook, a snapshot or a test every
+    view updates at once.
+    """
+    @functools.wraps(method)
+    def wrapper(self, *args, **kwargs):
+        if self.app.tab_hidden(self.title):
+            self.app.stale_updates.setdefault(self.title, {})[method.__name__] = functools.partial(wrapper, self)
+            return None
+        return method(self, *args, **kwargs)
+
+    return wrapper
+
+
 def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
     """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
     options.setdefault("height", 420)

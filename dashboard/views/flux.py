@@ -20,7 +20,8 @@ from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
-                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps)
+                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps,
+                     when_shown)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -139,6 +140,7 @@ class FluxView:
         if row < len(names):
             self.app.selected = str(names[row])
 
+    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived

@@ -23,8 +23,8 @@ from orbitdeck.models import ephemeris
 from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
-from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption, new_figure,
-                     watch_taps)
+from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
+                     new_figure, watch_taps, when_shown)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -144,6 +144,7 @@ class LayoutView:
         self.hill.visible = bool(self.app.show_hill)
 
     # -- data ----------------------------------------------------------------
+    @when_shown
     @batched
     def update(self, *_):
         """Redraw from the app's current derived state (data replaced in place)."""

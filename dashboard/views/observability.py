@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     link_table_selection, new_figure, table_widget, watch_taps)
+                     link_table_selection, new_figure, table_widget, watch_taps, when_shown)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -71,6 +71,7 @@ class ObservabilityView:
         if row < len(names):
             self.app.selected = str(names[row])
 
+    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived

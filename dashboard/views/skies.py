@@ -15,8 +15,8 @@ from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span
 from bokeh.palettes import Cividis256
 
 from . import palette
-from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption, new_figure,
-                     span_texts, watch_taps)
+from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
+                     new_figure, span_texts, watch_taps, when_shown)
 from .sky_from import SkyFromView
 
 #: above this many planets the values are no longer printed inside the cells
@@ -96,6 +96,7 @@ class SkiesView:
         if row < len(observers):
             self.app.selected = str(observers[row])
 
+    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived
