@@ -142,3 +142,36 @@ def test_hostile_names_run_nothing_in_the_page(tmp_path, hostile_system):
     assert owned is None and owned_after_hover is None and dialogs == []
     assert system_name_shown  # shown as text
     assert log.page_errors == []
+
+
+def test_the_dashboard_downloads_a_snapshot_of_its_current_state():
+    from orbitdeck.dashboard.app import OrbitDeckApp
+
+    app = OrbitDeckApp(load_system(demo_path()))
+    app.system.star.mass = 0.125          # an edit made in the session
+    app.time = app.system.epoch + 2.5
+    page = app.controls._snapshot().getvalue().decode("utf-8")
+    kept = loads_system(extract_system_text(page).encode(), "downloaded")
+    assert kept.star.mass == 0.125
+    assert f"BJD_TDB {app.time:.5f}" in page
+    assert "edited in the dashboard" in page
+
+
+@pytest.mark.browser
+def test_the_served_page_downloads_a_working_snapshot(tmp_path):
+    from browser_support import open_page, served
+
+    with served(tmp_path) as url, chromium() as browser:
+        with open_page(browser, (url.rsplit("/", 1)[0],)) as (page, log):
+            page.goto(url)
+            page.wait_for_selector(".bk-Canvas", timeout=60_000)
+            with page.expect_download(timeout=60_000) as download:
+                page.get_by_text("Download a snapshot of this state", exact=False).first.click()
+            saved = tmp_path / download.value.suggested_filename
+            download.value.save_as(saved)
+        assert log.console_errors == [] and log.page_errors == []
+        with offline_page(browser) as (offline, offline_log):
+            offline.goto(saved.as_uri())
+            offline.wait_for_selector(".bk-Canvas", timeout=30_000)
+            assert offline_log.problems() == []
+    assert extract_system_text(saved.read_text()).startswith('format = "orbitdeck-system/1"')

@@ -95,6 +95,9 @@ class Controls:
         self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",
                                                 label="Download the edited system file", color="primary",
                                                 width=WIDGET_WIDTH)
+        self.snapshot = pn.widgets.FileDownload(callback=self._snapshot, filename="snapshot.html",
+                                                label="Download a snapshot of this state (HTML)",
+                                                width=WIDGET_WIDTH)
         self.star_entries = {f: entry(label=label) for f, label, _, _ in STAR_ENTRIES}
         self.star_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.albedo = pn.widgets.FloatSlider(label="Bond albedo A", start=0.0, end=0.99, step=0.01,
@@ -171,6 +174,7 @@ class Controls:
             self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
             self.time_entry.value = entry_text(app.time)
             self.download.filename = file_name_for(system.name)
+            self.snapshot.filename = file_name_for(system.name)[:-5] + "_snapshot.html"
         finally:
             self._quiet = False
 
@@ -327,12 +331,22 @@ class Controls:
     def _download(self):
         return io.BytesIO(dumps_system(self.app.system).encode("utf-8"))
 
+    def _snapshot(self):
+        """The offline snapshot of the session's current state (edits, time and draws included)."""
+        from orbitdeck.dashboard.snapshot import render_snapshot
+
+        app = self.app
+        text = dumps_system(app.system).encode("utf-8")
+        page = render_snapshot(app.system, "edited in the dashboard", text, time=app.time,
+                               samples=app.draws, seed=app.seed if app.draws else None)
+        return io.BytesIO(page.encode("utf-8"))
+
     # -- layout ------------------------------------------------------------------
     def panel(self):
         card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
         return pn.Column(
             card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
-                 self.file_message, self.download, title="System file"),
+                 self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
             card(self.planet_select, *self.planet_entries.values(), self.eccentricity, self.planet_message,
