@@ -53,9 +53,6 @@ class OrbitDeckApp(param.Parameterized):
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
-        # in a served page, views of hidden tabs skip their updates until shown (views.common.when_shown)
-        self.lazy_tabs = False
-        self.stale_updates: dict[str, dict] = {}
         self.views = {cls.title: cls(self) for cls in VIEW_CLASSES}
         self.controls = Controls(self)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
@@ -67,7 +64,6 @@ class OrbitDeckApp(param.Parameterized):
         self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.tabs = pn.Tabs(*((title, view.panel()) for title, view in self.views.items()),
                             sizing_mode="stretch_width", dynamic=True)
-        self.tabs.param.watch(self._on_tab, "active")
         self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = self.controls.panel()
         self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
@@ -149,22 +145,8 @@ class OrbitDeckApp(param.Parameterized):
         return f"{self.system.name} \u2013 orbitdeck"
 
     # -- pages -------------------------------------------------------------------
-    def tab_hidden(self, title: str) -> bool:
-        """True when the tab ``title`` is not shown and its views may wait (served pages only)."""
-        return self.lazy_tabs and list(self.views)[self.tabs.active] != title
-
-    def _on_tab(self, event) -> None:
-        """Bring the views of a newly shown tab up to date."""
-        for update in self.stale_updates.pop(list(self.views)[event.new], {}).values():
-            update()
-
     def page(self) -> pn.template.BaseTemplate:
-        """The served page: a plain template whose resources all come from the local server.
-
-        Only the shown tab's views follow each change at once; the others catch
-        up when their tab is opened, which keeps a change cheap on the server.
-        """
-        self.lazy_tabs = True
+        """The served page: a plain template whose resources all come from the local server."""
         template = PlainTemplate(title=self._document_title(), header=[self.header_name, self._title_holder],
                                  sidebar=[self.sidebar], main=[self.main], sidebar_width=SIDEBAR_WIDTH,
                                  header_background="#2d3a4a")

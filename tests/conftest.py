@@ -52,3 +52,21 @@ def row(table, name, key="name"):
 def row_of():
     """The :func:`row` helper."""
     return row
+
+
+@pytest.fixture(scope="module")
+def browser():
+    """Headless Chromium shared by the browser tests of one module."""
+    from browser_support import chromium
+
+    with chromium() as b:
+        yield b
+
+
+@pytest.fixture(scope="module")
+def demo_url(tmp_path_factory):
+    """URL of ``orbitdeck serve`` on the default demo, run in a subprocess for one module."""
+    from browser_support import served
+
+    with served(tmp_path_factory.mktemp("serve")) as url:
+        yield url

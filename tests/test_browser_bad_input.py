@@ -23,7 +23,6 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
-from browser_support import served
 from test_browser_hostile import dashboard, show, wait_for
 
 pytestmark = pytest.mark.browser
@@ -41,20 +40,6 @@ INVALID = {
     "0": "must be >",
     "": "a value is needed",
 }
-
-
-@pytest.fixture(scope="module")
-def browser():
-    from browser_support import chromium
-
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture(scope="module")
-def demo_url(tmp_path_factory):
-    with served(tmp_path_factory.mktemp("serve")) as url:
-        yield url
 
 
 def cells(page, field: str) -> list[str]:

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from browser_support import chromium, open_page, screenshot, served
+from browser_support import open_page, screenshot, served
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -26,18 +26,6 @@ VIEWPORT = {"width": 1500, "height": 1100}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "text_colour", "Period ladder": "delta_text",
                   "Flux & temperature": "teq", "Observability": "tsm"}
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture(scope="module")
-def demo_url(tmp_path_factory):
-    with served(tmp_path_factory.mktemp("serve")) as url:
-        yield url
 
 
 @contextlib.contextmanager

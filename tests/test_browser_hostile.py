@@ -23,7 +23,7 @@ from pathlib import Path
 
 import pytest
 
-from browser_support import chromium, open_page, screenshot, served
+from browser_support import open_page, screenshot, served
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
 
@@ -172,12 +172,6 @@ def hover_everything(page) -> set[str]:
         look()
     page.mouse.move(1, 1)
     return seen
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with chromium() as b:
-        yield b
 
 
 @pytest.fixture(scope="module")

@@ -67,7 +67,7 @@ def test_flux_error_bars_are_the_insolation_intervals(app):
     np.testing.assert_array_equal(data["upper"], hi)
     np.testing.assert_array_equal(data["R"], app.derived.planets["radius_rearth"])
     table = flux.table.value
-    s, (t_lo, t_hi) = app.derived.planets["insolation_earth"], app.derived.intervals["planets"]["teq_k"]
+    s, (_, t_hi) = app.derived.planets["insolation_earth"], app.derived.intervals["planets"]["teq_k"]
     first = table["S err (16\u201384%)"].iloc[0]
     plus, minus = first.split(" ")
     assert float(plus[1:]) == pytest.approx(hi[0] - s[0], rel=2e-3)
@@ -125,7 +125,7 @@ def test_skies_and_observability_show_ranges(app):
     table = app.views["Observability"].table.value
     for column in ("depth", "T14", "TSM", "K"):
         assert f"{column} err (16\u201384%)" in table.columns
-    k, (k_lo, k_hi) = app.derived.planets["rv_semi_amplitude_ms"], app.derived.intervals["planets"][
+    k, (k_lo, _) = app.derived.planets["rv_semi_amplitude_ms"], app.derived.intervals["planets"][
         "rv_semi_amplitude_ms"]
     assert float(table["K err (16\u201384%)"].iloc[0].split(" ")[1][1:]) == pytest.approx(k[0] - k_lo[0], rel=2e-3)
 

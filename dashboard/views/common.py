@@ -41,23 +41,6 @@ def batched(method):
     return wrapper
 
 
-def when_shown(method):
-    """Defer a view's update while its tab is hidden in a served page.
-
-    The deferred call is kept (once per method) in ``app.stale_updates`` and
-    runs when the tab is shown; in a notebook, a snapshot or a test every
-    view updates at once.
-    """
-    @functools.wraps(method)
-    def wrapper(self, *args, **kwargs):
-        if self.app.tab_hidden(self.title):
-            self.app.stale_updates.setdefault(self.title, {})[method.__name__] = functools.partial(wrapper, self)
-            return None
-        return method(self, *args, **kwargs)
-
-    return wrapper
-
-
 def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
     """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
     options.setdefault("height", 420)
@@ -93,8 +76,8 @@ def calm_selection(renderer) -> None:
     renderer.muted_glyph = None
 
 
-def watch_taps(source: ColumnDataSource, pick) -> None:
-    """Call ``pick(row)`` when the user taps a glyph of ``source``.
+def watch_taps(source: ColumnDataSource, app, column: str = "name") -> None:
+    """Select the planet named in ``column`` of the glyph of ``source`` the user taps.
 
     The selection is cleared again right away so that tapping the same glyph
     a second time (after choosing another planet elsewhere) still counts.
@@ -103,7 +86,9 @@ def watch_taps(source: ColumnDataSource, pick) -> None:
         if new:
             row = int(new[0])
             source.selected.indices = []
-            pick(row)
+            names = source.data[column]
+            if row < len(names):
+                app.selected = str(names[row])
 
     source.selected.on_change("indices", changed)
 

@@ -20,8 +20,7 @@ from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
-                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps,
-                     when_shown)
+                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -127,7 +126,7 @@ class FluxView:
         self.range_tooltips = [("S 16th\u201384th pct", "@S_range S_earth"),
                                ("Teq 16th\u201384th pct", "@teq_range K")]
         self.hover = add_hover(fig, [points], self.base_tooltips)
-        watch_taps(s, self._pick)
+        watch_taps(s, app)
         self.table = table_widget({}, formats=TABLE_FORMATS, height=300)
         self._sync_table = link_table_selection(self.table, app, lambda: list(self.table.value["planet"])
                                                 if "planet" in self.table.value else [])
@@ -135,12 +134,6 @@ class FluxView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
-    def _pick(self, row: int) -> None:
-        names = self.sources["planets"].data["name"]
-        if row < len(names):
-            self.app.selected = str(names[row])
-
-    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived

@@ -21,7 +21,7 @@ from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, table_widget, when_shown)
+                     new_figure, span_texts, table_widget)
 
 #: rung styles by order: (dash, colour, width)
 RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
@@ -122,7 +122,6 @@ class LadderView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
-    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived

@@ -24,7 +24,7 @@ from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, watch_taps, when_shown)
+                     new_figure, watch_taps)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -126,7 +126,7 @@ class LayoutView:
         self.note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
                           text_color="#444444", background_fill_color="white", background_fill_alpha=0.7)
         fig.add_layout(self.note)
-        watch_taps(s["planets"], self._pick)
+        watch_taps(s["planets"], app)
         app.param.watch(self.update, ["derived", "elements", "time", "reference"])
         app.param.watch(self._show_hill, "show_hill")
         app.param.watch(self._highlight, "selected")
@@ -134,17 +134,11 @@ class LayoutView:
         self._show_hill()
 
     # -- user actions --------------------------------------------------------
-    def _pick(self, row: int) -> None:
-        names = self.sources["planets"].data["name"]
-        if row < len(names):
-            self.app.selected = str(names[row])
-
     @batched
     def _show_hill(self, *_):
         self.hill.visible = bool(self.app.show_hill)
 
     # -- data ----------------------------------------------------------------
-    @when_shown
     @batched
     def update(self, *_):
         """Redraw from the app's current derived state (data replaced in place)."""

@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     link_table_selection, new_figure, table_widget, watch_taps, when_shown)
+                     link_table_selection, new_figure, table_widget, watch_taps)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -57,7 +57,7 @@ class ObservabilityView:
         calm_selection(bars)
         add_hover(fig, [bars], [("planet", "@name"), ("TSM", "@tsm{0.00}"), ("ESM", "@esm{0.00}"),
                                 ("transit depth", "@depth{0} ppm")])
-        watch_taps(s, self._pick)
+        watch_taps(s, app)
         self.note = pn.pane.HTML("", styles={"color": "#8a2d00"})
         self.table = table_widget({}, formats=TABLE_FORMATS, height=300)
         self._sync_table = link_table_selection(self.table, app, lambda: list(self.table.value["planet"])
@@ -66,12 +66,6 @@ class ObservabilityView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
-    def _pick(self, row: int) -> None:
-        names = self.sources["bars"].data["name"]
-        if row < len(names):
-            self.app.selected = str(names[row])
-
-    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived

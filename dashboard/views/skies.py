@@ -16,7 +16,7 @@ from bokeh.palettes import Cividis256
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, watch_taps, when_shown)
+                     new_figure, span_texts, watch_taps)
 from .sky_from import SkyFromView
 
 #: above this many planets the values are no longer printed inside the cells
@@ -67,7 +67,7 @@ class SkiesView:
         self.cell_hover = add_hover(matrix, [cells], self.cell_tooltips)
         matrix.add_layout(ColorBar(color_mapper=self.mapper, title="x Moon's diameter from Earth",
                                    title_text_font_size="11px", width=12), "right")
-        watch_taps(s["cells"], self._pick)
+        watch_taps(s["cells"], app, "observer")
 
         bars = new_figure("", "body seen", "largest apparent diameter [Moon diameters from Earth]",
                           height=340, x_range=FactorRange())
@@ -91,12 +91,6 @@ class SkiesView:
         app.param.watch(self._observer, "selected")
         self.update()
 
-    def _pick(self, row: int) -> None:
-        observers = self.sources["cells"].data["observer"]
-        if row < len(observers):
-            self.app.selected = str(observers[row])
-
-    @when_shown
     @batched
     def update(self, *_):
         d = self.app.derived
