@@ -146,6 +146,35 @@ def free_port() -> int:
         return probe.getsockname()[1]
 
 
+def wait_until_serving(process, port: int, log, timeout: float = 90.0) -> None:
+    """Poll until a server on 127.0.0.1:``port`` answers (a static file, so no session opens).
+
+    Raises RuntimeError with the server's log when the process ends first.
+    """
+    deadline = time.monotonic() + timeout
+    while True:
+        if process.poll() is not None:
+            log.seek(0)
+            raise RuntimeError(f"the server exited with {process.returncode}: {log.read()}")
+        try:
+            with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
+                return
+        except OSError:
+            if time.monotonic() > deadline:
+                raise
+            time.sleep(0.3)
+
+
+def stop(process) -> None:
+    """Terminate a server process, killing it if it does not end within 15 s."""
+    process.terminate()
+    try:
+        process.wait(timeout=15)
+    except subprocess.TimeoutExpired:
+        process.kill()
+        process.wait()
+
+
 @contextmanager
 def served(tmp_path: Path, *arguments: str):
     """Run ``orbitdeck serve`` in a subprocess; yields the page URL; stops the server afterwards."""
@@ -154,24 +183,8 @@ def served(tmp_path: Path, *arguments: str):
     server = subprocess.Popen([sys.executable, "-m", "orbitdeck.dashboard.serve", *arguments, "--no-show",
                                "--port", str(port)], stdout=log, stderr=subprocess.STDOUT)
     try:
-        deadline = time.monotonic() + 90
-        while True:
-            if server.poll() is not None:
-                log.seek(0)
-                raise RuntimeError(f"orbitdeck serve exited with {server.returncode}: {log.read()}")
-            try:  # a static file answers once the server listens, without opening a session
-                with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
-                    break
-            except OSError:
-                if time.monotonic() > deadline:
-                    raise
-                time.sleep(0.3)
+        wait_until_serving(server, port, log)
         yield f"http://127.0.0.1:{port}/orbitdeck"
     finally:
-        server.terminate()
-        try:
-            server.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait()
+        stop(server)
         log.close()

@@ -17,11 +17,10 @@ import os
 import socket
 import subprocess
 import sys
-import time
-import urllib.request
 
 import pytest
 
+from browser_support import stop, wait_until_serving
 from orbitdeck.dashboard.sharing import (SHARE_CAUTION, normalise_origin, origins_argument, share_notice,
                                          share_settings, split_origins)
 
@@ -153,26 +152,10 @@ def server(tmp_path, origins: list[str]):
     process = subprocess.Popen([sys.executable, "-c", SERVER, str(port), ",".join(origins)],
                                stdout=log, stderr=subprocess.STDOUT, env={**os.environ, "PYTHONUNBUFFERED": "1"})
     try:
-        deadline = time.monotonic() + 60
-        while True:
-            if process.poll() is not None:
-                log.seek(0)
-                raise RuntimeError(f"the server exited with {process.returncode}: {log.read()}")
-            try:
-                with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
-                    break
-            except OSError:
-                if time.monotonic() > deadline:
-                    raise
-                time.sleep(0.3)
+        wait_until_serving(process, port, log, timeout=60)
         yield port
     finally:
-        process.terminate()
-        try:
-            process.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            process.kill()
-            process.wait()
+        stop(process)
         log.close()
 
 

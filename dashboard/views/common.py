@@ -180,3 +180,14 @@ def span_texts(lo, hi, digits: int = 4) -> list[str]:
     """"lo\u2013hi" of each interval; a dash where missing."""
     return ["\u2014" if not (math.isfinite(a) and math.isfinite(b)) else f"{fmt(a, digits)}\u2013{fmt(b, digits)}"
             for a, b in zip(as_floats(lo), as_floats(hi))]
+
+
+def planet_table(app, formats: dict, height: int = 300):
+    """A table with one row per planet (column "planet"), its selection linked to ``app.selected``.
+
+    Returns the table and the function that re-applies the selection after
+    the view has replaced the rows.
+    """
+    table = table_widget({}, formats=formats, height=height)
+    sync = link_table_selection(table, app, lambda: list(table.value["planet"]) if "planet" in table.value else [])
+    return table, sync

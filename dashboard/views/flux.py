@@ -20,7 +20,7 @@ from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
-                     link_table_selection, new_figure, range_texts, span_texts, table_widget, watch_taps)
+                     new_figure, planet_table, range_texts, span_texts, watch_taps)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -127,9 +127,7 @@ class FluxView:
                                ("Teq 16th\u201384th pct", "@teq_range K")]
         self.hover = add_hover(fig, [points], self.base_tooltips)
         watch_taps(s, app)
-        self.table = table_widget({}, formats=TABLE_FORMATS, height=300)
-        self._sync_table = link_table_selection(self.table, app, lambda: list(self.table.value["planet"])
-                                                if "planet" in self.table.value else [])
+        self.table, self._sync_table = planet_table(app, TABLE_FORMATS)
         app.param.watch(self.update, "derived")
         app.param.watch(self._highlight, "selected")
         self.update()

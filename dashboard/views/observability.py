@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     link_table_selection, new_figure, table_widget, watch_taps)
+                     new_figure, planet_table, watch_taps)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -59,9 +59,7 @@ class ObservabilityView:
                                 ("transit depth", "@depth{0} ppm")])
         watch_taps(s, app)
         self.note = pn.pane.HTML("", styles={"color": "#8a2d00"})
-        self.table = table_widget({}, formats=TABLE_FORMATS, height=300)
-        self._sync_table = link_table_selection(self.table, app, lambda: list(self.table.value["planet"])
-                                                if "planet" in self.table.value else [])
+        self.table, self._sync_table = planet_table(app, TABLE_FORMATS)
         app.param.watch(self.update, "derived")
         app.param.watch(self._highlight, "selected")
         self.update()

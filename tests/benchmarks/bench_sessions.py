@@ -34,14 +34,16 @@ import itertools
 import os
 import random
 import re
-import socket
 import statistics
 import subprocess
 import sys
 import tempfile
 import threading
 import time
-import urllib.request
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from browser_support import free_port, stop, wait_until_serving  # noqa: E402
 
 TARGET_P95_MS = 500.0
 TARGET_MEMORY_RETURN = 0.10
@@ -97,12 +99,6 @@ def cpu_seconds(pid: int) -> float:
     return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
 
 
-def free_port() -> int:
-    with socket.socket() as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
 def start_server(args, log):
     port = free_port()
     # INFO lines of Bokeh (connections) and Panel (sessions created, rendered, destroyed) go to the log
@@ -114,18 +110,7 @@ def start_server(args, log):
         command = [sys.executable, "-m", "orbitdeck.dashboard.serve", *([args.file] if args.file else []),
                    "--no-show", "--port", str(port)]
     server = subprocess.Popen(command, stdout=log, stderr=subprocess.STDOUT, env=env)
-    deadline = time.monotonic() + 90
-    while True:
-        if server.poll() is not None:
-            log.seek(0)
-            raise SystemExit(f"the server exited with {server.returncode}: {log.read()}")
-        try:
-            with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
-                break
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.3)
+    wait_until_serving(server, port, log)
     return server, port
 
 
@@ -451,12 +436,7 @@ def main(argv=None) -> int:
               f"~{args.interval:g} s, measured on the {args.tab} view; {args.waves} wave(s)")
         results = [run_wave(args, url, server.pid, log.name, wave) for wave in range(1, args.waves + 1)]
     finally:
-        server.terminate()
-        try:
-            server.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait()
+        stop(server)
         log.close()
     for wave, result in enumerate(results, 1):
         report(result, start_rss, wave)
