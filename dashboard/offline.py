@@ -364,7 +364,9 @@ def render_offline(layout, title: str, extra_head: str = "") -> tuple[str, Offli
     (str, OfflineReport)
         The page text and what was inlined or dropped.
     """
+    from bokeh.document import Document
     from bokeh.resources import INLINE
+    from panel.io.state import set_curdoc
     from panel.template.base import BaseTemplate
 
     if isinstance(layout, BaseTemplate):
@@ -373,7 +375,10 @@ def render_offline(layout, title: str, extra_head: str = "") -> tuple[str, Offli
                         "ES modules, which browsers refuse from file://")
     t0 = time.perf_counter()
     buf = StringIO()
-    with _all_tabs_built(layout):
+    # Panel caches style sheets per current document: inside a served session
+    # the inline-mode sheets rendered here would land in the live page's cache
+    # (and send it to the CDN), so the render gets a document of its own.
+    with _all_tabs_built(layout), set_curdoc(Document()):
         layout.save(buf, title=str(title), resources=INLINE,
                     template_variables={"apple_icon": "", "app_favicon": ""})
     inliner = ResourceInliner()

@@ -56,6 +56,12 @@ class PageLog:
                 + [f"blocked request: {u}" for u in self.blocked_requests]
                 + [f"websocket: {u}" for u in self.websockets])
 
+    def problems_on_server(self, origin: str) -> list[str]:
+        """Like :meth:`problems`, for a served page: its websocket back to ``origin`` is expected."""
+        own_socket = origin.replace("http", "ws", 1)
+        return [line for line in self.problems()
+                if not (line.startswith("websocket: ") and line[len("websocket: "):].startswith(own_socket))]
+
 
 @contextmanager
 def chromium():

@@ -113,8 +113,7 @@ def dashboard(browser, url):
         page.wait_for_selector(".bk-Canvas", timeout=60_000)
         page.wait_for_function("() => window.Bokeh && Bokeh.documents.length > 0", timeout=30_000)
         yield page, log, dialogs
-        assert log.console_errors == [] and log.page_errors == [], log.problems()
-        assert log.blocked_requests == [], f"the page tried to leave the server: {log.blocked_requests}"
+        assert log.problems_on_server(origin) == []
         assert dialogs == [], dialogs
 
 

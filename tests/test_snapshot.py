@@ -160,14 +160,15 @@ def test_the_served_page_downloads_a_working_snapshot(tmp_path):
     from browser_support import open_page, served
 
     with served(tmp_path) as url, chromium() as browser:
-        with open_page(browser, (url.rsplit("/", 1)[0],)) as (page, log):
+        origin = url.rsplit("/", 1)[0]
+        with open_page(browser, (origin,)) as (page, log):
             page.goto(url)
             page.wait_for_selector(".bk-Canvas", timeout=60_000)
             with page.expect_download(timeout=60_000) as download:
                 page.get_by_text("Download a snapshot of this state", exact=False).first.click()
             saved = tmp_path / download.value.suggested_filename
             download.value.save_as(saved)
-        assert log.console_errors == [] and log.page_errors == []
+        assert log.problems_on_server(origin) == []
         with offline_page(browser) as (offline, offline_log):
             offline.goto(saved.as_uri())
             offline.wait_for_selector(".bk-Canvas", timeout=30_000)
