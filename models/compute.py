@@ -8,6 +8,9 @@ triples or observer-body skies. No Python loop runs over planets.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from functools import lru_cache
+
 import numpy as np
 
 from . import composition, dynamics, irradiation, observability, orbits, resonances, skies
@@ -15,6 +18,7 @@ from .constants import AU, DAY, GYR, HOUR, L_SUN, M_EARTH, M_SUN, R_EARTH, R_SUN
 from .inputs import Inputs
 
 
+@lru_cache(maxsize=16)
 def sky_rows(n_planets: int):
     """Observer and body indices of the sky table; body -1 is the star.
 
@@ -22,18 +26,49 @@ def sky_rows(n_planets: int):
     planet in period order. Also returns, per row, the index of the
     unordered planet pair in ``np.triu_indices(n_planets, 1)`` order (-1
     for the star), since a pair's closest distance is the same both ways.
+    The arrays are shared between calls and read-only.
     """
     observer = np.repeat(np.arange(n_planets), n_planets)
     body = np.tile(np.arange(-1, n_planets - 1), n_planets)
     body = np.where(body >= observer, body + 1, body)
-    pair_index = np.full((n_planets, n_planets), -1)
-    inner, outer = np.triu_indices(n_planets, 1)
-    pair_index[inner, outer] = pair_index[outer, inner] = np.arange(inner.size)
-    return observer, body, np.where(body < 0, -1, pair_index[observer, np.maximum(body, 0)])
+    low, high = np.minimum(observer, body), np.maximum(observer, body)
+    # position of (low, high), low < high, in triu_indices order
+    pair = low * (2 * n_planets - low - 1) // 2 + (high - low - 1)
+    pair = np.where(body < 0, -1, pair)
+    for array in (observer, body, pair):
+        array.flags.writeable = False
+    return observer, body, pair
 
 
-def compute(inp: Inputs) -> dict[str, np.ndarray]:
+@dataclass(frozen=True)
+class Anchor:
+    """Nominal choices that Monte Carlo draws are measured against.
+
+    ``pair_p``, ``pair_q``: the nominal nearest commensurability of each
+    adjacent pair, so that every draw's offset is from that same rung and
+    its interval is continuous; ``triple_p``, ``triple_q``: the nominal
+    three-body relation of each consecutive triple.
+    """
+
+    pair_p: np.ndarray
+    pair_q: np.ndarray
+    triple_p: np.ndarray
+    triple_q: np.ndarray
+
+
+def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.NEWTON_STEPS) -> dict[str, np.ndarray]:
     """All derived columns for ``inp``; see :mod:`orbitdeck.models.derive` for their keys.
+
+    Parameters
+    ----------
+    inp : Inputs
+    anchor : Anchor, optional
+        Measure pair offsets, super-periods and three-body residuals from
+        these nominal choices instead of each row's own (adds the boolean
+        column ``"pairs.other_nearest"``: the row's own nearest differs).
+    sky_steps : int
+        Newton steps of the closest-approach search (see
+        :func:`orbits.closest_orbit_distance`).
 
     Returns
     -------
@@ -41,10 +76,28 @@ def compute(inp: Inputs) -> dict[str, np.ndarray]:
         ``"star.<key>"`` arrays (samples,), plus planet, pair, triple and
         sky columns keyed ``"planets.<key>"`` etc., each (samples, rows).
     """
-    n = inp.period.shape[1]
-    out: dict[str, np.ndarray] = {}
+    out, orbit = _star_and_planets(inp)
+    out.update(_pairs(inp, orbit, anchor))
+    out.update(_triples(inp, anchor))
+    out.update(_skies(orbit, sky_steps))
+    return out
 
-    # -- star --------------------------------------------------------------
+
+@dataclass(frozen=True)
+class _Orbit:
+    """Intermediate arrays the pair and sky columns share with the planet columns (SI unless named)."""
+
+    a_au: np.ndarray
+    eccentricity: np.ndarray
+    omega_rad: np.ndarray
+    mass_kg: np.ndarray
+    radius_m: np.ndarray
+    star_mass_kg: np.ndarray
+    star_radius_m: np.ndarray
+
+
+def _star_and_planets(inp: Inputs) -> tuple[dict[str, np.ndarray], _Orbit]:
+    out: dict[str, np.ndarray] = {}
     star_mass_kg = inp.star_mass * M_SUN
     star_radius_m = inp.star_radius * R_SUN
     computed_luminosity = irradiation.luminosity_from_radius_teff(star_radius_m, inp.star_teff) / L_SUN
@@ -55,7 +108,6 @@ def compute(inp: Inputs) -> dict[str, np.ndarray]:
     for i, key in enumerate(irradiation.HZ_LIMITS):
         out[f"star.hz_au.{key}"] = hz_au[:, i]
 
-    # -- planets -----------------------------------------------------------
     mass_estimated = np.isnan(inp.mass)
     mass_mearth = np.where(mass_estimated, composition.mass_from_radius(inp.radius), inp.mass)
     mass_kg = mass_mearth * M_EARTH
@@ -100,44 +152,54 @@ def compute(inp: Inputs) -> dict[str, np.ndarray]:
         "apoastron_au": a_au * (1.0 + e),
     }
     out.update({f"planets.{k}": v for k, v in planet.items()})
+    return out, _Orbit(a_au, e, omega, mass_kg, radius_m, star_mass_kg, star_radius_m)
 
-    # -- adjacent pairs ----------------------------------------------------
-    inner, outer = slice(0, n - 1), slice(1, n)
-    ratio = inp.period[:, outer] / inp.period[:, inner]
+
+def _pairs(inp: Inputs, orbit: _Orbit, anchor: Anchor | None) -> dict[str, np.ndarray]:
+    n = inp.period.shape[1]
+    inner, outer = inp.period[:, : n - 1], inp.period[:, 1:]
+    ratio = outer / inner
     p, q, order = resonances.nearest_commensurability(ratio)
-    first_order = order == 1
+    out = {"pairs.period_ratio": ratio, "pairs.p": p, "pairs.q": q, "pairs.order": order}
+    if anchor is not None:
+        out["pairs.other_nearest"] = (p != anchor.pair_p) | (q != anchor.pair_q)
+        p, q = anchor.pair_p, anchor.pair_q
     with np.errstate(divide="ignore"):
-        sup = resonances.super_period(inp.period[:, inner], inp.period[:, outer], p)
+        sup = resonances.super_period(inner, outer, p)
     out.update({
-        "pairs.period_ratio": ratio,
-        "pairs.p": p,
-        "pairs.q": q,
-        "pairs.order": order,
         "pairs.delta": resonances.resonance_offset(ratio, p, q),
-        "pairs.super_period_d": np.where(first_order, sup, np.nan),
+        "pairs.super_period_d": np.where(p - q == 1, sup, np.nan),
         "pairs.mutual_hill_spacing": dynamics.mutual_hill_spacing(
-            a_au[:, inner], a_au[:, outer], mass_kg[:, inner], mass_kg[:, outer], star_mass_kg),
+            orbit.a_au[:, : n - 1], orbit.a_au[:, 1:], orbit.mass_kg[:, : n - 1], orbit.mass_kg[:, 1:],
+            orbit.star_mass_kg),
     })
+    return out
 
-    # -- consecutive triples -----------------------------------------------
-    tp, tq, residual = resonances.best_three_body_relation(
-        inp.period[:, : n - 2], inp.period[:, 1 : n - 1], inp.period[:, 2:])
-    out.update({"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual})
 
-    # -- skies -------------------------------------------------------------
+def _triples(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
+    n = inp.period.shape[1]
+    period_1, period_2, period_3 = inp.period[:, : n - 2], inp.period[:, 1 : n - 1], inp.period[:, 2:]
+    if anchor is None:
+        tp, tq, residual = resonances.best_three_body_relation(period_1, period_2, period_3)
+    else:
+        tp, tq = anchor.triple_p, anchor.triple_q
+        residual = 360.0 * resonances.three_body_residual(period_1, period_2, period_3, tp, tq)
+    return {"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual}
+
+
+def _skies(orbit: _Orbit, steps: int) -> dict[str, np.ndarray]:
+    n = orbit.a_au.shape[1]
     observer, body, pair = sky_rows(n)
     is_star = body < 0
-    other = np.where(is_star, 0, body)
     inner_of, outer_of = np.triu_indices(n, 1)
-    closest = orbits.closest_orbit_distance(a_au[:, inner_of], e[:, inner_of], omega[:, inner_of],
-                                            a_au[:, outer_of], e[:, outer_of], omega[:, outer_of])
-    distance_au = np.where(is_star, a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
-    body_radius_au = np.where(is_star, star_radius_m / AU, radius_m[:, other] / AU)
+    closest = orbits.closest_distance_of_pairs(orbit.a_au, orbit.eccentricity, orbit.omega_rad,
+                                               inner_of, outer_of, steps)
+    distance_au = np.where(is_star, orbit.a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
+    body_radius_au = np.where(is_star, orbit.star_radius_m / AU, orbit.radius_m[:, np.where(is_star, 0, body)] / AU)
     diameter = skies.angular_diameter(body_radius_au, distance_au)
-    out.update({
+    return {
         "sky_pairs.closest_distance_au": closest,
         "skies.closest_distance_au": distance_au,
         "skies.max_angular_diameter_arcsec": diameter * RAD_TO_ARCSEC,
         "skies.moon_ratio": skies.moon_ratio(diameter),
-    })
-    return out
+    }

@@ -25,6 +25,8 @@ PLANET_KEYS = (
 PAIR_KEYS = ("inner", "outer", "period_ratio", "nearest", "order", "delta", "super_period_d", "mutual_hill_spacing")
 TRIPLE_KEYS = ("planets", "p", "q", "residual_deg_per_day")
 SKY_KEYS = ("observer", "body", "closest_distance_au", "max_angular_diameter_arcsec", "moon_ratio")
+#: crossing pairs named one by one in the warnings; more are counted in one line
+MAX_LISTED_CROSSINGS = 20
 
 
 @dataclass
@@ -163,9 +165,12 @@ def collect_warnings(system: System, derived: Derived) -> list[str]:
             if r >= 10.0:
                 warnings.append(f"planet {name}: TSM is defined for radii below 10 Rearth (Kempton et al. 2018).")
     sk = derived.skies
-    crossed = (sk["body"] != "star") & (sk["closest_distance_au"] == 0.0) & (sk["observer"] < sk["body"])
-    for a, b in zip(sk["observer"][crossed], sk["body"][crossed]):
+    observer, body, _ = sky_rows(len(pl["name"]))
+    crossed = np.flatnonzero((body > observer) & (sk["closest_distance_au"] == 0.0))
+    for a, b in zip(sk["observer"][crossed[:MAX_LISTED_CROSSINGS]], sk["body"][crossed[:MAX_LISTED_CROSSINGS]]):
         warnings.append(f"planets {a} and {b}: their orbits cross.")
+    if crossed.size > MAX_LISTED_CROSSINGS:
+        warnings.append(f"... and {crossed.size - MAX_LISTED_CROSSINGS} more pairs of planets whose orbits cross.")
     pr = derived.pairs
     for a, b, spacing in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"]):
         if spacing < dynamics.HILL_STABLE_SPACING:

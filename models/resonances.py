@@ -33,6 +33,9 @@ def commensurability_table(max_order: int = MAX_ORDER, max_numerator: int = MAX_
 
 _P, _Q, _ORDER = commensurability_table()
 _RATIO = _P / _Q
+#: table rows in order of ratio; a row's table index is its precedence on a tie
+_BY_RATIO = np.argsort(_RATIO, kind="stable")
+_SORTED_RATIO = _RATIO[_BY_RATIO]
 
 
 def nearest_commensurability(period_ratio):
@@ -53,7 +56,12 @@ def nearest_commensurability(period_ratio):
         Same shape as ``period_ratio``.
     """
     ratio = np.asarray(period_ratio, dtype=float)
-    index = np.argmin(np.abs(ratio[..., None] - _RATIO), axis=-1)
+    # the two rungs either side of each ratio; on an exact tie the lower order wins
+    upper = np.clip(np.searchsorted(_SORTED_RATIO, ratio), 1, _SORTED_RATIO.size - 1)
+    lower = upper - 1
+    gap_low, gap_high = np.abs(ratio - _SORTED_RATIO[lower]), np.abs(_SORTED_RATIO[upper] - ratio)
+    take_low = (gap_low < gap_high) | ((gap_low == gap_high) & (_BY_RATIO[lower] < _BY_RATIO[upper]))
+    index = _BY_RATIO[np.where(take_low, lower, upper)]
     return _P[index], _Q[index], _ORDER[index]
 
 

@@ -117,3 +117,28 @@ def test_eccentric_periastron_inside_the_star_warns(make_system):
 
 def test_ordinary_system_has_no_warnings(solar_system):
     assert derive(solar_system).to_dict()["warnings"] == []
+
+
+def test_sky_rows_pair_index_follows_triu_indices():
+    # independent construction of the same index: numpy's triu_indices numbering of unordered pairs
+    from orbitdeck.models.compute import sky_rows
+
+    for n in (1, 2, 5, 9):
+        observer, body, pair = sky_rows(n)
+        inner, outer = np.triu_indices(n, 1)
+        lookup = {(int(i), int(j)): k for k, (i, j) in enumerate(zip(inner, outer))}
+        expected = [-1 if b < 0 else lookup[(min(o, b), max(o, b))] for o, b in zip(observer, body)]
+        assert pair.tolist() == expected
+
+
+def test_many_crossing_pairs_are_summarised(make_system):
+    # a crowded eccentric system: every pair crosses; the warnings name a few and count the rest
+    from orbitdeck.models.derive import MAX_LISTED_CROSSINGS
+
+    # period ratios of 1.01 put the orbits 0.7 % apart in a, far inside e = 0.3 (Kepler III by hand)
+    system = make_system([dict(name=f"p{k}", period=10.0 * 1.01**k, radius=1.0, mass=1.0, eccentricity=0.3,
+                               omega=30.0 * k) for k in range(12)])
+    warnings = derive(system).warnings
+    named = [w for w in warnings if w.endswith("their orbits cross.")]
+    assert len(named) == MAX_LISTED_CROSSINGS
+    assert any(w.startswith(f"... and {66 - MAX_LISTED_CROSSINGS} more pairs") for w in warnings)

@@ -196,3 +196,31 @@ def test_delta_interval_stays_on_the_nominal_rung():
     assert dlo == pytest.approx(rlo * 2 / 3 - 1, rel=1e-9)
     assert dhi == pytest.approx(rhi * 2 / 3 - 1, rel=1e-9)
     assert 0.0 < d.extra["other_nearest_fraction"][0] < 0.5
+
+
+def test_chunked_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch):
+    # numpy's nanpercentile over one compute() of all the draws is the reference for the
+    # chunked, threaded path: every interval must be the same numbers.
+    import warnings
+
+    from orbitdeck.models import uncertainty
+    from orbitdeck.models.compute import compute
+
+    monkeypatch.setattr(uncertainty, "_CHUNK_VALUES", 500)   # many small chunks
+    planets = [_planet(name, value=period, radius_value=1.2, mass_value=None,
+                       period=Uncertainty.from_sigma(1e-4), radius=Uncertainty(0.08, 0.05),
+                       eccentricity=Uncertainty.from_sigma(0.02))
+               for name, period in zip("bcde", (3.1, 4.9, 7.6, 11.8))]
+    system = System(name="chunks", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
+    derived = derive(system, samples=3000, seed=5)
+    draws = sampled_inputs(system, 3000, 5)
+    whole = compute(draws, uncertainty._anchor(derived), sky_steps=uncertainty._SKY_STEPS)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        for table in ("planets", "pairs", "triples"):
+            for key, (low, high) in derived.intervals[table].items():
+                expected = np.nanpercentile(whole[f"{table}.{key}"], [16, 84], axis=0)
+                np.testing.assert_allclose([low, high], expected, rtol=1e-12, err_msg=f"{table}.{key}")
+    expected = np.nanpercentile(whole["skies.max_angular_diameter_arcsec"], [16, 84], axis=0)
+    np.testing.assert_allclose(derived.intervals["skies"]["max_angular_diameter_arcsec"], expected, rtol=1e-12)
+    np.testing.assert_allclose(derived.extra["other_nearest_fraction"], whole["pairs.other_nearest"].mean(axis=0))
