@@ -56,7 +56,8 @@ class Anchor:
     triple_q: np.ndarray
 
 
-def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.NEWTON_STEPS) -> dict[str, np.ndarray]:
+def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.NEWTON_STEPS,
+            sky_dtype=np.float64) -> dict[str, np.ndarray]:
     """All derived columns for ``inp``; see :mod:`orbitdeck.models.derive` for their keys.
 
     Parameters
@@ -69,6 +70,10 @@ def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.N
     sky_steps : int
         Newton steps of the closest-approach search (see
         :func:`orbits.closest_orbit_distance`).
+    sky_dtype : numpy dtype
+        Precision of the sky geometry (the N(N-1) rows that dominate the
+        cost): ``np.float32`` keeps relative errors near 1e-6, enough for
+        Monte Carlo draws, whose spread is far larger.
 
     Returns
     -------
@@ -79,7 +84,7 @@ def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.N
     out, orbit = _star_and_planets(inp)
     out.update(_pairs(inp, orbit, anchor))
     out.update(_triples(inp, anchor))
-    out.update(_skies(orbit, sky_steps))
+    out.update(_skies(orbit, sky_steps, sky_dtype))
     return out
 
 
@@ -187,15 +192,17 @@ def _triples(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
     return {"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual}
 
 
-def _skies(orbit: _Orbit, steps: int) -> dict[str, np.ndarray]:
+def _skies(orbit: _Orbit, steps: int, dtype) -> dict[str, np.ndarray]:
     n = orbit.a_au.shape[1]
     observer, body, pair = sky_rows(n)
     is_star = body < 0
     inner_of, outer_of = np.triu_indices(n, 1)
-    closest = orbits.closest_distance_of_pairs(orbit.a_au, orbit.eccentricity, orbit.omega_rad,
-                                               inner_of, outer_of, steps)
-    distance_au = np.where(is_star, orbit.a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
-    body_radius_au = np.where(is_star, orbit.star_radius_m / AU, orbit.radius_m[:, np.where(is_star, 0, body)] / AU)
+    a_au = orbit.a_au.astype(dtype, copy=False)
+    closest = orbits.closest_distance_of_pairs(a_au, orbit.eccentricity.astype(dtype, copy=False),
+                                               orbit.omega_rad.astype(dtype, copy=False), inner_of, outer_of, steps)
+    distance_au = np.where(is_star, a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
+    body_radius_au = np.where(is_star, (orbit.star_radius_m / AU).astype(dtype, copy=False),
+                              (orbit.radius_m / AU).astype(dtype, copy=False)[:, np.where(is_star, 0, body)])
     diameter = skies.angular_diameter(body_radius_au, distance_au)
     return {
         "sky_pairs.closest_distance_au": closest,

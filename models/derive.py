@@ -109,8 +109,13 @@ def tables_from_columns(system: System, columns: dict, row: int = 0) -> tuple[di
     n = len(names)
     hz_valid = irradiation.HZ_TEFF_RANGE[0] <= system.star.teff <= irradiation.HZ_TEFF_RANGE[1]
 
-    def pick(prefix):
-        return {k[len(prefix) + 1:]: v[row] for k, v in columns.items() if k.startswith(prefix + ".")}
+    by_table: dict[str, dict] = {}
+    for key, value in columns.items():
+        table, _, name = key.partition(".")
+        by_table.setdefault(table, {})[name] = value[row]
+
+    def pick(table):
+        return by_table.get(table, {})
 
     star_cols = pick("star")
     star = {
@@ -138,8 +143,9 @@ def tables_from_columns(system: System, columns: dict, row: int = 0) -> tuple[di
                                    dtype=object).reshape(-1, 3), **triple_cols}
 
     observer, body, _ = sky_rows(n)
-    body_names = np.where(body < 0, "star", names[np.maximum(body, 0)] if n else np.array([], dtype=object))
-    skies = {"observer": names[observer], "body": body_names.astype(object), **pick("skies")}
+    # fixed-width text, not objects: the sky table has N(N-1) rows; body -1 picks the trailing "star"
+    with_star = np.array([*names, "star"], dtype=str)
+    skies = {"observer": with_star[observer], "body": with_star[body], **pick("skies")}
     return star, planets, pairs, triples, skies, extra
 
 

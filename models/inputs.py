@@ -57,8 +57,9 @@ def nominal_inputs(system: System) -> Inputs:
     """The nominal values of ``system`` as a one-sample :class:`Inputs`."""
     planets = system.planets
     star = system.star
-    columns = {field: np.array([[_value(getattr(p, field)) for p in planets]], dtype=float).reshape(1, len(planets))
-               for field in PLANET_FIELDS}
+    table = np.array([[np.nan if v is None else v for v in p.values_of(PLANET_FIELDS)] for p in planets],
+                     dtype=float).reshape(len(planets), len(PLANET_FIELDS))
+    columns = {field: table[:, i][None, :].copy() for i, field in enumerate(PLANET_FIELDS)}
     stars = {f"star_{field}": np.array([[_value(getattr(star, field))]]) for field in STAR_FIELDS}
     return Inputs(**columns, **stars,
                   bond_albedo=np.array([[system.assumptions.bond_albedo]]),

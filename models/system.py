@@ -30,6 +30,21 @@ class _Body(param.Parameterized):
     uncertainties = param.Dict(default={}, doc="field name -> Uncertainty (one sigma, same unit as the field)")
     refs = param.Dict(default={}, doc="field name -> free-text citation of the value")
 
+    def __init__(self, **params):
+        super().__init__(**params)
+        # a plain copy of every value, kept current by a watcher: reading it is
+        # far cheaper than a parameter lookup, which matters for large systems
+        self._current = {name: getattr(self, name) for name in self.param}
+        self.param.watch(self._keep_current, list(self.param))
+
+    def _keep_current(self, *events) -> None:
+        for event in events:
+            self._current[event.name] = event.new
+
+    def values_of(self, fields) -> list:
+        """The current values of ``fields`` (as ``getattr``, faster)."""
+        return [self._current[name] for name in fields]
+
     @classmethod
     def measured_fields(cls) -> list[str]:
         """Names of the numeric inputs that may carry an uncertainty."""

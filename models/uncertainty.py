@@ -33,8 +33,10 @@ _MAX_REDRAWS = 100
 #: values per array a chunk of draws aims at (so that it stays in the CPU cache), and the fewest draws a chunk holds
 _CHUNK_VALUES = 16_384
 _MIN_CHUNK = 64
-#: Newton steps of the closest-approach search for draws: error below ~2e-6 a for e <= 0.1, far under their spread
+#: closest-approach search and sky geometry of the draws: one Newton step (error below ~2e-6 a for
+#: e <= 0.1) in single precision (~1e-6 relative), both far under the spread of the draws
 _SKY_STEPS = 1
+_SKY_DTYPE = np.float32
 
 
 def split_normal(rng: np.random.Generator, value, plus, minus, size):
@@ -85,17 +87,20 @@ def truncated_split_normal(rng, value, plus, minus, size, bounds, inclusive=(Tru
         Whether each end belongs to the domain.
     """
     draws = split_normal(rng, value, plus, minus, size)
-    bad = _outside(draws, bounds, inclusive)
-    if not bad.any():
+    bad = np.flatnonzero(_outside(draws, bounds, inclusive))
+    if not bad.size:
         return draws
-    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size) for x in (value, plus, minus))
+    flat = draws.reshape(-1)
+    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size).reshape(-1)
+                          for x in (value, plus, minus))
     for _ in range(_MAX_REDRAWS):
-        draws[bad] = split_normal(rng, value[bad], plus[bad], minus[bad], int(bad.sum()))
-        bad = _outside(draws, bounds, inclusive)
-        if not bad.any():
+        # only the rejected draws are drawn again and checked again
+        flat[bad] = split_normal(rng, value[bad], plus[bad], minus[bad], bad.size)
+        bad = bad[_outside(flat[bad], bounds, inclusive)]
+        if not bad.size:
             return draws
     # a domain that far in a tail keeps its last valid neighbour: the nominal value
-    draws[bad] = value[bad]
+    flat[bad] = value[bad]
     return draws
 
 
@@ -154,7 +159,7 @@ def _draw_columns(derived, draws: Inputs) -> tuple[list[tuple[str, str]], np.nda
     n_planets = draws.period.shape[1]
     chunks = _chunks(draws.samples, n_planets)
     tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples, "skies": derived.skies}
-    first = compute(_rows_of(draws, chunks[0]), anchor, sky_steps=_SKY_STEPS)
+    first = compute(_rows_of(draws, chunks[0]), anchor, _SKY_STEPS, _SKY_DTYPE)
     # sky distances repeat a (star rows) and each pair's distance twice, and the
     # Moon ratio is the diameter rescaled: their percentiles follow from others
     derived_later = {"skies.closest_distance_au", "skies.moon_ratio"}
@@ -169,7 +174,7 @@ def _draw_columns(derived, draws: Inputs) -> tuple[list[tuple[str, str]], np.nda
     other_nearest = np.empty((draws.samples, max(n_planets - 1, 0)), dtype=bool)
 
     def fill(chunk: slice, columns: dict | None = None) -> None:
-        columns = columns if columns is not None else compute(_rows_of(draws, chunk), anchor, sky_steps=_SKY_STEPS)
+        columns = columns if columns is not None else compute(_rows_of(draws, chunk), anchor, _SKY_STEPS, _SKY_DTYPE)
         for name, start, stop in zip(names, offsets[:-1], offsets[1:]):
             matrix[start:stop, chunk] = columns[name].T
         other_nearest[chunk] = columns["pairs.other_nearest"]

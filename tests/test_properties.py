@@ -185,3 +185,19 @@ def test_system_file_round_trip(system):
     assert derive(again, samples=24, seed=11).to_dict() == derive(system, samples=24, seed=11).to_dict()
     # a second trip writes the same text
     assert dumps_system(again) == text
+
+
+# -- the fast value mirror -----------------------------------------------------------------
+
+@FAST
+@given(period=positive(0.2, 500.0), radius=positive(0.3, 20.0), mass=st.one_of(st.none(), positive(0.1, 300.0)),
+       e=st.floats(0.0, 0.9), use_update=st.booleans())
+def test_values_of_follows_every_way_of_setting_a_parameter(period, radius, mass, e, use_update):
+    planet = Planet(name="b", period=3.0, radius=1.0)
+    if use_update:
+        planet.param.update(period=period, radius=radius, mass=mass, eccentricity=e)
+    else:
+        planet.period, planet.radius, planet.mass, planet.eccentricity = period, radius, mass, e
+    fields = ["period", "radius", "mass", "eccentricity", "inclination", "omega"]
+    assert planet.values_of(fields) == [getattr(planet, f) for f in fields]
+    assert System(planets=[planet]).copy().planets[0].values_of(fields) == planet.values_of(fields)
