@@ -8,7 +8,7 @@ triples or observer-body skies. No Python loop runs over planets.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from functools import lru_cache
 
 import numpy as np
@@ -81,16 +81,19 @@ def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.N
         ``"star.<key>"`` arrays (samples,), plus planet, pair, triple and
         sky columns keyed ``"planets.<key>"`` etc., each (samples, rows).
     """
-    out, orbit = _star_and_planets(inp)
-    out.update(_pairs(inp, orbit, anchor))
-    out.update(_triples(inp, anchor))
-    out.update(_skies(orbit, sky_steps, sky_dtype))
+    out, orbit = star_and_planet_columns(inp)
+    out.update(pair_columns(inp, orbit, anchor))
+    out.update(triple_columns(inp, anchor))
+    out.update(sky_columns(orbit, sky_steps, sky_dtype))
     return out
 
 
 @dataclass(frozen=True)
-class _Orbit:
-    """Intermediate arrays the pair and sky columns share with the planet columns (SI unless named)."""
+class Orbit:
+    """Intermediate arrays the pair and sky columns share with the planet columns (SI unless named).
+
+    Every array has the samples on its first axis; :meth:`rows` picks some.
+    """
 
     a_au: np.ndarray
     eccentricity: np.ndarray
@@ -100,8 +103,13 @@ class _Orbit:
     star_mass_kg: np.ndarray
     star_radius_m: np.ndarray
 
+    def rows(self, rows: slice) -> "Orbit":
+        """The same arrays for the samples ``rows`` only (single-row arrays, which broadcast, stay)."""
+        return Orbit(*(array if array.shape[0] == 1 else array[rows]
+                       for array in (getattr(self, f.name) for f in fields(self))))
 
-def _star_and_planets(inp: Inputs) -> tuple[dict[str, np.ndarray], _Orbit]:
+
+def star_and_planet_columns(inp: Inputs) -> tuple[dict[str, np.ndarray], Orbit]:
     out: dict[str, np.ndarray] = {}
     star_mass_kg = inp.star_mass * M_SUN
     star_radius_m = inp.star_radius * R_SUN
@@ -157,10 +165,10 @@ def _star_and_planets(inp: Inputs) -> tuple[dict[str, np.ndarray], _Orbit]:
         "apoastron_au": a_au * (1.0 + e),
     }
     out.update({f"planets.{k}": v for k, v in planet.items()})
-    return out, _Orbit(a_au, e, omega, mass_kg, radius_m, star_mass_kg, star_radius_m)
+    return out, Orbit(a_au, e, omega, mass_kg, radius_m, star_mass_kg, star_radius_m)
 
 
-def _pairs(inp: Inputs, orbit: _Orbit, anchor: Anchor | None) -> dict[str, np.ndarray]:
+def pair_columns(inp: Inputs, orbit: Orbit, anchor: Anchor | None) -> dict[str, np.ndarray]:
     n = inp.period.shape[1]
     inner, outer = inp.period[:, : n - 1], inp.period[:, 1:]
     ratio = outer / inner
@@ -181,7 +189,7 @@ def _pairs(inp: Inputs, orbit: _Orbit, anchor: Anchor | None) -> dict[str, np.nd
     return out
 
 
-def _triples(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
+def triple_columns(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
     n = inp.period.shape[1]
     period_1, period_2, period_3 = inp.period[:, : n - 2], inp.period[:, 1 : n - 1], inp.period[:, 2:]
     if anchor is None:
@@ -192,7 +200,7 @@ def _triples(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
     return {"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual}
 
 
-def _skies(orbit: _Orbit, steps: int, dtype) -> dict[str, np.ndarray]:
+def sky_columns(orbit: Orbit, steps: int, dtype) -> dict[str, np.ndarray]:
     n = orbit.a_au.shape[1]
     observer, body, pair = sky_rows(n)
     is_star = body < 0

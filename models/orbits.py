@@ -222,7 +222,9 @@ def closest_distance_of_pairs(a, e, omega, inner_index, outer_index, steps: int 
     ndarray, shape (..., pairs)
     """
     dtype = np.result_type(a, e, omega, np.float32)   # single precision stays single
-    terms = _orbit_terms(*(np.asarray(x, dtype=dtype) for x in (a, e, omega)))
+    a, e, omega = (np.asarray(x, dtype=dtype) for x in (a, e, omega))
+    shape = np.broadcast_shapes(a.shape, e.shape, omega.shape)
+    terms = tuple(np.broadcast_to(t, shape) for t in _orbit_terms(a, e, omega))
     inner = tuple(np.take(t, inner_index, axis=-1).ravel() for t in terms)   # take: contiguous, so ravel copies nothing
     outer = tuple(np.take(t, outer_index, axis=-1).ravel() for t in terms)
     shape = terms[0].shape[:-1] + np.shape(inner_index)

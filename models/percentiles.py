@@ -48,7 +48,10 @@ def _finite_rows(values: np.ndarray, percentiles) -> np.ndarray:
     span = values.max(axis=1) - low
     with np.errstate(divide="ignore"):
         scale = np.where(span > 0.0, _LEVELS / span, 0.0)
-    levels = ((values - low[:, None]) * scale[:, None]).astype(np.uint16)
+    scaled = np.subtract(values, low[:, None])
+    np.multiply(scaled, scale[:, None], out=scaled)
+    levels = scaled.astype(np.uint16)
+    del scaled
     order = np.argsort(levels, axis=1, kind="stable")
     # Sorted by level, values are in order except within a level. Around each
     # wanted rank take a window of sorted positions: when it holds the whole

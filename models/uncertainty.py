@@ -15,11 +15,11 @@ quantities (one stellar-mass draw feeds a, S and Teq alike) are kept.
 
 from __future__ import annotations
 
-from dataclasses import fields, replace
+from dataclasses import replace
 
 import numpy as np
 
-from .compute import Anchor, compute, sky_rows
+from .compute import Anchor, pair_columns, sky_columns, sky_rows, star_and_planet_columns, triple_columns
 from .constants import RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import thread_map
@@ -30,7 +30,7 @@ from .system import System, _Body
 #: percentiles that bound the reported interval (one sigma for a normal)
 PERCENTILES = (16.0, 84.0)
 _MAX_REDRAWS = 100
-#: values per array a chunk of draws aims at (so that it stays in the CPU cache), and the fewest draws a chunk holds
+#: values per array a chunk of draws of the sky table aims at (so that it stays in the CPU cache), and the fewest draws a chunk holds
 _CHUNK_VALUES = 16_384
 _MIN_CHUNK = 64
 #: closest-approach search and sky geometry of the draws: one Newton step (error below ~2e-6 a for
@@ -104,11 +104,17 @@ def truncated_split_normal(rng, value, plus, minus, size, bounds, inclusive=(Tru
     return draws
 
 
-def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples: int) -> np.ndarray:
-    """Samples of ``field`` of every body in ``bodies`` (columns of ``nominal``)."""
+def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples: int,
+             compact: bool = False) -> np.ndarray:
+    """Samples of ``field`` of every body in ``bodies`` (columns of ``nominal``).
+
+    With ``compact``, a field that no body gives an uncertainty stays one row
+    (1, bodies), which broadcasts against the draws of the others: functions
+    of it alone (sines of fixed angles, say) are then computed once.
+    """
     spreads = [body.uncertainty(field) for body in bodies]
     if not any(spreads) or np.isnan(nominal).all():
-        return np.repeat(nominal, samples, axis=0)
+        return nominal if compact else np.repeat(nominal, samples, axis=0)
     plus = np.array([[s.plus if s else 0.0 for s in spreads]])
     minus = np.array([[s.minus if s else 0.0 for s in spreads]])
     parameter = type(bodies[0]).param[field]
@@ -116,18 +122,25 @@ def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples:
                                   parameter.bounds, parameter.inclusive_bounds)
 
 
-def sampled_inputs(system: System, samples: int, seed: int | None) -> Inputs:
-    """``samples`` joint draws of every uncertain input of ``system``."""
+def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool = False) -> Inputs:
+    """``samples`` joint draws of every uncertain input of ``system``.
+
+    With ``compact``, inputs without uncertainty stay single rows that
+    broadcast against the draws (see :func:`_sampled`).
+    """
     rng = np.random.default_rng(seed)
     nominal = nominal_inputs(system)
     planets = list(system.planets)
     star = [system.star]
-    fields = {field: _sampled(rng, planets, field, getattr(nominal, field), samples) for field in PLANET_FIELDS}
-    fields.update({f"star_{field}": _sampled(rng, star, field, getattr(nominal, f"star_{field}"), samples)
-                   for field in STAR_FIELDS})
-    fields["j_mag"] = _sampled(rng, star, "j_mag", nominal.j_mag, samples)
-    fields["k_mag"] = _sampled(rng, star, "k_mag", nominal.k_mag, samples)
-    fields["bond_albedo"] = _sampled(rng, [system.assumptions], "bond_albedo", nominal.bond_albedo, samples)
+
+    def draw(bodies, field, values):
+        return _sampled(rng, bodies, field, values, samples, compact)
+
+    fields = {field: draw(planets, field, getattr(nominal, field)) for field in PLANET_FIELDS}
+    fields.update({f"star_{field}": draw(star, field, getattr(nominal, f"star_{field}")) for field in STAR_FIELDS})
+    fields["j_mag"] = draw(star, "j_mag", nominal.j_mag)
+    fields["k_mag"] = draw(star, "k_mag", nominal.k_mag)
+    fields["bond_albedo"] = draw([system.assumptions], "bond_albedo", nominal.bond_albedo)
     return replace(nominal, **fields)
 
 
@@ -140,54 +153,61 @@ def _anchor(derived) -> Anchor:
                   triple_q=np.asarray(derived.triples["q"], dtype=int))
 
 
-def _chunks(samples: int, planets: int) -> list[slice]:
-    """Sample ranges small enough that a chunk's widest arrays (the planet pairs) stay in cache."""
-    widest = max(planets * (planets - 1) // 2, planets, 1)
-    size = int(np.clip(_CHUNK_VALUES // widest, _MIN_CHUNK, samples))
+def _sky_chunks(samples: int, planets: int) -> list[slice]:
+    """Sample ranges small enough that the sky table's arrays of a chunk (one value
+    per planet pair and draw) stay in the CPU cache."""
+    pairs = max(planets * (planets - 1) // 2, 1)
+    size = int(np.clip(_CHUNK_VALUES // pairs, _MIN_CHUNK, max(samples, 1)))
     return [slice(start, min(start + size, samples)) for start in range(0, samples, size)]
 
 
-def _draw_columns(derived, draws: Inputs) -> tuple[list[tuple[str, str]], np.ndarray, np.ndarray, np.ndarray]:
+def _draw_columns(derived, draws: Inputs, samples: int) -> tuple[list[tuple[str, str]], np.ndarray, np.ndarray,
+                                                                  np.ndarray]:
     """Every interval column of every draw, as rows of one (columns, samples) matrix.
 
-    The draws are computed in chunks of samples on the worker threads, each
-    chunk writing its own part of the matrix. Returns the (table, key) of each block of rows, the row offsets of the blocks, the
+    Star, planet, pair and triple columns are computed on all draws at once;
+    the sky table, with its N(N-1) rows, in chunks of draws on the worker
+    threads, each chunk writing its own part of the matrix. Returns the
+    (table, key) of each block of rows, the row offsets of the blocks, the
     matrix, and per draw and pair whether its own nearest commensurability
-    differs from the nominal one.
+    differs from the nominal one. ``draws`` may be compact (single rows for
+    exact inputs; :func:`sampled_inputs`).
     """
     anchor = _anchor(derived)
-    n_planets = draws.period.shape[1]
-    chunks = _chunks(draws.samples, n_planets)
+    columns, orbit = star_and_planet_columns(draws)
+    columns.update(pair_columns(draws, orbit, anchor))
+    columns.update(triple_columns(draws, anchor))
+    chunks = _sky_chunks(samples, draws.period.shape[1])
+    first_sky = sky_columns(orbit.rows(chunks[0]), _SKY_STEPS, _SKY_DTYPE)
     tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples, "skies": derived.skies}
-    first = compute(_rows_of(draws, chunks[0]), anchor, _SKY_STEPS, _SKY_DTYPE)
     # sky distances repeat a (star rows) and each pair's distance twice, and the
     # Moon ratio is the diameter rescaled: their percentiles follow from others
     derived_later = {"skies.closest_distance_au", "skies.moon_ratio"}
-    blocks = [(table, key) for table, cols in tables.items() for key, col in cols.items()
-              if f"{table}.{key}" in first and col.dtype.kind == "f" and f"{table}.{key}" not in derived_later]
-    blocks.append(("sky_pairs", "closest_distance_au"))
-    blocks += [("star", key) for key in first if key.startswith("star.")]
-    names = [key if table == "star" else f"{table}.{key}" for table, key in blocks]
-    widths = [1 if first[name].ndim == 1 else first[name].shape[1] for name in names]
-    offsets = np.concatenate([[0], np.cumsum(widths)])
-    matrix = np.empty((int(offsets[-1]), draws.samples))
-    other_nearest = np.empty((draws.samples, max(n_planets - 1, 0)), dtype=bool)
+    names = [f"{table}.{key}" for table, cols in tables.items() for key, col in cols.items()
+             if (f"{table}.{key}" in columns or f"{table}.{key}" in first_sky) and col.dtype.kind == "f"
+             and f"{table}.{key}" not in derived_later]
+    names += ["sky_pairs.closest_distance_au"] + [key for key in columns if key.startswith("star.")]
+    sky_names = [name for name in names if name in first_sky]
+    widths = [1 if name.startswith("star.") else (first_sky if name in first_sky else columns)[name].shape[1]
+              for name in names]
+    offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
+    place = dict(zip(names, zip(offsets[:-1], offsets[1:])))
+    matrix = np.empty((int(offsets[-1]), samples))
+    for name in names:
+        if name not in first_sky:
+            start, stop = place[name]
+            matrix[start:stop] = columns[name].T
 
-    def fill(chunk: slice, columns: dict | None = None) -> None:
-        columns = columns if columns is not None else compute(_rows_of(draws, chunk), anchor, _SKY_STEPS, _SKY_DTYPE)
-        for name, start, stop in zip(names, offsets[:-1], offsets[1:]):
-            matrix[start:stop, chunk] = columns[name].T
-        other_nearest[chunk] = columns["pairs.other_nearest"]
+    def fill(chunk: slice, sky: dict | None = None) -> None:
+        sky = sky if sky is not None else sky_columns(orbit.rows(chunk), _SKY_STEPS, _SKY_DTYPE)
+        for name in sky_names:
+            start, stop = place[name]
+            matrix[start:stop, chunk] = sky[name].T
 
-    fill(chunks[0], first)
+    fill(chunks[0], first_sky)
     thread_map(fill, chunks[1:])
-    return [(t, k[5:] if t == "star" else k) for t, k in blocks], matrix, offsets, other_nearest
-
-
-def _rows_of(draws: Inputs, rows: slice) -> Inputs:
-    """The draws ``rows`` of ``draws`` (every array has the samples on its first axis)."""
-    return replace(draws, **{f.name: getattr(draws, f.name)[rows] for f in fields(draws)
-                             if isinstance(getattr(draws, f.name), np.ndarray)})
+    blocks = [tuple(name.split(".", 1)) for name in names]
+    return blocks, matrix, offsets, np.broadcast_to(columns["pairs.other_nearest"], (samples, len(anchor.pair_p)))
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
@@ -197,8 +217,8 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     draw's period ratio falls nearest to another commensurability than the
     nominal one, per pair.
     """
-    draws = sampled_inputs(system, samples, seed)
-    blocks, matrix, offsets, other_nearest = _draw_columns(derived, draws)
+    draws = sampled_inputs(system, samples, seed, compact=True)
+    blocks, matrix, offsets, other_nearest = _draw_columns(derived, draws, samples)
     derived.extra["other_nearest_fraction"] = other_nearest.mean(axis=0)
     low, high = row_percentiles(matrix, PERCENTILES)
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}

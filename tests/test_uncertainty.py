@@ -214,7 +214,7 @@ def test_chunked_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
     system = System(name="chunks", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
     derived = derive(system, samples=3000, seed=5)
     draws = sampled_inputs(system, 3000, 5)
-    whole = compute(draws, uncertainty._anchor(derived), sky_steps=uncertainty._SKY_STEPS)
+    whole = compute(draws, uncertainty._anchor(derived), uncertainty._SKY_STEPS, uncertainty._SKY_DTYPE)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         for table in ("planets", "pairs", "triples"):
