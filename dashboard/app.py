@@ -11,6 +11,8 @@ browser session or one notebook cell; nothing mutable is shared.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 import panel as pn
 import param
 
@@ -53,7 +55,14 @@ class OrbitDeckApp(param.Parameterized):
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
-        self.views = {cls.title: cls(self) for cls in VIEW_CLASSES}
+        #: True in a served page (see page()): views of hidden tabs wait until their tab is opened
+        self.defer_hidden_tabs = False
+        self.tabs = None
+        self._stale: dict[str, dict] = {}  # tab title -> {(view, method): call waiting for the tab}
+        #: the views by tab title, each built when first reached (its tab opened, or read from code)
+        self.views = LazyViews(self, VIEW_CLASSES, built=self._view_built)
+        self._tab_bodies = {title: pn.Column(sizing_mode="stretch_width") for title in self.views}
+        self.views[VIEW_CLASSES[0].title]  # the first tab is shown when the page opens
         self.controls = Controls(self)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.header_name = pn.pane.HTML("", styles={"color": "white", "font-size": "18px"}, margin=(0, 10))
@@ -62,8 +71,8 @@ class OrbitDeckApp(param.Parameterized):
         self._title_holder.jscallback(value="document.title = cb_obj.value")
         self.alerts = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
-        self.tabs = pn.Tabs(*((title, view.panel()) for title, view in self.views.items()),
-                            sizing_mode="stretch_width", dynamic=True)
+        self.tabs = ViewTabs(*self._tab_bodies.items(), sizing_mode="stretch_width", dynamic=True,
+                             before_show=self._catch_up)
         self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = self.controls.panel()
         self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
@@ -144,14 +153,125 @@ class OrbitDeckApp(param.Parameterized):
     def _document_title(self) -> str:
         return f"{self.system.name} \u2013 orbitdeck"
 
+    # -- tabs ----------------------------------------------------------------------
+    @property
+    def shown_tab(self) -> str | None:
+        """Title of the tab shown (None before the tabs exist or when none is active)."""
+        if self.tabs is None or not 0 <= self.tabs.active < len(self.views):
+            return None
+        return list(self.views)[self.tabs.active]
+
+    def tab_hidden(self, title: str) -> bool:
+        """True when the views of tab ``title`` may wait: a served page with another tab shown."""
+        return self.defer_hidden_tabs and self.tabs is not None and self.shown_tab != title
+
+    def mark_stale(self, title: str, key, call) -> None:
+        """Keep ``call`` (a view's update, no arguments) to run when tab ``title`` is opened."""
+        self._stale.setdefault(title, {})[key] = call
+
+    def stale_tabs(self) -> list[str]:
+        """Titles of the tabs whose views have updates waiting."""
+        return [t for t, calls in self._stale.items() if calls]
+
+    def _view_built(self, title: str, view) -> None:
+        """Put a view just built into its tab."""
+        self._tab_bodies[title].objects = [view.panel()]
+
+    def _catch_up(self, index: int, build: bool = True) -> None:
+        """Build the views of tab ``index`` or run their waiting updates (before the tab's models are built)."""
+        titles = list(self.views)
+        if not 0 <= index < len(titles):
+            return
+        if build:
+            self.views[titles[index]]  # built from the current state when first shown
+        calls = self._stale.pop(titles[index], {})
+        if calls:
+            with pn.io.hold():
+                for call in calls.values():
+                    call()
+
+    def catch_up_all(self) -> None:
+        """Bring every view built so far up to date now, shown or not (the others are built current)."""
+        deferring, self.defer_hidden_tabs = self.defer_hidden_tabs, False
+        try:
+            for index in range(len(self.views)):
+                self._catch_up(index, build=False)
+        finally:
+            self.defer_hidden_tabs = deferring
+
     # -- pages -------------------------------------------------------------------
     def page(self) -> pn.template.BaseTemplate:
-        """The served page: a plain template whose resources all come from the local server."""
+        """The served page: a plain template whose resources all come from the local server.
+
+        Only the shown tab's views follow each change at once; the views of the
+        other tabs catch up when their tab is opened (:class:`ViewTabs`), which
+        keeps a change cheap on a server holding many sessions.
+        """
+        self.defer_hidden_tabs = True
         template = PlainTemplate(title=self._document_title(), header=[self.header_name, self._title_holder],
                                  sidebar=[self.sidebar], main=[self.main], sidebar_width=SIDEBAR_WIDTH,
-                                 header_background="#2d3a4a")
+                                 header_background="#2d3a4a", busy_indicator=None)
         template.orbitdeck_app = self  # the session's state, for tests and benchmarks
         return template
+
+
+class LazyViews(Mapping):
+    """The views of one app by tab title, each built on first access.
+
+    Building a view makes its Bokeh figures, sources and tables, and its
+    watchers on the app; a served page builds a view when its tab is first
+    opened, so a session that only ever shows the first tab holds only that
+    view. Reading ``views[title]`` (a snapshot, a notebook, a test) builds
+    the view from the app's current state. Iterating over the titles or
+    asking ``len`` builds nothing; ``values()`` and ``items()`` build every view.
+    """
+
+    def __init__(self, app, classes, built=None):
+        self._app, self._classes, self._on_built = app, {cls.title: cls for cls in classes}, built
+        self._views: dict = {}
+
+    def __getitem__(self, title: str):
+        view = self._views.get(title)
+        if view is None:
+            app = self._app
+            # a view is built current, even for a tab not shown (its later changes may wait)
+            deferring, app.defer_hidden_tabs = app.defer_hidden_tabs, False
+            try:
+                view = self._views[title] = self._classes[title](app)
+            finally:
+                app.defer_hidden_tabs = deferring
+            if self._on_built is not None:
+                self._on_built(title, view)
+        return view
+
+    def __iter__(self):
+        return iter(self._classes)
+
+    def __len__(self) -> int:
+        return len(self._classes)
+
+    def built(self) -> list[str]:
+        """Titles of the views built so far, in tab order."""
+        return [title for title in self._classes if title in self._views]
+
+
+class ViewTabs(pn.Tabs):
+    """Dynamic tabs that call ``before_show(index)`` when a tab is opened, before Panel builds it.
+
+    Panel's dynamic tabs build (or re-attach) the models of a tab when its
+    ``active`` index changes; the hook runs first, in the same watcher, so the
+    views' data are current when their models go to the browser and no patch
+    can reach a model the browser does not hold yet.
+    """
+
+    def __init__(self, *objects, before_show=None, **params):
+        super().__init__(*objects, **params)
+        self._before_show = before_show
+
+    def _update_active(self, *events):
+        if self._before_show is not None and any(e.name == "active" for e in events):
+            self._before_show(self.active)
+        super()._update_active(*events)
 
 
 class PlainTemplate(pn.template.VanillaTemplate):
@@ -160,6 +280,10 @@ class PlainTemplate(pn.template.VanillaTemplate):
     ``title`` (free text) is used only for the document's ``<title>``, which the
     page template escapes; the header shows a fixed name and the system's name
     comes from an escaped header item.
+
+    Pages are made with ``busy_indicator=None``: Panel drives every template's
+    busy indicator from one process-wide flag, so each event of any session
+    would update (and send a message to) every open session.
     """
 
     _resources = {"css": {}}

@@ -5,6 +5,14 @@ app object built around its own copy of the system (``System.copy()``), so
 an edit in one tab never shows in another; the system read at start-up is
 only ever copied, never edited.
 
+The server keeps its memory in check for a room of users: one app is built
+and thrown away before the first session (:func:`warm_up`, so every lazily
+imported module is loaded up front), a closed page's session is released a
+few seconds after its last connection (:func:`server_settings`), and after
+sessions are released the freed heap is handed back to the system
+(:class:`ServerMemory`, which also keeps full garbage collections from
+stalling the other sessions).
+
 Run as ``orbitdeck serve [FILE] [--port N] [--no-show]`` or
 ``python -m orbitdeck.dashboard.serve [FILE] [--port N] [--no-show]``.
 """
@@ -12,6 +20,9 @@ Run as ``orbitdeck serve [FILE] [--port N] [--no-show]`` or
 from __future__ import annotations
 
 import argparse
+import ctypes
+import ctypes.util
+import gc
 import socket
 import sys
 
@@ -23,6 +34,15 @@ DEFAULT_PORT = 5006
 PORT_SEARCH = 50
 ROUTE = "orbitdeck"
 EXIT_BAD_INPUT = 2
+#: a session with no connection is released after this long [ms] (Bokeh's default 15000); a page's
+#: websocket opens within a few seconds of the page being served, so this leaves ample room
+UNUSED_SESSION_LIFETIME_MS = 10_000
+#: how often the server looks for such sessions [ms] (Bokeh's default 17000)
+CHECK_UNUSED_SESSIONS_MS = 2_000
+#: quiet time after the last released session before freed memory is handed back [s]
+MEMORY_RETURN_DELAY_S = 2.0
+#: time after a session is built before its objects are frozen (see ServerMemory) [s]
+FREEZE_DELAY_S = 1.0
 
 
 def port_is_free(port: int, host: str = HOST) -> bool:
@@ -60,15 +80,130 @@ def _read(path_or_none):
     return load_system(path_or_none if path_or_none else demo_path())
 
 
-def session_factory(system):
-    """A function building one session's page around a fresh copy of ``system``."""
+def server_settings() -> dict:
+    """Bokeh server options that release the session of a closed page promptly."""
+    return {"unused_session_lifetime_milliseconds": UNUSED_SESSION_LIFETIME_MS,
+            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS}
+
+
+def _libc_malloc_trim():
+    """glibc's ``malloc_trim``, or None where the C library has none (musl, macOS, Windows)."""
+    name = ctypes.util.find_library("c") or "libc.so.6"
+    try:
+        return ctypes.CDLL(name).malloc_trim
+    except (OSError, AttributeError):
+        return None
+
+
+def release_memory() -> None:
+    """Collect every unreachable object and hand the C heap's free pages back to the system (glibc only)."""
+    gc.collect()
+    trim = _libc_malloc_trim()
+    if trim is not None:
+        trim(0)
+
+
+class ServerMemory:
+    """Keeps the garbage collector off the interactive path and returns memory after sessions close.
+
+    A session builds a few hundred thousand long-lived Python objects, and a
+    full collection of twenty sessions' worth stops the server for most of a
+    second, in the middle of other users' changes. So the objects of the
+    warm-up and of each new session are frozen (``gc.freeze``, moved out of
+    the collector's reach; reference counting still frees them) shortly after
+    the session opens, and collections see only what changes create. Once
+    sessions have been released (and none followed for ``delay_s``), the
+    objects are unfrozen, everything unreachable is collected, the heap's free
+    pages are handed back (:func:`release_memory`) and the survivors frozen
+    again.
+
+    ``session_opened`` is called while a session is built and
+    ``session_closed`` is a Bokeh ``on_session_destroyed`` callback; both run
+    on the server's IO loop, where the work is scheduled (and pushed back by
+    each further call, so that a room opening or closing at once costs one
+    pass).
+    """
+
+    def __init__(self, delay_s: float = MEMORY_RETURN_DELAY_S, freeze_delay_s: float = FREEZE_DELAY_S):
+        self.delay_s, self.freeze_delay_s = delay_s, freeze_delay_s
+        self._release_pending = self._freeze_pending = None
+        self.releases = 0
+
+    @staticmethod
+    def freeze() -> None:
+        """Collect the young generations, then freeze every object now alive."""
+        gc.collect(1)
+        gc.freeze()
+
+    def _later(self, pending, delay_s: float, work):
+        from tornado.ioloop import IOLoop
+
+        loop = IOLoop.current()
+        if pending is not None:
+            loop.remove_timeout(pending)
+        return loop.call_later(delay_s, work)
+
+    def session_opened(self) -> None:
+        self._freeze_pending = self._later(self._freeze_pending, self.freeze_delay_s, self._freeze)
+
+    def session_closed(self, session_context) -> None:
+        self._release_pending = self._later(self._release_pending, self.delay_s, self._release)
+
+    def _freeze(self) -> None:
+        self._freeze_pending = None
+        self.freeze()
+
+    def _release(self) -> None:
+        self._release_pending = None
+        gc.unfreeze()
+        release_memory()
+        gc.freeze()
+        self.releases += 1
+
+
+def warm_up(system) -> None:
+    """Build one app with every tab rendered into a document, serialise it and throw it away.
+
+    Loads every module a session needs before the first one opens, so that
+    the first page is as quick as the next and the server's memory at rest
+    already includes them.
+    """
+    import panel as pn
+    from bokeh.document import Document
+
+    from .app import OrbitDeckApp
+
+    pn.extension("tabulator")
+    app = OrbitDeckApp(system.copy())
+    doc = Document()
+    root = app.layout.get_root(doc)
+    doc.add_root(root)
+    for index in range(len(app.views)):
+        app.tabs.active = index
+    doc.to_json()
+    app.layout._cleanup(root)
+    pn.state._views.pop(root.ref["id"], None)
+    doc.clear()
+    del app, doc, root
+    release_memory()
+
+
+def session_factory(system, memory: ServerMemory | None = None):
+    """A function building one session's page around a fresh copy of ``system``.
+
+    With ``memory``, every session's opening and release are reported to it.
+    """
     def make_app():
         import panel as pn
 
         from .app import OrbitDeckApp
 
         pn.extension("tabulator")
-        return OrbitDeckApp(system.copy()).page()
+        page = OrbitDeckApp(system.copy()).page()
+        if memory is not None:
+            memory.session_opened()
+            pn.state.on_session_destroyed(memory.session_closed)
+        return page
 
     return make_app
 
@@ -111,7 +246,10 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
 
     import panel as pn
 
-    importlib.import_module(".app", __package__)  # imported now, so that the first page opens as fast as the next
+    importlib.import_module(".app", __package__)
+    warm_up(system)  # every module a session needs is loaded now, so that the first page opens as fast as the next
+    memory = ServerMemory()
+    memory.freeze()
 
     from .sharing import share_notice, share_settings
 
@@ -126,8 +264,8 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     if notice:
         print(notice, flush=True)
     try:
-        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title="orbitdeck",
-                 threaded=False, verbose=False, **settings)
+        pn.serve({ROUTE: session_factory(system, memory)}, show=show, start=True, title="orbitdeck",
+                 threaded=False, verbose=False, **server_settings(), **settings)
     except KeyboardInterrupt:
         pass
     return 0

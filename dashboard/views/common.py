@@ -41,6 +41,26 @@ def batched(method):
     return wrapper
 
 
+def while_shown(method):
+    """Let a view's method wait while the view's tab is hidden in a served page.
+
+    The view names its tab in ``tab``. When ``app.tab_hidden(tab)`` the call
+    is recorded (once per method, with no arguments: every such method reads
+    the app's current state) through ``app.mark_stale`` and runs when the tab
+    is opened, before Panel builds or re-attaches the tab's models, so the
+    browser receives the tab already up to date. In a notebook, a snapshot or
+    a test every call runs at once.
+    """
+    @functools.wraps(method)
+    def wrapper(self, *args, **kwargs):
+        if self.app.tab_hidden(self.tab):
+            self.app.mark_stale(self.tab, (id(self), method.__name__), functools.partial(wrapper, self))
+            return None
+        return method(self, *args, **kwargs)
+
+    return wrapper
+
+
 def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
     """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
     options.setdefault("height", 420)

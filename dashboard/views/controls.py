@@ -35,6 +35,17 @@ MAX_NAME_LENGTH = 40
 WIDGET_WIDTH = 290
 
 
+class Entry(pn.widgets.TextInput):
+    """A text box whose value (sent on Enter or on leaving the box) is applied at once.
+
+    Panel holds back a change from the browser for 50 ms (``_debounce``) so
+    that a burst of changes (a dragged slider) is handled once; an entry sends
+    one value per Enter, so the wait would only add to every edit's latency.
+    """
+
+    _debounce = 0
+
+
 class Rejected(ValueError):
     """An entry that cannot be applied; the message is shown to the user."""
 
@@ -89,7 +100,7 @@ class Controls:
     def __init__(self, app):
         self.app = app
         self._quiet = False
-        entry = partial(pn.widgets.TextInput, width=WIDGET_WIDTH)
+        entry = partial(Entry, width=WIDGET_WIDTH)
         self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",

@@ -20,7 +20,7 @@ from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, planet_table, range_texts, span_texts, watch_taps)
+                     new_figure, planet_table, range_texts, span_texts, watch_taps, while_shown)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -76,6 +76,7 @@ class FluxView:
     """The "Flux & temperature" view of one app."""
 
     title = "Flux & temperature"
+    tab = title  # the tab the view is shown in
 
     def __init__(self, app):
         self.app = app
@@ -132,6 +133,7 @@ class FluxView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
+    @while_shown
     @batched
     def update(self, *_):
         d = self.app.derived
@@ -185,6 +187,7 @@ class FluxView:
                 "line_colour": [palette.HIGHLIGHT_COLOUR if c else "white" for c in chosen],
                 "line_width": [3.0 if c else 1.0 for c in chosen]}
 
+    @while_shown
     @batched
     def _highlight(self, *_):
         self.sources["planets"].data.update(self._marker_columns(list(self.sources["planets"].data["name"])))

@@ -21,7 +21,7 @@ from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, table_widget)
+                     new_figure, span_texts, table_widget, while_shown)
 
 #: rung styles by order: (dash, colour, width)
 RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
@@ -52,6 +52,7 @@ class LadderView:
     """The "Period ladder" view of one app."""
 
     title = "Period ladder"
+    tab = title  # the tab the view is shown in
 
     def __init__(self, app):
         self.app = app
@@ -122,6 +123,7 @@ class LadderView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
+    @while_shown
     @batched
     def update(self, *_):
         d = self.app.derived
@@ -206,6 +208,7 @@ class LadderView:
         hit = [self.app.selected in t for t in trio]
         return {"width": [3.5 if h else 1.8 for h in hit], "colour": ["#2b1a40" if h else "#8a6fae" for h in hit]}
 
+    @while_shown
     @batched
     def _highlight(self, *_):
         d = self.app.derived

@@ -24,7 +24,7 @@ from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, watch_taps)
+                     new_figure, watch_taps, while_shown)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -64,6 +64,7 @@ class LayoutView:
     """The "Layout" view of one app (one browser session)."""
 
     title = "Layout"
+    tab = title  # the tab the view is shown in
 
     def __init__(self, app):
         self.app = app
@@ -139,6 +140,7 @@ class LayoutView:
         self.hill.visible = bool(self.app.show_hill)
 
     # -- data ----------------------------------------------------------------
+    @while_shown
     @batched
     def update(self, *_):
         """Redraw from the app's current derived state (data replaced in place)."""
@@ -227,6 +229,7 @@ class LayoutView:
     def _widths(self, names, plain: float, chosen: float) -> list[float]:
         return [chosen if n == self.app.selected else plain for n in names]
 
+    @while_shown
     @batched
     def _highlight(self, *_):
         names = list(self.sources["planets"].data["name"])

@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     new_figure, planet_table, watch_taps)
+                     new_figure, planet_table, watch_taps, while_shown)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -42,6 +42,7 @@ class ObservabilityView:
     """The "Observability" view of one app."""
 
     title = "Observability"
+    tab = title  # the tab the view is shown in
 
     def __init__(self, app):
         self.app = app
@@ -64,6 +65,7 @@ class ObservabilityView:
         app.param.watch(self._highlight, "selected")
         self.update()
 
+    @while_shown
     @batched
     def update(self, *_):
         d = self.app.derived
@@ -90,6 +92,7 @@ class ObservabilityView:
         return {"line_width": [3.0 if c else 0.5 for c in chosen],
                 "line_colour": [palette.HIGHLIGHT_COLOUR if c else "#333333" for c in chosen]}
 
+    @while_shown
     @batched
     def _highlight(self, *_):
         self.sources["bars"].data.update(self._outline(list(self.sources["bars"].data["name"])))

@@ -16,7 +16,7 @@ from bokeh.palettes import Cividis256
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, watch_taps)
+                     new_figure, span_texts, watch_taps, while_shown)
 from .sky_from import SkyFromView
 
 #: above this many planets the values are no longer printed inside the cells
@@ -35,6 +35,7 @@ class SkiesView:
     """The "Neighbour skies" view of one app."""
 
     title = "Neighbour skies"
+    tab = title  # the tab the view is shown in
 
     def __init__(self, app):
         self.app = app
@@ -91,6 +92,7 @@ class SkiesView:
         app.param.watch(self._observer, "selected")
         self.update()
 
+    @while_shown
     @batched
     def update(self, *_):
         d = self.app.derived
@@ -118,6 +120,7 @@ class SkiesView:
         self.error_note.text = f"ranges in the tooltips: {caption}" if caption else ""
         self._observer()
 
+    @while_shown
     @batched
     def _observer(self, *_):
         d, chosen = self.app.derived, self.app.selected

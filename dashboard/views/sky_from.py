@@ -26,7 +26,7 @@ from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER
 from orbitdeck.models.sky_view import close_approaches, sky_from
 
 from . import palette
-from .common import add_hover, batched, calm_selection, empty_source, new_figure, table_widget
+from .common import add_hover, batched, calm_selection, empty_source, new_figure, table_widget, while_shown
 
 #: times sampled over the window of the size and elongation plot
 WINDOW_SAMPLES = 400
@@ -68,6 +68,8 @@ def sky_coordinates(elements, observer: int, time: float):
 
 class SkyFromView:
     """The sky from the selected planet at the app's time."""
+
+    tab = "Neighbour skies"  # shown in the tab of SkiesView
 
     def __init__(self, app):
         self.app = app
@@ -116,6 +118,7 @@ class SkyFromView:
         self.window.param.watch(self.update, "value")
         self.update()
 
+    @while_shown
     @batched
     def update(self, *_):
         app, elements = self.app, self.app.elements

@@ -1,0 +1,164 @@
+"""Served pages: views of hidden tabs wait for their tab and are correct when it opens.
+
+In a served page (``OrbitDeckApp.page()``) only the shown tab's views follow
+each change at once; the others are marked stale and catch up when their tab
+is opened, before Panel builds the tab. The values a view shows after it has
+caught up are checked against derive() of the edited system, computed here
+on its own copy, and against an app that followed every change at once.
+"""
+
+from __future__ import annotations
+
+import gc
+
+import numpy as np
+import panel as pn
+import pytest
+from bokeh.document import Document
+
+from orbitdeck.dashboard.app import OrbitDeckApp
+from orbitdeck.dashboard.serve import server_settings, warm_up
+from orbitdeck.demo_systems import demo_path
+from orbitdeck.models import derive, load_system
+
+pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
+
+TITLES = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
+
+
+def served_app():
+    """An app whose page is attached to a document, as in a served session (Layout shown)."""
+    app = OrbitDeckApp(load_system(demo_path()))
+    app.page().server_doc(Document())
+    return app
+
+
+def flux_axes(app) -> list[float]:
+    return list(app.views["Flux & temperature"].sources["planets"].data["a"])
+
+
+def same(ours, theirs) -> bool:
+    """Equal columns: numbers with NaN equal to NaN, texts, or lists of arrays (multi-line glyphs)."""
+    if len(ours) != len(theirs):
+        return False
+    try:
+        return np.array_equal(np.asarray(ours, dtype=float), np.asarray(theirs, dtype=float), equal_nan=True)
+    except (TypeError, ValueError):
+        pass
+    if all(isinstance(x, str) for x in list(ours) + list(theirs)):
+        return list(ours) == list(theirs)
+    return all(same(np.atleast_1d(a), np.atleast_1d(b)) for a, b in zip(ours, theirs))
+
+
+def open_tab(app, title: str) -> None:
+    app.tabs.active = TITLES.index(title)
+
+
+def test_hidden_views_wait_and_catch_up_when_their_tab_opens():
+    app = served_app()
+    before = flux_axes(app)
+    app.system.star.mass = 0.2
+    expected = load_system(demo_path())
+    expected.star.mass = 0.2
+    a = derive(expected).planets["semi_major_axis_au"]
+    # the shown tab follows at once
+    assert list(app.views["Layout"].sources["planets"].data["a"]) == pytest.approx(a, rel=1e-12)
+    # a hidden view built before the change waits; the others are not built by it
+    assert app.stale_tabs() == ["Flux & temperature"]
+    assert app.views.built() == ["Layout", "Flux & temperature"]
+    assert flux_axes(app) == before
+    open_tab(app, "Flux & temperature")
+    assert flux_axes(app) == pytest.approx(a, rel=1e-12)
+    assert list(app.views["Flux & temperature"].table.value["a [au]"]) == pytest.approx(a, rel=1e-12)
+    assert "Flux & temperature" not in app.stale_tabs()
+
+
+def test_a_view_that_waited_matches_one_that_followed_every_change():
+    waiting, following = served_app(), OrbitDeckApp(load_system(demo_path()))
+    for app in (waiting, following):
+        app.system.star.mass = 0.15
+        app.selected = "e"
+        app.time = app.system.epoch + 3.3
+        app.system.planet("c").eccentricity = 0.05
+    for title in TITLES[1:]:
+        open_tab(waiting, title)
+    for title in TITLES:
+        for key, source in waiting.views[title].sources.items():
+            ours, theirs = source.data, following.views[title].sources[key].data
+            assert set(ours) == set(theirs), (title, key)
+            for column in ours:
+                assert same(ours[column], theirs[column]), (title, key, column)
+    sky_from = waiting.views["Neighbour skies"].sky_from
+    assert sky_from.table.value.equals(following.views["Neighbour skies"].sky_from.table.value)
+    assert sky_from.sky.title.text == following.views["Neighbour skies"].sky_from.sky.title.text
+    assert waiting.stale_tabs() == []
+
+
+def test_a_shown_tab_follows_selection_at_once_and_hidden_ones_on_opening():
+    app = served_app()
+    open_tab(app, "Observability")
+    app.selected = "d"
+    names = list(app.views["Observability"].sources["bars"].data["name"])
+    widths = list(app.views["Observability"].sources["bars"].data["line_width"])
+    assert widths[names.index("d")] == max(widths) and widths.count(max(widths)) == 1
+    assert "Observability" not in app.stale_tabs() and "Layout" in app.stale_tabs()
+    open_tab(app, "Layout")
+    sizes = list(app.views["Layout"].sources["planets"].data["size"])
+    assert sizes[names.index("d")] == max(sizes) and sizes.count(max(sizes)) == 1
+
+
+def test_a_session_builds_only_the_views_it_shows():
+    app = served_app()
+    assert app.views.built() == ["Layout"]
+    app.system.star.mass = 0.17
+    assert app.views.built() == ["Layout"] and app.stale_tabs() == []
+    open_tab(app, "Flux & temperature")
+    assert app.views.built() == ["Layout", "Flux & temperature"]
+    # built when first shown, from the state of that moment (checked against derive() on its own copy)
+    expected = load_system(demo_path())
+    expected.star.mass = 0.17
+    assert flux_axes(app) == pytest.approx(derive(expected).planets["semi_major_axis_au"], rel=1e-12)
+    assert app.tabs[TITLES.index("Flux & temperature")].objects, "the view is in its tab"
+    # reading a view from code builds it too, and every view is there
+    assert [type(app.views[t]).__name__ for t in TITLES] == ["LayoutView", "SkiesView", "LadderView", "FluxView",
+                                                             "ObservabilityView"]
+    assert app.views.built() == list(TITLES)
+
+
+def test_without_a_served_page_every_view_follows_at_once():
+    app = OrbitDeckApp(load_system(demo_path()))
+    app.system.star.mass = 0.2
+    assert app.stale_tabs() == []
+    expected = load_system(demo_path())
+    expected.star.mass = 0.2
+    assert flux_axes(app) == pytest.approx(derive(expected).planets["semi_major_axis_au"], rel=1e-12)
+
+
+def test_catch_up_all_brings_every_tab_up_to_date():
+    app = served_app()
+    app.system.star.mass = 0.13
+    app.catch_up_all()
+    assert app.stale_tabs() == [] and app.shown_tab == "Layout"
+    expected = load_system(demo_path())
+    expected.star.mass = 0.13
+    assert flux_axes(app) == pytest.approx(derive(expected).planets["semi_major_axis_au"], rel=1e-12)
+
+
+def test_warm_up_leaves_no_session_state_behind():
+    def apps_alive() -> int:
+        gc.collect()
+        return sum(isinstance(o, OrbitDeckApp) for o in gc.get_objects())
+
+    pn.extension("tabulator")
+    views_before, apps_before = set(pn.state._views), apps_alive()
+    warm_up(load_system(demo_path()))
+    assert set(pn.state._views) == views_before
+    assert apps_alive() == apps_before
+
+
+def test_server_releases_closed_sessions_sooner_than_bokeh_by_default():
+    settings = server_settings()
+    # Bokeh's defaults: 15000 ms without a connection, checked every 17000 ms (bokeh.server.server docs)
+    assert settings["unused_session_lifetime_milliseconds"] < 15000
+    assert settings["check_unused_sessions_milliseconds"] < 17000
+    assert settings["unused_session_lifetime_milliseconds"] >= 5000  # a page's websocket has time to connect
