@@ -85,10 +85,11 @@ def _newton(c, s, inner, outer, steps: int, sign: float = 1.0):
 
     The longitude is carried as a unit vector turned by each step (cosine and
     sine of the turn from their series to fifth order), so no trigonometric
-    function is evaluated per pair. The steps run in single precision (for
-    more than a few thousand pairs), which places the longitude to ~1e-7 rad; the gap there, evaluated in the
-    inputs' precision, is then off the extremum by ~a e 1e-14 only (the gap
-    is flat at an extremum). Returns the exact gap at the final longitude.
+    function is evaluated per pair. For more than a few thousand pairs the
+    steps run in single precision, which places the longitude to ~1e-7 rad;
+    the gap there, evaluated in the inputs' precision, is then off the
+    extremum by ~a e 1e-14 only (the gap is flat at an extremum). Returns the
+    exact gap at the final longitude.
     """
     precision, full_inner, full_outer = c.dtype, inner, outer
     if c.size >= _SINGLE_PRECISION_MIN:  # below this, converting costs more than it saves
@@ -223,15 +224,14 @@ def closest_distance_of_pairs(a, e, omega, inner_index, outer_index, steps: int 
     """
     dtype = np.result_type(a, e, omega, np.float32)   # single precision stays single
     a, e, omega = (np.asarray(x, dtype=dtype) for x in (a, e, omega))
-    shape = np.broadcast_shapes(a.shape, e.shape, omega.shape)
-    terms = tuple(np.broadcast_to(t, shape) for t in _orbit_terms(a, e, omega))
+    orbit_shape = np.broadcast_shapes(a.shape, e.shape, omega.shape)
+    terms = tuple(np.broadcast_to(t, orbit_shape) for t in _orbit_terms(a, e, omega))
     inner = tuple(np.take(t, inner_index, axis=-1).ravel() for t in terms)   # take: contiguous, so ravel copies nothing
     outer = tuple(np.take(t, outer_index, axis=-1).ravel() for t in terms)
-    shape = terms[0].shape[:-1] + np.shape(inner_index)
     distance = np.empty(inner[0].size, dtype=inner[0].dtype)
     # blocks small enough for the CPU cache: the search makes many passes over its arrays
     for start in range(0, distance.size, _BLOCK):
         block = slice(start, start + _BLOCK)
         part_in, part_out = tuple(t[block] for t in inner), tuple(t[block] for t in outer)
         distance[block] = _distance_from_gaps(_smallest_gap(part_in, part_out, steps), part_in, part_out)
-    return distance.reshape(shape)
+    return distance.reshape(orbit_shape[:-1] + np.shape(inner_index))

@@ -61,7 +61,10 @@ def _finite_rows(values: np.ndarray, percentiles) -> np.ndarray:
     row = np.arange(rows)[:, None, None]
     window_values = np.sort(values[row, order[:, window]], axis=2)        # (rows, wanted, width)
     first, last = window[:, 0], window[:, -1]
-    level_of = lambda position: levels[row[:, :, 0], order[:, position]]  # noqa: E731 (rows, wanted)
+
+    def level_of(position):  # level at each sorted position, shaped (rows, wanted)
+        return levels[row[:, :, 0], order[:, position]]
+
     level_wanted = level_of(wanted)
     closed_left = (first == 0) | (level_of(np.maximum(first - 1, 0)) != level_wanted)
     closed_right = (last == n - 1) | (level_of(np.minimum(last + 1, n - 1)) != level_wanted)

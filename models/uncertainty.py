@@ -183,13 +183,12 @@ def _draw_columns(derived, draws: Inputs, samples: int) -> tuple[list[tuple[str,
     # sky distances repeat a (star rows) and each pair's distance twice, and the
     # Moon ratio is the diameter rescaled: their percentiles follow from others
     derived_later = {"skies.closest_distance_au", "skies.moon_ratio"}
+    known = {**columns, **first_sky}
     names = [f"{table}.{key}" for table, cols in tables.items() for key, col in cols.items()
-             if (f"{table}.{key}" in columns or f"{table}.{key}" in first_sky) and col.dtype.kind == "f"
-             and f"{table}.{key}" not in derived_later]
+             if f"{table}.{key}" in known and col.dtype.kind == "f" and f"{table}.{key}" not in derived_later]
     names += ["sky_pairs.closest_distance_au"] + [key for key in columns if key.startswith("star.")]
     sky_names = [name for name in names if name in first_sky]
-    widths = [1 if name.startswith("star.") else (first_sky if name in first_sky else columns)[name].shape[1]
-              for name in names]
+    widths = [known[name].shape[1] if known[name].ndim == 2 else 1 for name in names]
     offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
     place = dict(zip(names, zip(offsets[:-1], offsets[1:])))
     matrix = np.empty((int(offsets[-1]), samples))
