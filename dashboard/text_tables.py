@@ -47,8 +47,6 @@ def format_cell(row: dict, key: str) -> str:
     value = row.get(key)
     if key == "planets":
         return "-".join(value)
-    if key == "mass_mearth" and row.get("mass_estimated"):
-        return format_number(value) + " (est.)"
     if isinstance(value, str):
         return value
     text = format_number(value)
@@ -56,6 +54,8 @@ def format_cell(row: dict, key: str) -> str:
     if interval and value is not None and None not in interval and isinstance(value, float):
         low, high = interval
         text += f" +{format_number(high - value)} -{format_number(value - low)}"
+    if key == "mass_mearth" and row.get("mass_estimated"):
+        text += " (est.)"
     return text
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import re
 from importlib.metadata import version
 
 import astropy.units as u
@@ -122,6 +123,10 @@ def test_table_prints_tables_with_units(cli, name):
         assert cells[2].startswith("+") and cells[3].startswith("-")
     assert f"intervals: 16th-84th percentiles of {DEFAULT_SAMPLES} Monte Carlo samples" in text
     assert "Results are model estimates" in text
+    # a mass estimated from radius keeps the interval the radius errors give it, and says it is estimated
+    estimated = [row for row in lines if "(est.)" in row]
+    assert len(estimated) == sum(p.mass is None for p in system.planets)
+    assert all(re.search(r"\d \+\S+ -\S+ \(est\.\)", row) for row in estimated)
 
 
 def test_table_without_file_shows_the_default_demo(cli):
