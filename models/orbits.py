@@ -103,6 +103,8 @@ def _newton(c, s, inner, outer, steps: int, sign: float = 1.0):
         # turns below 1e-8 rad change the gap by ~1e-16 a; zeroing them keeps the powers
         # below from reaching subnormal floats, on which the CPU is a hundred times slower
         turn = np.where(np.abs(turn) < 1e-8, 0.0, turn)
+        if not turn.any():  # converged everywhere (always so for circular orbits)
+            break
         turn2 = turn * turn
         cos_t = 1.0 - turn2 * (0.5 - turn2 / 24.0)
         sin_t = turn * (1.0 - turn2 * (1.0 / 6.0 - turn2 / 120.0))
