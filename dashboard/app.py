@@ -27,6 +27,9 @@ from .views.layout import REFERENCE_ORBITS
 #: view classes in the order of the tabs
 VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView)
 SIDEBAR_WIDTH = 350
+#: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
+#: opened most; every other view is built when its tab is first opened or the view is read from code
+BUILT_AT_ONCE = (VIEW_CLASSES[0].title, FluxView.title)
 
 
 class OrbitDeckApp(param.Parameterized):
@@ -62,7 +65,8 @@ class OrbitDeckApp(param.Parameterized):
         #: the views by tab title, each built when first reached (its tab opened, or read from code)
         self.views = LazyViews(self, VIEW_CLASSES, built=self._view_built)
         self._tab_bodies = {title: pn.Column(sizing_mode="stretch_width") for title in self.views}
-        self.views[VIEW_CLASSES[0].title]  # the first tab is shown when the page opens
+        for title in BUILT_AT_ONCE:
+            self.views[title]
         self.controls = Controls(self)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.header_name = pn.pane.HTML("", styles={"color": "white", "font-size": "18px"}, margin=(0, 10))

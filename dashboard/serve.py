@@ -11,7 +11,11 @@ imported module is loaded up front), a closed page's session is released a
 few seconds after its last connection (:func:`server_settings`), and after
 sessions are released the freed heap is handed back to the system
 (:class:`ServerMemory`, which also keeps full garbage collections from
-stalling the other sessions).
+stalling the other sessions). On Linux with glibc the command runs itself
+again, once and in the same process, with Python's system allocator
+(``PYTHONMALLOC=malloc``, :func:`run_with_system_allocator`), under which
+that freed memory can actually go back; a ``PYTHONMALLOC`` already set is
+left as it is.
 
 Run as ``orbitdeck serve [FILE] [--port N] [--no-show]`` or
 ``python -m orbitdeck.dashboard.serve [FILE] [--port N] [--no-show]``.
@@ -23,8 +27,11 @@ import argparse
 import ctypes
 import ctypes.util
 import gc
+import os
+import platform
 import socket
 import sys
+from pathlib import Path
 
 from .sharing import origins_argument
 
@@ -43,6 +50,51 @@ CHECK_UNUSED_SESSIONS_MS = 2_000
 MEMORY_RETURN_DELAY_S = 2.0
 #: time after a session is built before its objects are frozen (see ServerMemory) [s]
 FREEZE_DELAY_S = 1.0
+
+
+#: modules (``python -m``) and script names (console scripts) that are the orbitdeck command itself
+COMMAND_MODULES = ("orbitdeck.dashboard.serve", "orbitdeck.dashboard.cli")
+COMMAND_SCRIPTS = ("orbitdeck",)
+
+
+def _is_the_command() -> bool:
+    """True when this process runs the orbitdeck command (not a test runner or a notebook calling serve())."""
+    main = sys.modules.get("__main__")
+    spec = getattr(main, "__spec__", None)
+    if spec is not None:
+        return spec.name in COMMAND_MODULES
+    return Path(getattr(main, "__file__", "") or "").stem in COMMAND_SCRIPTS
+
+
+def wants_system_allocator() -> bool:
+    """True when ``orbitdeck serve`` should run again with Python's system allocator (see below).
+
+    Only on Linux with glibc, only for the command itself, and only when
+    ``PYTHONMALLOC`` is not set (set it, to ``pymalloc`` for instance, to keep
+    another allocator).
+    """
+    return (sys.platform.startswith("linux") and platform.libc_ver()[0] == "glibc"
+            and "PYTHONMALLOC" not in os.environ and bool(getattr(sys, "orig_argv", None)) and _is_the_command())
+
+
+def run_with_system_allocator() -> None:
+    """Replace this process by the same command line with ``PYTHONMALLOC=malloc``; returns only on failure.
+
+    Python's own allocator keeps small objects in 1 MiB arenas that go back
+    to the system only when every object in them is gone, so after a room of
+    sessions closes a few survivors pin most of the arenas. Under glibc's
+    malloc the freed memory is handed back by ``malloc_trim``
+    (:func:`release_memory`). The process is the same (``exec``): same id,
+    same arguments, same terminal, so Ctrl+C and the exit status are those
+    of the server.
+    """
+    argv = [sys.executable, *sys.orig_argv[1:]]
+    sys.stdout.flush()
+    sys.stderr.flush()
+    try:
+        os.execve(sys.executable, argv, {**os.environ, "PYTHONMALLOC": "malloc"})
+    except OSError:
+        pass  # served with the allocator already in use
 
 
 def port_is_free(port: int, host: str = HOST) -> bool:
@@ -242,6 +294,16 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
         print(f"orbitdeck serve: {error}", file=sys.stderr)
         return EXIT_BAD_INPUT
 
+    from .sharing import share_notice, share_settings
+
+    try:
+        settings = share_settings(list(share or []), port)
+    except ValueError as error:
+        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if wants_system_allocator():  # once the arguments are known to be good
+        run_with_system_allocator()
+
     import importlib
 
     import panel as pn
@@ -250,14 +312,6 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     warm_up(system)  # every module a session needs is loaded now, so that the first page opens as fast as the next
     memory = ServerMemory()
     memory.freeze()
-
-    from .sharing import share_notice, share_settings
-
-    try:
-        settings = share_settings(list(share or []), port)
-    except ValueError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
-        return EXIT_BAD_INPUT
     url = f"http://{HOST}:{port}/{ROUTE}"
     print(f"orbitdeck: serving {system.name!r} at {url} (Ctrl+C to stop)", flush=True)
     notice = share_notice(settings, ROUTE)

@@ -76,10 +76,11 @@ def wait_for(condition, timeout: float = 15.0, what: str = "the page to update")
 
 
 def show(page, view: str) -> None:
-    """Bring ``view``'s tab to the front (tabs are rendered when shown)."""
+    """Bring ``view``'s tab to the front (a tab's views are built and rendered when it is first shown)."""
     tab = page.locator(".bk-tab", has_text=view).first
     if "bk-active" not in (tab.get_attribute("class") or ""):
         tab.click()
+        page.locator(".bk-Canvas:visible").first.wait_for(timeout=15_000)
         page.wait_for_timeout(500)
 
 
@@ -127,13 +128,15 @@ def test_the_stellar_mass_control_changes_the_shown_semi_major_axes(browser, dem
         wait_for(lambda: flux_cells(page, "a [au]") != before, what="the new semi-major axes")
         assert [float(t) for t in flux_cells(page, "a [au]")] == pytest.approx(a, abs=5e-6)
         show(page, "Layout")
-        xs = page.evaluate("""() => {
+        orbit = page.evaluate("""() => {
             const doc = Bokeh.documents[0];
-            const s = [...doc._all_models.values()].find(m => m.type == "ColumnDataSource" && m.data.xs
-                                                         && m.data.periastron !== undefined && m.data.width);
-            return Array.from(s.data.xs[0]);
+            const s = [...doc._all_models.values()].find(m => m.type == "ColumnDataSource" && m.data.height
+                                                         && m.data.periastron !== undefined && m.data.angle);
+            return [s.data.x[0], s.data.y[0], s.data.width[0], s.data.height[0]];
         }""")
-        assert max(xs) == pytest.approx(a[0], rel=1e-9)  # e = 0: the orbit of b drawn at the new a
+        # e = 0: the orbit of b is drawn as a circle of radius a about the star, at the new a
+        assert orbit[:2] == pytest.approx([0.0, 0.0], abs=1e-12)
+        assert orbit[2] / 2 == pytest.approx(a[0], rel=1e-9) and orbit[3] / 2 == pytest.approx(a[0], rel=1e-9)
         screenshot(page, "dashboard_after_mass_edit.png")
 
 

@@ -141,7 +141,9 @@ def show(page, tab: str) -> None:
             continue
     else:
         raise AssertionError(f"the tab {tab!r} did not become active")
-    page.wait_for_timeout(500)
+    # a tab's views are built when it is first opened: wait until its plots are drawn
+    page.locator(".bk-Canvas:visible").first.wait_for(timeout=15_000)
+    page.wait_for_timeout(300)
 
 
 def not_owned(page) -> None:

@@ -10,6 +10,12 @@ on its own copy, and against an app that followed every change at once.
 from __future__ import annotations
 
 import gc
+import os
+import platform
+import signal
+import subprocess
+import sys
+from pathlib import Path
 
 import numpy as np
 import panel as pn
@@ -17,7 +23,7 @@ import pytest
 from bokeh.document import Document
 
 from orbitdeck.dashboard.app import OrbitDeckApp
-from orbitdeck.dashboard.serve import server_settings, warm_up
+from orbitdeck.dashboard.serve import server_settings, wants_system_allocator, warm_up
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -109,16 +115,18 @@ def test_a_shown_tab_follows_selection_at_once_and_hidden_ones_on_opening():
 
 def test_a_session_builds_only_the_views_it_shows():
     app = served_app()
-    assert app.views.built() == ["Layout"]
-    app.system.star.mass = 0.17
-    assert app.views.built() == ["Layout"] and app.stale_tabs() == []
-    open_tab(app, "Flux & temperature")
     assert app.views.built() == ["Layout", "Flux & temperature"]
-    # built when first shown, from the state of that moment (checked against derive() on its own copy)
+    app.system.star.mass = 0.17
+    assert app.views.built() == ["Layout", "Flux & temperature"]
+    assert app.stale_tabs() == ["Flux & temperature"]
+    open_tab(app, "Observability")
+    assert app.views.built() == ["Layout", "Flux & temperature", "Observability"]
+    assert app.tabs[TITLES.index("Observability")].objects, "the view is in its tab"
+    # built when first shown, from the state of that moment; the waiting one catches up when shown
     expected = load_system(demo_path())
     expected.star.mass = 0.17
+    open_tab(app, "Flux & temperature")
     assert flux_axes(app) == pytest.approx(derive(expected).planets["semi_major_axis_au"], rel=1e-12)
-    assert app.tabs[TITLES.index("Flux & temperature")].objects, "the view is in its tab"
     # reading a view from code builds it too, and every view is there
     assert [type(app.views[t]).__name__ for t in TITLES] == ["LayoutView", "SkiesView", "LadderView", "FluxView",
                                                              "ObservabilityView"]
@@ -162,3 +170,26 @@ def test_server_releases_closed_sessions_sooner_than_bokeh_by_default():
     assert settings["unused_session_lifetime_milliseconds"] < 15000
     assert settings["check_unused_sessions_milliseconds"] < 17000
     assert settings["unused_session_lifetime_milliseconds"] >= 5000  # a page's websocket has time to connect
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux") or platform.libc_ver()[0] != "glibc",
+                    reason="the served command switches allocators on Linux with glibc only")
+def test_the_served_command_runs_itself_with_the_system_allocator(tmp_path):
+    sys.path.insert(0, str(Path(__file__).parent))
+    from browser_support import free_port, stop, wait_until_serving
+
+    assert not wants_system_allocator()  # never from inside another program (here pytest)
+    port = free_port()
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONMALLOC"}
+    with open(tmp_path / "serve.log", "w+") as log:
+        server = subprocess.Popen([sys.executable, "-m", "orbitdeck.dashboard.serve", "--no-show", "--port",
+                                   str(port)], stdout=log, stderr=subprocess.STDOUT, env=env)
+        try:
+            wait_until_serving(server, port, log)
+            # the same process (replaced by exec), now with the variable set
+            assert b"PYTHONMALLOC=malloc" in Path(f"/proc/{server.pid}/environ").read_bytes().split(b"\0")
+            server.send_signal(signal.SIGINT)  # Ctrl+C
+            assert server.wait(timeout=30) == 0
+        finally:
+            if server.poll() is None:
+                stop(server)

@@ -61,6 +61,36 @@ def while_shown(method):
     return wrapper
 
 
+def _same_column(old, new) -> bool:
+    """True when two columns hold the same values (NaN equal to NaN); False when unsure."""
+    if old is new:
+        return True
+    try:
+        a, b = np.asarray(old), np.asarray(new)
+        if a.shape != b.shape or a.dtype.kind != b.dtype.kind:
+            return False
+        return bool(np.array_equal(a, b, equal_nan=a.dtype.kind in "fc"))
+    except (TypeError, ValueError):
+        return False
+
+
+def replace_data(source: ColumnDataSource, data: dict) -> None:
+    """Give ``source`` the columns of ``data``, sending the browser only the columns that changed.
+
+    When the column names or the row count change, the whole data is
+    replaced; otherwise only the columns whose values differ are updated (in
+    one change), and nothing is sent when none does.
+    """
+    old = source.data
+    lengths = {len(v) for v in data.values()}
+    if set(old) != set(data) or len(lengths) > 1 or {len(v) for v in old.values()} != lengths:
+        source.data = data
+        return
+    changed = {k: v for k, v in data.items() if not _same_column(old[k], v)}
+    if changed:
+        old.update(changed)
+
+
 def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
     """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
     options.setdefault("height", 420)

@@ -20,7 +20,7 @@ from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, planet_table, range_texts, span_texts, watch_taps, while_shown)
+                     new_figure, planet_table, range_texts, replace_data, span_texts, watch_taps, while_shown)
 
 #: the limits' names as shown
 HZ_LIMIT_LABELS = {"recent_venus": "recent Venus", "runaway_greenhouse": "runaway greenhouse",
@@ -145,13 +145,14 @@ class FluxView:
         colours = palette.planet_colours(len(names))
         s_interval, t_interval = interval(d, "planets", "insolation_earth"), interval(d, "planets", "teq_k")
         blank = [""] * len(names)
-        self.sources["planets"].data = {
+        replace_data(self.sources["planets"], {
             "S": S, "R": R, "name": list(names), "colour": colours,
             "teq": pl["teq_k"], "region": regions, "a": pl["semi_major_axis_au"],
             "S_range": span_texts(*s_interval) if s_interval else blank,
-            "teq_range": span_texts(*t_interval, digits=4) if t_interval else blank, **self._marker_columns(names)}
-        self.sources["errors"].data = ({"R": R, "lower": s_interval[0], "upper": s_interval[1], "colour": colours}
-                                       if s_interval else {k: [] for k in self.sources["errors"].data})
+            "teq_range": span_texts(*t_interval, digits=4) if t_interval else blank, **self._marker_columns(names)})
+        replace_data(self.sources["errors"],
+                     {"R": R, "lower": s_interval[0], "upper": s_interval[1], "colour": colours}
+                     if s_interval else {k: [] for k in self.sources["errors"].data})
         self.hover.tooltips = self.base_tooltips + (self.range_tooltips if s_interval else [])
         caption = interval_caption(d)
         self.error_note.text = f"horizontal bars: insolation, {caption}" if caption else ""

@@ -21,7 +21,7 @@ from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, table_widget, while_shown)
+                     new_figure, replace_data, span_texts, table_widget, while_shown)
 
 #: rung styles by order: (dash, colour, width)
 RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
@@ -140,16 +140,16 @@ class LadderView:
         p, q, order, rung = rungs_between(lo, hi)
         for k in RUNG_STYLES:
             keep = order == k
-            self.sources[f"rungs{k}"].data = {
+            replace_data(self.sources[f"rungs{k}"], {
                 "x0": np.full(keep.sum(), x_lo), "x1": np.full(keep.sum(), x_hi - 0.02), "y": rung[keep],
-                "label": [f"{a}:{b}" for a, b in zip(p[keep], q[keep])], "order": order[keep]}
+                "label": [f"{a}:{b}" for a, b in zip(p[keep], q[keep])], "order": order[keep]})
         nearest = [str(s) for s in pr["nearest"]]
         near_ratio = np.array([int(s.split(":")[0]) / int(s.split(":")[1]) for s in nearest]) if nearest else ratio
         pair_names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]
         self.ticker.ticks = list(range(n_pairs))
         self.figure.xaxis.major_label_overrides = {i: name for i, name in enumerate(pair_names)}
         delta = np.asarray(pr["delta"], dtype=float)
-        self.sources["pairs"].data = {
+        replace_data(self.sources["pairs"], {
             "x": np.arange(n_pairs, dtype=float), "y": ratio, "pair": pair_names,
             "inner_colour": colours[:-1] if n_pairs else [], "outer_colour": colours[1:] if n_pairs else [],
             "nearest": nearest, "rung": near_ratio, "order": np.asarray(pr["order"]), "delta": delta,
@@ -157,19 +157,19 @@ class LadderView:
                            for v, s in zip(delta, nearest)],
             "super_period": np.asarray(pr["super_period_d"], dtype=float),
             "spacing": np.asarray(pr["mutual_hill_spacing"], dtype=float), **self._ring_columns(d),
-            **self._range_columns(d, n_pairs)}
+            **self._range_columns(d, n_pairs)})
         self._update_errors(d, n_pairs, hi - lo)
         n_triples = len(tr["p"])
         trio = [list(t) for t in tr["planets"]]
         residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
         x0 = np.arange(n_triples, dtype=float)
-        self.sources["links"].data = {
+        replace_data(self.sources["links"], {
             "x0": x0, "y0": ratio[:n_triples], "x1": x0 + 1, "y1": ratio[1:n_triples + 1], "xm": x0 + 0.5,
             "ym": 0.5 * (ratio[:n_triples] + ratio[1:n_triples + 1]), "planets": ["\u2013".join(t) for t in trio],
             "p": np.asarray(tr["p"]), "q": np.asarray(tr["q"]), "residual": residual,
             "text": [f"p={a} q={b}: {v:.2g}\u00b0/d" if n_pairs <= MAX_LABELLED_PAIRS else ""
                      for a, b, v in zip(tr["p"], tr["q"], residual)],
-            **self._link_columns(trio)}
+            **self._link_columns(trio)})
         self.pairs_table.value = _pairs_frame(pr, d)
         self.triples_table.value = _triples_frame(tr)
 
@@ -188,11 +188,11 @@ class LadderView:
         found = interval(d, "pairs", "period_ratio")
         self.hover.tooltips = self.base_tooltips + (self.range_tooltips if found is not None else [])
         if found is None:
-            self.sources["errors"].data = {k: [] for k in self.sources["errors"].data}
+            replace_data(self.sources["errors"], {k: [] for k in self.sources["errors"].data})
             self.error_note.text = ""
             return
         lo, hi = found
-        self.sources["errors"].data = {"x": np.arange(n_pairs, dtype=float), "lower": lo, "upper": hi}
+        replace_data(self.sources["errors"], {"x": np.arange(n_pairs, dtype=float), "lower": lo, "upper": hi})
         # about 400 px of plot height: say so when every bar is shorter than the pair's disc
         tallest_px = float(np.nanmax(hi - lo, initial=0.0)) / shown_span * 400.0 if shown_span > 0 else 0.0
         self.error_note.text = (f"vertical bars: period ratio, {interval_caption(d)}"

@@ -24,28 +24,28 @@ from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, watch_taps, while_shown)
+                     new_figure, replace_data, watch_taps, while_shown)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
 REFERENCE_ORBITS = {"none": None, "Mercury (0.387 au)": 0.387, "Venus (0.723 au)": 0.723, "Earth (1 au)": 1.0}
-#: points per drawn ellipse; odd, so that apoastron (f = 180 deg) is one of them
-ORBIT_SAMPLES = 181
 SIZE_PLAIN, SIZE_SELECTED = 11, 19
 
 
-def orbit_curves(a, e, omega_rad, samples: int = ORBIT_SAMPLES):
-    """x, y [unit of a] of Keplerian ellipses about a focus at the origin, shape (planets, samples).
+def orbit_ellipses(a, e, omega_rad) -> dict:
+    """Keplerian orbits about a focus at the origin as ellipse glyphs: centre, axes [unit of a], angle [rad].
 
-    r = a (1 - e^2) / (1 + e cos f) (Murray & Dermott 1999, eq. 2.20) at the
-    angle omega + f from the line of nodes; the first point is periastron
-    and the middle one apoastron.
+    The ellipse of semi-major axis a and eccentricity e has the semi-minor
+    axis b = a sqrt(1 - e^2) and its centre a e from the focus, opposite
+    periastron (Murray & Dermott 1999, sec. 2.4); periastron lies at the
+    angle omega from the line of nodes, which is also the angle of the major
+    axis. Returns the columns ``x``, ``y`` (centre), ``width`` (2a),
+    ``height`` (2b) and ``angle`` (omega).
     """
-    f = np.linspace(0.0, 2.0 * np.pi, samples)[None, :]
-    a, e, omega = (np.asarray(v, dtype=float)[:, None] for v in (a, e, omega_rad))
-    r = a * (1.0 - e**2) / (1.0 + e * np.cos(f))
-    angle = omega + f
-    return r * np.cos(angle), r * np.sin(angle)
+    a, e, omega = (np.asarray(v, dtype=float) for v in (a, e, omega_rad))
+    cos_w, sin_w = np.cos(omega), np.sin(omega)
+    return {"x": -a * e * cos_w, "y": -a * e * sin_w, "width": 2.0 * a,
+            "height": 2.0 * a * np.sqrt(1.0 - e * e), "angle": omega}
 
 
 def in_plane_positions(elements, time: float):
@@ -78,7 +78,8 @@ class LayoutView:
             "hz": empty_source("inner", "outer", "kind", "limits", "colour", "alpha"),
             "reference": empty_source("radius", "label"),
             "bands": empty_source("inner", "outer", "name", "colour"),
-            "orbits": empty_source("xs", "ys", "name", "colour", "a", "e", "periastron", "apoastron", "width"),
+            "orbits": empty_source("x", "y", "width", "height", "angle", "name", "colour", "a", "e", "periastron",
+                                   "apoastron", "line_width"),
             "star": empty_source("radius", "name", "radius_rsun", "teff"),
             "hill": empty_source("x", "y", "radius", "name", "colour"),
             "planets": empty_source("x", "y", "name", "colour", "size", "line_colour", "line_width",
@@ -91,8 +92,9 @@ class LayoutView:
                             fill_alpha=0.5, line_color="colour", line_alpha=0.8, line_width=1, source=s["bands"])
         ref = fig.circle(x=0, y=0, radius="radius", fill_alpha=0, line_color=palette.REFERENCE_COLOUR,
                          line_dash="dashed", line_width=1.5, source=s["reference"])
-        orbits = fig.multi_line(xs="xs", ys="ys", line_color="colour", line_width="width", line_alpha=0.8,
-                                source=s["orbits"])
+        # an ellipse glyph per orbit: five numbers a planet where a drawn curve would need hundreds of points
+        orbits = fig.ellipse(x="x", y="y", width="width", height="height", angle="angle", fill_color=None,
+                             line_color="colour", line_width="line_width", line_alpha=0.8, source=s["orbits"])
         star = fig.circle(x=0, y=0, radius="radius", fill_color=palette.STAR_COLOUR, line_color="#8a6500",
                           source=s["star"])
         self.hill = fig.circle(x="x", y="y", radius="radius", fill_color="colour", fill_alpha=0.15,
@@ -151,31 +153,30 @@ class LayoutView:
         colours = palette.planet_colours(len(names))
         a, e = pl["semi_major_axis_au"], app.elements.e
         omega = app.elements.omega_rad
-        xs, ys = orbit_curves(a, e, omega)
         star_radius_au = d.star["radius_rsun"] * R_SUN / AU
-        self.sources["orbits"].data = {
-            "xs": list(xs), "ys": list(ys), "name": list(names), "colour": colours, "a": a, "e": e,
+        replace_data(self.sources["orbits"], {
+            **orbit_ellipses(a, e, omega), "name": list(names), "colour": colours, "a": a, "e": e,
             "periastron": d.extra["periastron_au"], "apoastron": d.extra["apoastron_au"],
-            "width": self._widths(names, 1.5, 3.5)}
-        self.sources["star"].data = {"radius": [star_radius_au], "name": [d.star["name"]],
-                                     "radius_rsun": [d.star["radius_rsun"]], "teff": [d.star["teff_k"]]}
+            "line_width": self._widths(names, 1.5, 3.5)})
+        replace_data(self.sources["star"], {"radius": [star_radius_au], "name": [d.star["name"]],
+                                            "radius_rsun": [d.star["radius_rsun"]], "teff": [d.star["teff_k"]]})
         self._update_hz(d)
         self._update_bands(d, names, colours)
         x, y, r, f = in_plane_positions(app.elements, app.time)
-        self.sources["planets"].data = {
+        replace_data(self.sources["planets"], {
             "x": x, "y": y, "name": list(names), "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a,
             "e": e, "periastron": d.extra["periastron_au"], "apoastron": d.extra["apoastron_au"],
-            **self._marker_columns(names)}
-        self.sources["hill"].data = {"x": x, "y": y, "radius": pl["hill_radius_au"], "name": list(names),
-                                     "colour": colours}
+            **self._marker_columns(names)})
+        replace_data(self.sources["hill"], {"x": x, "y": y, "radius": pl["hill_radius_au"], "name": list(names),
+                                            "colour": colours})
         reference = REFERENCE_ORBITS.get(app.reference)
         body = app.reference.split(" ")[0]
         self.reference_item.label = value(f"{body}'s orbit\n(a = {reference:g} au), for scale" if reference
                                           else "no scale reference")
-        self.sources["reference"].data = ({"radius": [reference],
-                                           "label": [f"circle of radius {reference:g} au, the semi-major axis of "
-                                                     f"{app.reference.split(' ')[0]}'s orbit"]}
-                                          if reference else {"radius": [], "label": []})
+        replace_data(self.sources["reference"],
+                     {"radius": [reference], "label": [f"circle of radius {reference:g} au, the semi-major axis of "
+                                                       f"{app.reference.split(' ')[0]}'s orbit"]}
+                     if reference else {"radius": [], "label": []})
         extent = 1.12 * max(float(np.max(d.extra["apoastron_au"], initial=0.0)), 3 * star_radius_au)
         hz_au = d.star["hz_au"]
         if hz_au and hz_au["early_mars"] < 3.0 * extent:
@@ -195,30 +196,30 @@ class LayoutView:
         found = interval(d, "planets", "semi_major_axis_au")
         self.band_item.visible = found is not None
         if found is None:
-            self.sources["bands"].data = {k: [] for k in self.sources["bands"].data}
+            replace_data(self.sources["bands"], {k: [] for k in self.sources["bands"].data})
             return
         lo, hi = found
         self.band_item.label = value(f"a: 16th\u201384th percentiles\nof {d.samples} Monte Carlo draws")
-        self.sources["bands"].data = {"inner": lo, "outer": hi, "name": list(names), "colour": colours}
+        replace_data(self.sources["bands"], {"inner": lo, "outer": hi, "name": list(names), "colour": colours})
 
     def _update_hz(self, d) -> None:
         hz = d.star["hz_au"]
         if not hz:
-            self.sources["hz"].data = {k: [] for k in self.sources["hz"].data}
+            replace_data(self.sources["hz"], {k: [] for k in self.sources["hz"].data})
             self.hz_items[0].label = value("no HZ: Teff outside 2600\u20137200 K")
             self.hz_items[1].label = value(" ")
             return
         rv, rg, mg, em = (hz[k] for k in ("recent_venus", "runaway_greenhouse", "maximum_greenhouse", "early_mars"))
         self.hz_items[0].label = value(f"conservative HZ\n{rg:.4f}\u2013{mg:.4f} au")
         self.hz_items[1].label = value(f"optimistic HZ\n{rv:.4f}\u2013{rg:.4f} au\n{mg:.4f}\u2013{em:.4f} au")
-        self.sources["hz"].data = {
+        replace_data(self.sources["hz"], {
             "inner": [rg, rv, mg], "outer": [mg, rg, em],
             "kind": ["conservative", "optimistic (inner)", "optimistic (outer)"],
             "limits": [f"runaway greenhouse {rg:.4g} au and maximum greenhouse {mg:.4g} au",
                        f"recent Venus {rv:.4g} au and runaway greenhouse {rg:.4g} au",
                        f"maximum greenhouse {mg:.4g} au and early Mars {em:.4g} au"],
             "colour": [palette.HZ_CONSERVATIVE_COLOUR, palette.HZ_OPTIMISTIC_COLOUR, palette.HZ_OPTIMISTIC_COLOUR],
-            "alpha": [0.35, 0.35, 0.35]}
+            "alpha": [0.35, 0.35, 0.35]})
 
     def _marker_columns(self, names) -> dict:
         chosen = [n == self.app.selected for n in names]
@@ -233,8 +234,9 @@ class LayoutView:
     @batched
     def _highlight(self, *_):
         names = list(self.sources["planets"].data["name"])
-        self.sources["planets"].data.update(self._marker_columns(names))
-        self.sources["orbits"].data.update(width=self._widths(names, 1.5, 3.5))
+        replace_data(self.sources["planets"], {**self.sources["planets"].data, **self._marker_columns(names)})
+        replace_data(self.sources["orbits"], {**self.sources["orbits"].data,
+                                              "line_width": self._widths(names, 1.5, 3.5)})
 
     def panel(self):
         return pn.pane.Bokeh(self.figure, sizing_mode="fixed")

@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     new_figure, planet_table, watch_taps, while_shown)
+                     new_figure, planet_table, replace_data, watch_taps, while_shown)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -74,10 +74,10 @@ class ObservabilityView:
         pl, names = d.planets, [str(n) for n in d.planet_names]
         tsm = as_floats(pl["tsm"])
         self.figure.x_range.factors = names
-        self.sources["bars"].data = {
+        replace_data(self.sources["bars"], {
             "name": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "esm": as_floats(pl["esm"]),
             "depth": as_floats(pl["transit_depth_ppm"]), "colour": palette.planet_colours(len(names)),
-            **self._outline(names)}
+            **self._outline(names)})
         notes = [] if np.isfinite(tsm).any() else [
             "TSM needs the star's J magnitude and ESM its K magnitude (j_mag, k_mag in the file)."]
         caption = interval_caption(d)

@@ -16,7 +16,7 @@ from bokeh.palettes import Cividis256
 
 from . import palette
 from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, span_texts, watch_taps, while_shown)
+                     new_figure, replace_data, span_texts, watch_taps, while_shown)
 from .sky_from import SkyFromView
 
 #: above this many planets the values are no longer printed inside the cells
@@ -108,11 +108,11 @@ class SkiesView:
         show_text = len(names) <= MAX_PLANETS_WITH_CELL_TEXT
         self.matrix.x_range.factors = [STAR_FACTOR, *names]
         self.matrix.y_range.factors = list(reversed(names))
-        self.sources["cells"].data = {
+        replace_data(self.sources["cells"], {
             "observer": list(sk["observer"]), "body": list(sk["body"]), "moon_ratio": ratio,
             "arcsec": sk["max_angular_diameter_arcsec"], "distance": sk["closest_distance_au"],
             "text": [f"{v:.2g}" if show_text else "" for v in ratio],
-            "text_colour": _cell_text_colour(ratio, low, high), **self._range_columns(d, slice(None))}
+            "text_colour": _cell_text_colour(ratio, low, high), **self._range_columns(d, slice(None))})
         ranged = bool(d.intervals)
         self.cell_hover.tooltips = self.cell_tooltips + (self.range_tooltips if ranged else [])
         self.bar_hover.tooltips = self.bar_tooltips + (self.range_tooltips if ranged else [])
@@ -129,15 +129,15 @@ class SkiesView:
         sk, names = d.skies, d.planet_names
         rows = np.flatnonzero(np.asarray(sk["observer"]) == chosen) if chosen in names else np.array([], int)
         bodies = [str(b) for b in np.asarray(sk["body"])[rows]]
-        self.sources["row"].data = {"observer": [chosen] * len(rows), "body": bodies}
+        replace_data(self.sources["row"], {"observer": [chosen] * len(rows), "body": bodies})
         colours = [palette.STAR_COLOUR if b == STAR_FACTOR and i == 0 else palette.body_colour(b, names)
                    for i, b in enumerate(bodies)]
         self.bars.x_range.factors = bodies
-        self.sources["bars"].data = {
+        replace_data(self.sources["bars"], {
             "body": bodies, "moon_ratio": np.asarray(sk["moon_ratio"], dtype=float)[rows],
             "arcsec": np.asarray(sk["max_angular_diameter_arcsec"])[rows],
             "distance": np.asarray(sk["closest_distance_au"])[rows], "colour": colours,
-            **self._range_columns(d, rows)}
+            **self._range_columns(d, rows)})
         self.bars.title.text = (f"In the sky of planet {chosen}: largest apparent diameters (closest approach)"
                                 if rows.size else "Pick a planet to see its sky")
 

@@ -26,7 +26,8 @@ from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER
 from orbitdeck.models.sky_view import close_approaches, sky_from
 
 from . import palette
-from .common import add_hover, batched, calm_selection, empty_source, new_figure, table_widget, while_shown
+from .common import (add_hover, batched, calm_selection, empty_source, new_figure, replace_data, table_widget,
+                     while_shown)
 
 #: times sampled over the window of the size and elongation plot
 WINDOW_SAMPLES = 400
@@ -132,16 +133,16 @@ class SkyFromView:
         longitude, latitude = sky_coordinates(elements, names.index(observer), time)
         bodies = now["bodies"]
         colours = [palette.STAR_COLOUR if b == "star" else palette.body_colour(b, names) for b in bodies]
-        self.sources["discs"].data = {
+        replace_data(self.sources["discs"], {
             "x": longitude, "y": latitude, "radius": now["angular_diameter_arcsec"] / 7200.0,
             "colour": colours, "body": bodies, "arcsec": now["angular_diameter_arcsec"],
             "elongation": now["elongation_deg"], "phase": np.nan_to_num(now["phase_angle_deg"], nan=-1.0),
             "lit": now["illuminated_fraction"], "brightness": now["brightness_moon_ratio"],
-            "distance": now["distance_au"]}
+            "distance": now["distance_au"]})
         # the reference Moon sits just beside the star's disc, on the side away from most bodies
         side = -1.0 if np.sum(longitude[1:] > 0) > np.sum(longitude[1:] < 0) else 1.0
         moon_x = side * (now["angular_diameter_arcsec"][0] / 7200.0 + MOON_DEG)
-        self.sources["moon"].data = {"x": [moon_x], "y": [0.0], "radius": [MOON_DEG / 2.0]}
+        replace_data(self.sources["moon"], {"x": [moon_x], "y": [0.0], "radius": [MOON_DEG / 2.0]})
         self.moon_label.update(x=moon_x, y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0) - 0.3)
         self.sky.title.text = (f"The sky of planet {observer} at BJD_TDB {time:.4f} "
                                "(discs to scale; hover for phase and brightness)")
@@ -150,9 +151,9 @@ class SkyFromView:
         times = start + np.linspace(0.0, span, WINDOW_SAMPLES)
         track = sky_from(app.system, observer, times, a_au=a_au)
         rel = times - start
-        self.sources["tracks"].data = {
+        replace_data(self.sources["tracks"], {
             "t": [rel] * len(bodies), "arcsec": list(track["angular_diameter_arcsec"].T),
-            "elongation": list(track["elongation_deg"].T), "colour": colours, "body": bodies}
+            "elongation": list(track["elongation_deg"].T), "colour": colours, "body": bodies})
 
         events = close_approaches(app.system, observer, after=time, count=APPROACHES_PER_BODY, a_au=a_au)
         rows = [(b["body"], e["time"], e["distance_au"], e["angular_diameter_arcsec"])

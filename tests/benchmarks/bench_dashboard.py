@@ -4,7 +4,7 @@
   selection and a time change) to every view having replaced its data, for
   the 7-planet demo and a 30-planet synthetic system; once with only the
   page as a browser first sees it attached to a Bokeh document (the Layout
-  tab: the other tabs are rendered when shown) and once with all five views
+  tab: the other tabs' views are built when shown) and once with all five views
   attached, so that every change is also turned into document events;
 * the same for the 7-planet demo with Monte Carlo uncertainties on at
   4000 draws (the change then includes the draws and every interval drawn);

@@ -126,6 +126,11 @@ class Session:
         self._pending: list[tuple[float, float]] = []  # (start time, mass typed) not answered yet, oldest first
         self.superseded = 0  # changes the server merged into a later one (only the later value was shown)
         self._values = itertools.cycle(VALUES)
+        self.changes = 0  # changes sent while measuring
+        self.received = 0  # bytes of the server's messages while measuring (JSON text and binary buffers)
+        self.messages = 0
+        self.by_model: dict[str, int] = {}  # JSON bytes per patched model type and attribute (with --detail)
+        self.detail = False
         self.thread = threading.Thread(target=self._run, name=f"session-{index}", daemon=True)
 
     # -- in the session's thread -------------------------------------------------
@@ -136,6 +141,7 @@ class Session:
         self.loop = IOLoop()
         try:
             self.session = pull_session(url=self.url, io_loop=self.loop)
+            self._count_bytes(self.session._connection)
             self.loop.add_callback(self._set_up)
             # the connection reads the server's messages only while this runs, until it closes
             self.session._connection.loop_until_closed()
@@ -181,6 +187,47 @@ class Session:
         finally:
             self.ready.set()
 
+    def _count_bytes(self, connection) -> None:
+        """Count the bytes of every message fragment the server sends on ``connection``."""
+        receiver = connection._receiver
+        consume = receiver.consume
+
+        async def counting(fragment):
+            self.received += len(fragment.encode("utf-8") if isinstance(fragment, str) else fragment)
+            message = await consume(fragment)
+            if message is not None:
+                self.messages += 1
+                if self.detail:
+                    self._itemise(message)
+            return message
+
+        receiver.consume = counting
+
+    def _itemise(self, message) -> None:
+        """Add the JSON size of each event of a PATCH-DOC message to ``by_model`` (buffers apart)."""
+        import json
+
+        content = message.content if isinstance(message.content, dict) else {}
+        types = {}
+        for event in content.get("events", []):
+            model = event.get("model", {}) or {}
+            mid = model.get("id") if isinstance(model, dict) else None
+            found = self.session.document.get_model_by_id(mid) if mid else None
+            name = type(found).__name__ if found is not None else "?"
+            if name == "ColumnDataSource" and found is not None:
+                name += "[" + ",".join(sorted(found.data)[:4]) + "]"
+            key = f"{event.get('kind')} {name}.{event.get('attr', '')}"
+            types[key] = types.get(key, 0) + len(json.dumps(event))
+        for key, size in types.items():
+            self.by_model[key] = self.by_model.get(key, 0) + size
+        buffers = sum(len(b.data) if hasattr(b, "data") else len(b[1]) for b in message.buffers)
+        if buffers:
+            self.by_model["(binary buffers)"] = self.by_model.get("(binary buffers)", 0) + buffers
+
+    def start_measuring(self) -> None:
+        self.received = self.messages = self.changes = 0
+        self.by_model.clear()
+
     @staticmethod
     async def _until(condition, seconds: float, what: str):
         import asyncio
@@ -209,6 +256,7 @@ class Session:
         if value == self.entry.value:
             value = next(self._values)
         self._pending.append((time.perf_counter(), float(value)))
+        self.changes += 1
         self.entry.value = value
 
     def _shown_mass(self, axes) -> float | None:
@@ -316,6 +364,10 @@ def run_wave(args, url: str, server_pid: int, log_path: str, wave: int) -> dict:
     sampler = threading.Thread(target=sample, daemon=True)
     sampler.start()
 
+    for s in sessions:
+        s.detail = args.detail and s is sessions[0]
+        s.loop.add_callback(s.start_measuring)
+    time.sleep(0.2)
     phases = sorted(random.Random(wave).uniform(0, args.interval) for _ in sessions)
     cpu_start, load_start = cpu_seconds(server_pid), os.getloadavg()[0]
     client_start = time.process_time()
@@ -359,6 +411,8 @@ def run_wave(args, url: str, server_pid: int, log_path: str, wave: int) -> dict:
             "errors": [e for s in sessions for e in s.errors], "live": len(live), "before": before,
             "superseded": sum(s.superseded for s in sessions),
             "all_open": all_open, "peak": max(peak[0], all_open or 0.0), "after": after,
+            "changes": sum(s.changes for s in sessions), "received": sum(s.received for s in sessions),
+            "messages": sum(s.messages for s in sessions), "by_model": sessions[0].by_model,
             "cpu": cpu, "client_cpu": client_cpu, "busy": busy, "load": (load_start, os.getloadavg()[0])}
 
 
@@ -382,6 +436,14 @@ def report(result: dict, start_rss: float, wave: int) -> None:
           f"{os.cpu_count()} cores")
     print(f"client CPU             {result['client_cpu']:8.1f} s ({100 * result['client_cpu'] / result['busy']:.0f} % "
           "of one core: this process reads every patch in Python, which adds to the latencies)")
+    changes = max(result["changes"], 1)
+    print(f"sent per change        {result['received'] / changes / 1024:8.1f} KiB in "
+          f"{result['messages'] / changes:.2f} messages ({result['received'] / 2**20:.1f} MiB to "
+          f"{result['live']} sessions for {result['changes']} changes)")
+    if result["by_model"]:
+        print("  one session's messages by patched model (JSON bytes; buffers apart):")
+        for key, size in sorted(result["by_model"].items(), key=lambda kv: -kv[1])[:15]:
+            print(f"  {size / changes * result['live']:10.0f} B/change  {key}")
     for line in errors[:10]:
         print(f"  {line}")
     if len(errors) > 10:
@@ -410,6 +472,8 @@ def main(argv=None) -> int:
                         help="repeat open-change-close this many times (memory growth per wave, default 1)")
     parser.add_argument("--tab", choices=sorted(MARKER_COLUMNS), default="Layout", help="the view measured")
     parser.add_argument("--file", default=None, help="system file (default: the bundled demo)")
+    parser.add_argument("--detail", action="store_true",
+                        help="itemise the first session's messages by the model they patch")
     parser.add_argument("--unused-session-lifetime", type=int, default=0, metavar="MS")
     parser.add_argument("--check-unused-sessions", type=int, default=0, metavar="MS")
     parser.add_argument("--trim", type=int, default=0, metavar="MS",
