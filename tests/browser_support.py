@@ -194,3 +194,12 @@ def served(tmp_path: Path, *arguments: str):
     finally:
         stop(server)
         log.close()
+
+
+def wait_for(condition, timeout: float = 15.0, what: str = "the page to update") -> None:
+    """Poll ``condition()`` every 0.1 s until it is true; AssertionError naming ``what`` after ``timeout`` s."""
+    deadline = time.monotonic() + timeout
+    while not condition():
+        if time.monotonic() > deadline:
+            raise AssertionError(f"timed out waiting for {what}")
+        time.sleep(0.1)

@@ -10,12 +10,11 @@ exercised. Values shown are compared with ``derive()``.
 from __future__ import annotations
 
 import contextlib
-import time
 from pathlib import Path
 
 import pytest
 
-from browser_support import open_page, screenshot, served
+from browser_support import open_page, screenshot, served, wait_for
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -65,14 +64,6 @@ def planet_on_screen(page, name: str) -> tuple[float, float]:
     }"""
     page.wait_for_function(finder, arg=name, timeout=15_000)
     return tuple(page.evaluate(finder, name))
-
-
-def wait_for(condition, timeout: float = 15.0, what: str = "the page to update"):
-    deadline = time.monotonic() + timeout
-    while not condition():
-        if time.monotonic() > deadline:
-            raise AssertionError(f"timed out waiting for {what}")
-        time.sleep(0.1)
 
 
 def show(page, view: str) -> None:

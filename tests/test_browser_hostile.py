@@ -18,12 +18,11 @@ from __future__ import annotations
 import contextlib
 import json
 import re
-import time
 from pathlib import Path
 
 import pytest
 
-from browser_support import open_page, screenshot, served
+from browser_support import open_page, screenshot, served, wait_for
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
 
@@ -115,14 +114,6 @@ def dashboard(browser, url):
         yield page, log, dialogs
         assert log.problems_on_server(origin) == []
         assert dialogs == [], dialogs
-
-
-def wait_for(condition, timeout: float = 15.0, what: str = "the page to update"):
-    deadline = time.monotonic() + timeout
-    while not condition():
-        if time.monotonic() > deadline:
-            raise AssertionError(f"timed out waiting for {what}")
-        time.sleep(0.1)
 
 
 def tab_names(page) -> list[str]:

@@ -61,6 +61,14 @@ def while_shown(method):
     return wrapper
 
 
+def follow(app, update, on_select, inputs=("derived",)) -> None:
+    """Wire a view to its app: ``update`` on every change of ``inputs``, ``on_select``
+    when the selected planet changes, and one ``update`` now."""
+    app.param.watch(update, list(inputs))
+    app.param.watch(on_select, "selected")
+    update()
+
+
 def _same_column(old, new) -> bool:
     """True when two columns hold the same values (NaN equal to NaN); False when unsure."""
     if old is new:

@@ -19,7 +19,7 @@ from bokeh.models import BoxAnnotation, FixedTicker, Label, PrintfTickFormatter,
 from orbitdeck.models.irradiation import HZ_LIMITS
 
 from . import palette
-from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
+from .common import (add_hover, follow, as_floats, batched, calm_selection, empty_source, interval, interval_caption,
                      new_figure, planet_table, range_texts, replace_data, span_texts, watch_taps, while_shown)
 
 #: the limits' names as shown
@@ -129,9 +129,7 @@ class FluxView:
         self.hover = add_hover(fig, [points], self.base_tooltips)
         watch_taps(s, app)
         self.table, self._sync_table = planet_table(app, TABLE_FORMATS)
-        app.param.watch(self.update, "derived")
-        app.param.watch(self._highlight, "selected")
-        self.update()
+        follow(app, self.update, self._highlight)
 
     @while_shown
     @batched

@@ -20,7 +20,7 @@ from bokeh.models import FixedTicker, Label, Range1d, TeeHead, Whisker
 from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
-from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
+from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
                      new_figure, replace_data, span_texts, table_widget, while_shown)
 
 #: rung styles by order: (dash, colour, width)
@@ -119,9 +119,7 @@ class LadderView:
             "TTV super-period [d]": "0.0", "spacing [mutual Hill radii]": "0.00"}, height=230, selectable=False)
         self.triples_table = table_widget({}, formats={"residual [deg/d]": "0.000000"}, height=190,
                                           selectable=False)
-        app.param.watch(self.update, "derived")
-        app.param.watch(self._highlight, "selected")
-        self.update()
+        follow(app, self.update, self._highlight)
 
     @while_shown
     @batched

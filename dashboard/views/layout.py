@@ -23,7 +23,7 @@ from orbitdeck.models import ephemeris
 from orbitdeck.models.constants import AU, R_SUN
 
 from . import palette
-from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
+from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
                      new_figure, replace_data, watch_taps, while_shown)
 
 #: Solar System orbits offered for scale: circles of radius a [au]
@@ -130,10 +130,8 @@ class LayoutView:
                           text_color="#444444", background_fill_color="white", background_fill_alpha=0.7)
         fig.add_layout(self.note)
         watch_taps(s["planets"], app)
-        app.param.watch(self.update, ["derived", "elements", "time", "reference"])
         app.param.watch(self._show_hill, "show_hill")
-        app.param.watch(self._highlight, "selected")
-        self.update()
+        follow(app, self.update, self._highlight, inputs=("derived", "elements", "time", "reference"))
         self._show_hill()
 
     # -- user actions --------------------------------------------------------

@@ -14,7 +14,7 @@ import panel as pn
 from bokeh.models import FactorRange
 
 from . import palette
-from .common import (add_hover, as_floats, batched, calm_selection, empty_source, interval_caption,
+from .common import (add_hover, follow, as_floats, batched, calm_selection, empty_source, interval_caption,
                      new_figure, planet_table, replace_data, watch_taps, while_shown)
 from .flux import with_ranges
 
@@ -61,9 +61,7 @@ class ObservabilityView:
         watch_taps(s, app)
         self.note = pn.pane.HTML("", styles={"color": "#8a2d00"})
         self.table, self._sync_table = planet_table(app, TABLE_FORMATS)
-        app.param.watch(self.update, "derived")
-        app.param.watch(self._highlight, "selected")
-        self.update()
+        follow(app, self.update, self._highlight)
 
     @while_shown
     @batched

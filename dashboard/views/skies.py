@@ -15,7 +15,7 @@ from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span
 from bokeh.palettes import Cividis256
 
 from . import palette
-from .common import (add_hover, batched, calm_selection, empty_source, interval, interval_caption,
+from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
                      new_figure, replace_data, span_texts, watch_taps, while_shown)
 from .sky_from import SkyFromView
 
@@ -88,9 +88,7 @@ class SkiesView:
                                 text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
         bars.add_layout(self.error_note)
         self.sky_from = SkyFromView(app)
-        app.param.watch(self.update, "derived")
-        app.param.watch(self._observer, "selected")
-        self.update()
+        follow(app, self.update, self._observer)
 
     @while_shown
     @batched
