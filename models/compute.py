@@ -56,8 +56,7 @@ class Anchor:
     triple_q: np.ndarray
 
 
-def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.NEWTON_STEPS,
-            sky_dtype=np.float64) -> dict[str, np.ndarray]:
+def compute(inp: Inputs, anchor: Anchor | None = None) -> dict[str, np.ndarray]:
     """All derived columns for ``inp``; see :mod:`orbitdeck.models.derive` for their keys.
 
     Parameters
@@ -67,13 +66,6 @@ def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.N
         Measure pair offsets, super-periods and three-body residuals from
         these nominal choices instead of each row's own (adds the boolean
         column ``"pairs.other_nearest"``: the row's own nearest differs).
-    sky_steps : int
-        Newton steps of the closest-approach search (see
-        :func:`orbits.closest_orbit_distance`).
-    sky_dtype : numpy dtype
-        Precision of the sky geometry (the N(N-1) rows that dominate the
-        cost): ``np.float32`` keeps relative errors near 1e-6, enough for
-        Monte Carlo draws, whose spread is far larger.
 
     Returns
     -------
@@ -81,10 +73,11 @@ def compute(inp: Inputs, anchor: Anchor | None = None, sky_steps: int = orbits.N
         ``"star.<key>"`` arrays (samples,), plus planet, pair, triple and
         sky columns keyed ``"planets.<key>"`` etc., each (samples, rows).
     """
-    out, orbit = star_and_planet_columns(inp)
+    orbit = orbit_of(inp)
+    out = star_and_planet_columns(inp, orbit)
     out.update(pair_columns(inp, orbit, anchor))
     out.update(triple_columns(inp, anchor))
-    out.update(sky_columns(orbit, sky_steps, sky_dtype))
+    out.update(sky_columns(orbit))
     return out
 
 
@@ -109,10 +102,21 @@ class Orbit:
                        for array in (getattr(self, f.name) for f in fields(self))))
 
 
-def star_and_planet_columns(inp: Inputs) -> tuple[dict[str, np.ndarray], Orbit]:
-    out: dict[str, np.ndarray] = {}
+def orbit_of(inp: Inputs) -> Orbit:
+    """The orbits and bodies of ``inp`` in SI units (masses estimated from radii where absent)."""
+    mass_mearth = np.where(np.isnan(inp.mass), composition.mass_from_radius(inp.radius), inp.mass)
+    mass_kg = mass_mearth * M_EARTH
     star_mass_kg = inp.star_mass * M_SUN
-    star_radius_m = inp.star_radius * R_SUN
+    a_au = orbits.semi_major_axis(inp.period * DAY, star_mass_kg + mass_kg) / AU
+    return Orbit(a_au, inp.eccentricity, np.radians(inp.omega), mass_kg, inp.radius * R_EARTH, star_mass_kg,
+                 inp.star_radius * R_SUN)
+
+
+def star_and_planet_columns(inp: Inputs, orbit: Orbit, regions: bool = True) -> dict[str, np.ndarray]:
+    """Star and planet columns of ``inp`` (whose :func:`orbit_of` is ``orbit``); with ``regions``,
+    also each planet's habitable-zone region (an integer column, not needed for intervals)."""
+    out: dict[str, np.ndarray] = {}
+    star_mass_kg, star_radius_m = orbit.star_mass_kg, orbit.star_radius_m
     computed_luminosity = irradiation.luminosity_from_radius_teff(star_radius_m, inp.star_teff) / L_SUN
     luminosity = np.where(np.isnan(inp.star_luminosity), computed_luminosity, inp.star_luminosity)
     limit_flux = irradiation.hz_effective_flux(inp.star_teff[:, 0])            # (S, 4)
@@ -122,16 +126,13 @@ def star_and_planet_columns(inp: Inputs) -> tuple[dict[str, np.ndarray], Orbit]:
         out[f"star.hz_au.{key}"] = hz_au[:, i]
 
     mass_estimated = np.isnan(inp.mass)
-    mass_mearth = np.where(mass_estimated, composition.mass_from_radius(inp.radius), inp.mass)
-    mass_kg = mass_mearth * M_EARTH
-    radius_m = inp.radius * R_EARTH
+    mass_kg, radius_m = orbit.mass_kg, orbit.radius_m
+    mass_mearth = mass_kg / M_EARTH
     period_s = inp.period * DAY
-    e = inp.eccentricity
+    e, omega = orbit.eccentricity, orbit.omega_rad
     incl = np.radians(inp.inclination)
-    omega = np.radians(inp.omega)
-
-    a_m = orbits.semi_major_axis(period_s, star_mass_kg + mass_kg)
-    a_au = a_m / AU
+    a_au = orbit.a_au
+    a_m = a_au * AU
     s_earth = irradiation.insolation(luminosity, a_au, e)
     teq = irradiation.equilibrium_temperature(inp.star_teff, star_radius_m, a_m, inp.bond_albedo, inp.redistribution)
     teq_kempton = irradiation.equilibrium_temperature(inp.star_teff, star_radius_m, a_m, 0.0, 0.25)
@@ -149,7 +150,6 @@ def star_and_planet_columns(inp: Inputs) -> tuple[dict[str, np.ndarray], Orbit]:
         "surface_gravity_ms2": composition.surface_gravity(mass_kg, radius_m),
         "escape_speed_kms": composition.escape_speed(mass_kg, radius_m) / 1000.0,
         "hill_radius_au": dynamics.hill_radius(a_au, e, mass_kg, star_mass_kg),
-        "hz_region_index": irradiation.hz_region_index(s_earth, limit_flux),
         "transit_probability": observability.transit_probability(star_radius_m, radius_m, a_m, e, omega),
         "transit_depth_ppm": observability.transit_depth(radius_m, star_radius_m) * 1e6,
         "transit_duration_h": observability.transit_duration_total(period_s, a_m, star_radius_m, radius_m,
@@ -164,8 +164,10 @@ def star_and_planet_columns(inp: Inputs) -> tuple[dict[str, np.ndarray], Orbit]:
         "periastron_au": a_au * (1.0 - e),
         "apoastron_au": a_au * (1.0 + e),
     }
+    if regions:
+        planet["hz_region_index"] = irradiation.hz_region_index(s_earth, limit_flux)
     out.update({f"planets.{k}": v for k, v in planet.items()})
-    return out, Orbit(a_au, e, omega, mass_kg, radius_m, star_mass_kg, star_radius_m)
+    return out
 
 
 def pair_columns(inp: Inputs, orbit: Orbit, anchor: Anchor | None) -> dict[str, np.ndarray]:
@@ -200,17 +202,14 @@ def triple_columns(inp: Inputs, anchor: Anchor | None) -> dict[str, np.ndarray]:
     return {"triples.p": tp, "triples.q": tq, "triples.residual_deg_per_day": residual}
 
 
-def sky_columns(orbit: Orbit, steps: int, dtype) -> dict[str, np.ndarray]:
+def sky_columns(orbit: Orbit) -> dict[str, np.ndarray]:
     n = orbit.a_au.shape[1]
     observer, body, pair = sky_rows(n)
     is_star = body < 0
     inner_of, outer_of = np.triu_indices(n, 1)
-    a_au = orbit.a_au.astype(dtype, copy=False)
-    closest = orbits.closest_distance_of_pairs(a_au, orbit.eccentricity.astype(dtype, copy=False),
-                                               orbit.omega_rad.astype(dtype, copy=False), inner_of, outer_of, steps)
-    distance_au = np.where(is_star, a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
-    body_radius_au = np.where(is_star, (orbit.star_radius_m / AU).astype(dtype, copy=False),
-                              (orbit.radius_m / AU).astype(dtype, copy=False)[:, np.where(is_star, 0, body)])
+    closest = orbits.closest_distance_of_pairs(orbit.a_au, orbit.eccentricity, orbit.omega_rad, inner_of, outer_of)
+    distance_au = np.where(is_star, orbit.a_au[:, observer], closest[:, np.maximum(pair, 0)] if closest.size else 0.0)
+    body_radius_au = np.where(is_star, orbit.star_radius_m / AU, (orbit.radius_m / AU)[:, np.where(is_star, 0, body)])
     diameter = skies.angular_diameter(body_radius_au, distance_au)
     return {
         "sky_pairs.closest_distance_au": closest,

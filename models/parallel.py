@@ -1,26 +1,62 @@
 """A small pool of worker threads for array work that releases the GIL.
 
 numpy's ufunc loops and sorts let other threads run while they work on
-large arrays, so splitting an array computation into a few parts run on
-threads uses both cores of a small machine. One pool is kept per process,
-with as many threads as cores, at most two.
+large arrays, so splitting an array computation into independent tasks
+shared between the calling thread and a worker uses both cores of a small
+machine. One pool is kept per process, with as many threads as cores, at
+most two.
 """
 
 from __future__ import annotations
 
 import os
+import threading
+from collections import deque
 from concurrent.futures import ThreadPoolExecutor
 
 WORKERS = max(1, min(2, os.cpu_count() or 1))
 _pool: ThreadPoolExecutor | None = None
+_PREFIX = "orbitdeck-worker"
 
 
-def thread_map(function, items) -> list:
-    """``[function(item) for item in items]``, run on the pool's threads (in order)."""
-    global _pool
-    items = list(items)
-    if WORKERS == 1 or len(items) < 2:
-        return [function(item) for item in items]
-    if _pool is None:
-        _pool = ThreadPoolExecutor(WORKERS, thread_name_prefix="orbitdeck")
-    return list(_pool.map(function, items))
+class SharedWork:
+    """Zero-argument tasks that the calling thread and the pool's threads take in turn.
+
+    :meth:`add` queues tasks and lets the pool's threads (all but one of
+    ``WORKERS``: the caller is the other) begin on them while the caller goes
+    on; :meth:`finish` makes the caller take tasks too until none is left,
+    then waits for the tasks still running and re-raises the first error.
+    Tasks may be added in several batches; each is taken by one thread.
+    From one of the pool's own threads, or with one core, every task runs
+    in the caller.
+    """
+
+    def __init__(self):
+        self._queue: deque = deque()
+        self._helpers: list = []
+        self._inline = WORKERS == 1 or threading.current_thread().name.startswith(_PREFIX)
+
+    def add(self, tasks) -> None:
+        self._queue.extend(tasks)
+        if self._inline:
+            return
+        global _pool
+        if _pool is None:
+            _pool = ThreadPoolExecutor(WORKERS, thread_name_prefix=_PREFIX)
+        while len([h for h in self._helpers if not h.done()]) < WORKERS - 1:
+            self._helpers.append(_pool.submit(self._take_all))
+
+    def _take_all(self) -> None:
+        while True:
+            try:
+                task = self._queue.popleft()   # one thread gets each task (deque operations are atomic)
+            except IndexError:
+                return
+            task()
+
+    def finish(self) -> None:
+        try:
+            self._take_all()
+        finally:
+            for helper in self._helpers:
+                helper.result()

@@ -4,32 +4,30 @@
 returns (the 'linear' definition, Hyndman & Fan 1996 definition 7), found
 by an exact selection that suits Monte Carlo columns:
 
-1. each row is scaled onto 0..65534 and truncated to 16-bit integers, a
-   map that never reverses the order of two values;
-2. a stable radix argsort of those integers (numpy sorts 16-bit integers
-   by radix) orders every row up to ties within one level;
-3. a few sorted positions on each side of each wanted rank are put in
-   exact order by their values; where ties within a level reach beyond
-   that window (heavy tails), the row is selected with ``np.partition``.
+1. each row is scaled onto 0..255 and truncated to 8-bit levels, a map
+   that never reverses the order of two values;
+2. numpy sorts 8-bit integers by counting, so sorting the levels is cheap;
+   the sorted levels give the level of each wanted rank and where that
+   level's run of sorted positions starts;
+3. the row's values on that level (a few dozen for a smooth row) are put
+   in order, which places the wanted rank exactly. Rows where the run is
+   long (heavy tails, many ties) go to ``np.percentile``.
 
 Rows that hold NaN or infinities go to ``np.percentile`` / ``np.nanpercentile``
-directly. Large calls are split between threads (numpy releases the GIL
-in these loops; :mod:`orbitdeck.models.parallel`).
+directly (a row with no value but NaN gives NaN).
 """
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 
-from .parallel import WORKERS, thread_map
-
-_LEVELS = 65534.0
-#: sorted positions on each side of a wanted rank whose values are put in exact order
-_HALF_WINDOW = 4
-#: below this many values per call the threads cost more than they save
-_PARALLEL_MIN_VALUES = 200_000
+#: the 8-bit levels each row is scaled onto (just under 256, so the largest value stays in level 255)
+_LEVELS = 255.99
+#: sorted positions left of a wanted rank searched for the first value of its level
+_RUN_WINDOW = 96
+#: rows shorter than this, and levels holding more values than this, go to np.partition
+_MIN_SAMPLES = 64
+_MAX_RUN = 192
 
 
 def _ranks(n: int, percentiles) -> tuple[np.ndarray, np.ndarray]:
@@ -39,59 +37,104 @@ def _ranks(n: int, percentiles) -> tuple[np.ndarray, np.ndarray]:
     return np.minimum(lower, n - 1), position - lower
 
 
-def _finite_rows(values: np.ndarray, percentiles) -> np.ndarray:
-    """Percentiles of rows that hold only finite values; returns (len(percentiles), rows)."""
-    rows, n = values.shape
-    lower, weight = _ranks(n, percentiles)
-    wanted = np.unique(np.concatenate([lower, np.minimum(lower + 1, n - 1)]))
+def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Each row scaled onto 0..255 and truncated to 8 bits (a map that never reverses the
+    order of two values); also each row's least value, and which rows could not be scaled
+    (constant, overflowing or not finite)."""
     low = values.min(axis=1)
     span = values.max(axis=1) - low
-    with np.errstate(divide="ignore"):
-        scale = np.where(span > 0.0, _LEVELS / span, 0.0)
-    scaled = np.subtract(values, low[:, None])
-    np.multiply(scaled, scale[:, None], out=scaled)
-    levels = scaled.astype(np.uint16)
-    del scaled
-    order = np.argsort(levels, axis=1, kind="stable")
-    # Sorted by level, values are in order except within a level. Around each
-    # wanted rank take a window of sorted positions: when it holds the whole
-    # level of that rank, sorting the window's values puts the rank right.
-    start = np.clip(wanted - _HALF_WINDOW, 0, max(n - 2 * _HALF_WINDOW, 0))
-    window = start[:, None] + np.arange(min(2 * _HALF_WINDOW, n))          # (wanted, width)
-    row = np.arange(rows)[:, None, None]
-    window_values = np.sort(values[row, order[:, window]], axis=2)        # (rows, wanted, width)
-    first, last = window[:, 0], window[:, -1]
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+        scale = (_LEVELS / span).astype(values.dtype)
+    bad = ~np.isfinite(scale)
+    scale[bad] = 0.0
+    with np.errstate(invalid="ignore"):
+        scaled = np.subtract(values, low[:, None])
+        scaled *= scale[:, None]
+        levels = scaled.astype(np.uint8)
+    return levels, low, bad
 
-    def level_of(position):  # level at each sorted position, shaped (rows, wanted)
-        return levels[row[:, :, 0], order[:, position]]
 
-    level_wanted = level_of(wanted)
-    closed_left = (first == 0) | (level_of(np.maximum(first - 1, 0)) != level_wanted)
-    closed_right = (last == n - 1) | (level_of(np.minimum(last + 1, n - 1)) != level_wanted)
-    statistic = window_values[:, np.arange(wanted.size), wanted - start]
-    unsure = np.flatnonzero(~(closed_left & closed_right).all(axis=1) & (span > 0.0))
-    if unsure.size:
-        statistic[unsure] = np.partition(values[unsure], wanted, axis=1)[:, wanted]
-    lower_stat = statistic[:, np.searchsorted(wanted, lower)]
-    upper_stat = statistic[:, np.searchsorted(wanted, np.minimum(lower + 1, n - 1))]
-    return (lower_stat + weight * (upper_stat - lower_stat)).T
+def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
+    """The order statistics ``rank`` and ``rank + 1`` of every row, and which rows they are unsure for.
+
+    Sorted by level, the value of ``rank`` lies in the run of sorted
+    positions holding its level. The run starts where that level first
+    appears (searched in a window left of ``rank``), and its values are the
+    row's values on that level: put in order, they give the statistic, and
+    the next one too unless that lies on the next level up, where it is the
+    least value. Rows whose run starts left of the window or holds more
+    than ``_MAX_RUN`` values (heavy tails, many ties) are left unsure.
+    """
+    rows, n = values.shape
+    following = min(rank + 1, n - 1)
+    level, next_level = ordered[:, rank], ordered[:, following]
+    first = max(rank - _RUN_WINDOW, 0)
+    in_window = ordered[:, first:rank + 1] == level[:, None]
+    start = first + in_window.argmax(axis=1)
+    unsure = bad | ((first > 0) & in_window[:, 0])
+    flat = np.flatnonzero(levels == level[:, None])
+    row_of = flat // n
+    counts = np.bincount(row_of, minlength=rows)
+    unsure |= counts > _MAX_RUN
+    counts[unsure] = 0
+    keep = counts[row_of] > 0
+    flat, row_of = flat[keep], row_of[keep]
+    width = max(int(counts.max(initial=0)), 2)
+    slot = row_of * width + np.arange(flat.size) - (np.cumsum(counts) - counts)[row_of]
+    run = np.full((rows, width), np.inf, dtype=values.dtype)
+    run.ravel()[slot] = values.ravel()[flat]
+    run.sort(axis=1)
+    offset = np.where(unsure, 0, rank - start)
+    every_row = np.arange(rows)
+    statistic = run[every_row, offset]
+    next_statistic = run[every_row, np.minimum(offset + following - rank, width - 1)]
+    up = np.flatnonzero((next_level != level) & ~unsure)
+    if up.size:  # the next statistic is the least value on the next level
+        on_next = levels[up] == next_level[up, None]
+        next_statistic[up] = np.where(on_next, values[up], np.inf).min(axis=1)
+    return statistic, next_statistic, unsure
+
+
+def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarray:
+    """Percentiles of the rows that hold only finite values, (len(percentiles), rows); rows
+    flagged in ``skip`` (the others) are left undefined."""
+    rows, n = values.shape
+    lower, weight = _ranks(n, percentiles)
+    if n < _MIN_SAMPLES:
+        with np.errstate(invalid="ignore"):
+            return np.percentile(values, percentiles, axis=1)
+    levels, low, bad = _levels(values)
+    ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
+    result = np.empty((len(percentiles), rows))
+    redo = np.zeros(rows, dtype=bool)
+    with np.errstate(invalid="ignore"):
+        for index, rank in enumerate(lower):
+            low_stat, high_stat, unsure = _pair_of_order_statistics(values, levels, ordered, int(rank), bad)
+            result[index] = low_stat + weight[index] * (high_stat.astype(float) - low_stat)
+            redo |= unsure
+    constant = bad & ~skip & (values.max(axis=1) == low)   # finite: ~np.isfinite(scale) from a zero span
+    result[:, constant] = low[constant]
+    redo = np.flatnonzero(redo & ~skip & ~constant)
+    if redo.size:
+        result[:, redo] = np.percentile(values[redo], percentiles, axis=1)
+    return result
 
 
 def _rows_in_turn(values: np.ndarray, percentiles) -> np.ndarray:
     finite = np.isfinite(values).all(axis=1)
-    with np.errstate(invalid="ignore"):  # rows with NaN or infinities are redone below
-        result = _finite_rows(values, percentiles)
+    result = _finite_rows(values, percentiles, skip=~finite)
     if finite.all():
         return result
     other = np.flatnonzero(~finite)
     rest = values[other]
-    has_nan = np.isnan(rest).any(axis=1)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)  # rows where every draw is NaN stay NaN
-        if (~has_nan).any():
-            result[:, other[~has_nan]] = np.percentile(rest[~has_nan], percentiles, axis=1)
-        if has_nan.any():
-            result[:, other[has_nan]] = np.nanpercentile(rest[has_nan], percentiles, axis=1)
+    nan = np.isnan(rest)
+    some_nan, all_nan = nan.any(axis=1), nan.all(axis=1)
+    with np.errstate(invalid="ignore"):  # inf - inf between infinite order statistics
+        result[:, other[~some_nan]] = np.percentile(rest[~some_nan], percentiles, axis=1)
+        result[:, other[all_nan]] = np.nan
+        partly = some_nan & ~all_nan
+        if partly.any():
+            result[:, other[partly]] = np.nanpercentile(rest[partly], percentiles, axis=1)
     return result
 
 
@@ -101,7 +144,10 @@ def row_percentiles(values, percentiles) -> np.ndarray:
     Parameters
     ----------
     values : array_like, shape (rows, samples)
-        One row per quantity; C-contiguous rows are fastest.
+        One row per quantity; C-contiguous rows are fastest. Single
+        precision is worked on as it is (order statistics exact, the
+        interpolation between them in double precision), anything else in
+        double precision.
     percentiles : sequence of float
         In [0, 100].
 
@@ -112,13 +158,9 @@ def row_percentiles(values, percentiles) -> np.ndarray:
         interpolation between order statistics); NaN where a row holds no
         value but NaN.
     """
-    values = np.ascontiguousarray(values, dtype=float)
+    values = np.asarray(values)
+    values = np.ascontiguousarray(values, dtype=values.dtype if values.dtype == np.float32 else float)
     rows, n = values.shape
     if rows == 0 or n == 0:
         return np.full((len(percentiles), rows), np.nan)
-    if values.size < _PARALLEL_MIN_VALUES or rows < 2:
-        return _rows_in_turn(values, percentiles)
-    cuts = np.linspace(0, rows, WORKERS + 1).astype(int)
-    parts = thread_map(lambda bounds: _rows_in_turn(values[bounds[0]:bounds[1]], percentiles),
-                       zip(cuts[:-1], cuts[1:]))
-    return np.concatenate(parts, axis=1)
+    return _rows_in_turn(values, percentiles)

@@ -20,9 +20,12 @@ def angular_diameter(radius, distance):
     ndarray
         Angular diameter [rad].
     """
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = np.where(distance > radius, radius / np.maximum(distance, 1e-300), 1.0)
-    return 2.0 * np.arcsin(ratio)
+    with np.errstate(divide="ignore"):
+        ratio = np.asarray(np.divide(radius, distance))   # d = 0: inf, which the minimum makes 1
+    np.minimum(ratio, 1.0, out=ratio)
+    np.arcsin(ratio, out=ratio)
+    ratio *= 2.0
+    return ratio if ratio.ndim else ratio[()]
 
 
 def moon_ratio(angular_diameter_rad):

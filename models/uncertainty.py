@@ -15,28 +15,23 @@ quantities (one stellar-mass draw feeds a, S and Teq alike) are kept.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import replace
 
 import numpy as np
 
-from .compute import Anchor, pair_columns, sky_columns, sky_rows, star_and_planet_columns, triple_columns
+from .compute import Anchor, Orbit, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
 from .constants import RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
-from .parallel import thread_map
+from .parallel import SharedWork
 from .percentiles import row_percentiles
+from .sky_intervals import SkyIntervals
 from .skies import moon_ratio
 from .system import System, _Body
 
 #: percentiles that bound the reported interval (one sigma for a normal)
 PERCENTILES = (16.0, 84.0)
 _MAX_REDRAWS = 100
-#: values per array a chunk of draws of the sky table aims at (so that it stays in the CPU cache), and the fewest draws a chunk holds
-_CHUNK_VALUES = 16_384
-_MIN_CHUNK = 64
-#: closest-approach search and sky geometry of the draws: one Newton step (error below ~2e-6 a for
-#: e <= 0.1) in single precision (~1e-6 relative), both far under the spread of the draws
-_SKY_STEPS = 1
-_SKY_DTYPE = np.float32
 
 
 def split_normal(rng: np.random.Generator, value, plus, minus, size):
@@ -91,16 +86,19 @@ def truncated_split_normal(rng, value, plus, minus, size, bounds, inclusive=(Tru
     if not bad.size:
         return draws
     flat = draws.reshape(-1)
-    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size).reshape(-1)
+    # value, plus and minus of each rejected draw, without broadcasting them to the full size
+    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size)[np.unravel_index(bad, size)]
                           for x in (value, plus, minus))
     for _ in range(_MAX_REDRAWS):
         # only the rejected draws are drawn again and checked again
-        flat[bad] = split_normal(rng, value[bad], plus[bad], minus[bad], bad.size)
-        bad = bad[_outside(flat[bad], bounds, inclusive)]
+        redrawn = split_normal(rng, value, plus, minus, bad.size)
+        still = _outside(redrawn, bounds, inclusive)
+        flat[bad] = redrawn
+        bad, value, plus, minus = bad[still], value[still], plus[still], minus[still]
         if not bad.size:
             return draws
     # a domain that far in a tail keeps its last valid neighbour: the nominal value
-    flat[bad] = value[bad]
+    flat[bad] = value
     return draws
 
 
@@ -153,60 +151,52 @@ def _anchor(derived) -> Anchor:
                   triple_q=np.asarray(derived.triples["q"], dtype=int))
 
 
-def _sky_chunks(samples: int, planets: int) -> list[slice]:
-    """Sample ranges small enough that the sky table's arrays of a chunk (one value
-    per planet pair and draw) stay in the CPU cache."""
-    pairs = max(planets * (planets - 1) // 2, 1)
-    size = int(np.clip(_CHUNK_VALUES // pairs, _MIN_CHUNK, max(samples, 1)))
-    return [slice(start, min(start + size, samples)) for start in range(0, samples, size)]
-
-
-def _draw_columns(derived, draws: Inputs, samples: int) -> tuple[list[tuple[str, str]], np.ndarray, np.ndarray,
-                                                                  np.ndarray]:
-    """Every interval column of every draw, as rows of one (columns, samples) matrix.
-
-    Star, planet, pair and triple columns are computed on all draws at once;
-    the sky table, with its N(N-1) rows, in chunks of draws on the worker
-    threads, each chunk writing its own part of the matrix. Returns the
-    (table, key) of each block of rows, the row offsets of the blocks, the
-    matrix, and per draw and pair whether its own nearest commensurability
-    differs from the nominal one. ``draws`` may be compact (single rows for
-    exact inputs; :func:`sampled_inputs`).
-    """
+def _interval_columns(derived, draws: Inputs, orbit: Orbit) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """Every star, planet, pair and triple column that gets an interval, over all draws at once,
+    keyed ``"<table>.<key>"`` and each shaped (samples or 1, rows); also per draw and pair whether
+    its own nearest commensurability differs from the nominal one."""
     anchor = _anchor(derived)
-    columns, orbit = star_and_planet_columns(draws)
+    columns = star_and_planet_columns(draws, orbit, regions=False)
     columns.update(pair_columns(draws, orbit, anchor))
     columns.update(triple_columns(draws, anchor))
-    chunks = _sky_chunks(samples, draws.period.shape[1])
-    first_sky = sky_columns(orbit.rows(chunks[0]), _SKY_STEPS, _SKY_DTYPE)
-    tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples, "skies": derived.skies}
-    # sky distances repeat a (star rows) and each pair's distance twice, and the
-    # Moon ratio is the diameter rescaled: their percentiles follow from others
-    derived_later = {"skies.closest_distance_au", "skies.moon_ratio"}
-    known = {**columns, **first_sky}
-    names = [f"{table}.{key}" for table, cols in tables.items() for key, col in cols.items()
-             if f"{table}.{key}" in known and col.dtype.kind == "f" and f"{table}.{key}" not in derived_later]
-    names += ["sky_pairs.closest_distance_au"] + [key for key in columns if key.startswith("star.")]
-    sky_names = [name for name in names if name in first_sky]
-    widths = [known[name].shape[1] if known[name].ndim == 2 else 1 for name in names]
-    offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
-    place = dict(zip(names, zip(offsets[:-1], offsets[1:])))
+    tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples}
+    wanted = {f"{table}.{key}" for table, cols in tables.items() for key, col in cols.items() if col.dtype.kind == "f"}
+    numeric = {name: (column if column.ndim == 2 else column[:, None]) for name, column in columns.items()
+               if name in wanted or name.startswith("star.")}
+    return numeric, columns["pairs.other_nearest"]
+
+
+#: rows of the stacked columns whose percentiles are one task (about 2 MB of draws)
+_ROWS_PER_TASK = 64
+
+
+def _column_intervals(columns: dict[str, np.ndarray], samples: int, work: SharedWork) -> Callable[[], dict]:
+    """Queue on ``work`` the percentiles of every column; returns a function that, once the
+    work is finished, gives them as (low, high) by name.
+
+    Columns without spread in the draws (a single broadcasting row: every
+    input exact) get a zero-width interval at once; the others are stacked,
+    one row per quantity, and taken a block of rows at a time.
+    """
+    out = {name: (column[0].astype(float),) * 2 for name, column in columns.items() if column.shape[0] == 1}
+    varying = [name for name in columns if name not in out]
+    offsets = np.concatenate([[0], np.cumsum([columns[name].shape[1] for name in varying])]).astype(int)
     matrix = np.empty((int(offsets[-1]), samples))
-    for name in names:
-        if name not in first_sky:
-            start, stop = place[name]
-            matrix[start:stop] = columns[name].T
+    for name, start, stop in zip(varying, offsets[:-1], offsets[1:]):
+        matrix[start:stop] = columns[name].T
+    bounds = np.empty((len(PERCENTILES), matrix.shape[0]))
 
-    def fill(chunk: slice, sky: dict | None = None) -> None:
-        sky = sky if sky is not None else sky_columns(orbit.rows(chunk), _SKY_STEPS, _SKY_DTYPE)
-        for name in sky_names:
-            start, stop = place[name]
-            matrix[start:stop, chunk] = sky[name].T
+    def block(rows: slice) -> None:
+        bounds[:, rows] = row_percentiles(matrix[rows], PERCENTILES)
 
-    fill(chunks[0], first_sky)
-    thread_map(fill, chunks[1:])
-    blocks = [tuple(name.split(".", 1)) for name in names]
-    return blocks, matrix, offsets, np.broadcast_to(columns["pairs.other_nearest"], (samples, len(anchor.pair_p)))
+    work.add(lambda rows=slice(start, start + _ROWS_PER_TASK): block(rows)
+             for start in range(0, matrix.shape[0], _ROWS_PER_TASK))
+
+    def result() -> dict:
+        out.update({name: (bounds[0, start:stop], bounds[1, start:stop])
+                    for name, start, stop in zip(varying, offsets[:-1], offsets[1:])})
+        return out
+    return result
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
@@ -217,12 +207,22 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     nominal one, per pair.
     """
     draws = sampled_inputs(system, samples, seed, compact=True)
-    blocks, matrix, offsets, other_nearest = _draw_columns(derived, draws, samples)
-    derived.extra["other_nearest_fraction"] = other_nearest.mean(axis=0)
-    low, high = row_percentiles(matrix, PERCENTILES)
+    orbit = orbit_of(draws)
+    # the worker thread begins on the sky table (most of the work for a crowded
+    # system) while this one works out the other columns; then both take what is left
+    work = SharedWork()
+    sky = SkyIntervals(orbit, samples, PERCENTILES)
+    work.add(sky.tasks())
+    columns, other_nearest = _interval_columns(derived, draws, orbit)
+    derived.extra["other_nearest_fraction"] = np.broadcast_to(other_nearest, (samples, other_nearest.shape[1])).mean(axis=0)
+    column_bounds = _column_intervals(columns, samples, work)
+    work.finish()
+    bounds = column_bounds()
+    bounds.update(sky.result())
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}
-    for (table, key), start, stop in zip(blocks, offsets[:-1], offsets[1:]):
-        intervals[table][key] = (low[start:stop], high[start:stop])
+    for name, bound in bounds.items():
+        table, key = name.split(".", 1)
+        intervals[table][key] = bound
     _, body, pair = sky_rows(len(derived.planets["name"]))
     a_low, a_high = intervals["planets"]["semi_major_axis_au"]
     p_low, p_high = intervals.pop("sky_pairs")["closest_distance_au"]

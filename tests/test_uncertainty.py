@@ -198,29 +198,49 @@ def test_delta_interval_stays_on_the_nominal_rung():
     assert 0.0 < d.extra["other_nearest_fraction"][0] < 0.5
 
 
-def test_chunked_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch):
-    # numpy's nanpercentile over one compute() of all the draws is the reference for the
-    # chunked, threaded path: every interval must be the same numbers.
+def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch):
+    # numpy's nanpercentile over one computation of all the draws at once is the reference for
+    # the grouped, threaded path: every interval must be the same numbers.
     import warnings
 
-    from orbitdeck.models import uncertainty
-    from orbitdeck.models.compute import compute
+    from orbitdeck.models import orbits, sky_intervals, uncertainty
+    from orbitdeck.models.compute import compute, sky_rows
+    from orbitdeck.models.constants import AU, R_EARTH, R_SUN, RAD_TO_ARCSEC
+    from orbitdeck.models.skies import angular_diameter
 
-    monkeypatch.setattr(uncertainty, "_CHUNK_VALUES", 500)   # many small chunks
+    monkeypatch.setattr(sky_intervals, "_GROUP_VALUES", 500)   # one planet pair per group
     planets = [_planet(name, value=period, radius_value=1.2, mass_value=None,
                        period=Uncertainty.from_sigma(1e-4), radius=Uncertainty(0.08, 0.05),
                        eccentricity=Uncertainty.from_sigma(0.02))
                for name, period in zip("bcde", (3.1, 4.9, 7.6, 11.8))]
-    system = System(name="chunks", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
+    system = System(name="groups", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
     derived = derive(system, samples=3000, seed=5)
     draws = sampled_inputs(system, 3000, 5)
-    whole = compute(draws, uncertainty._anchor(derived), uncertainty._SKY_STEPS, uncertainty._SKY_DTYPE)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        for table in ("planets", "pairs", "triples"):
-            for key, (low, high) in derived.intervals[table].items():
-                expected = np.nanpercentile(whole[f"{table}.{key}"], [16, 84], axis=0)
-                np.testing.assert_allclose([low, high], expected, rtol=1e-12, err_msg=f"{table}.{key}")
-    expected = np.nanpercentile(whole["skies.max_angular_diameter_arcsec"], [16, 84], axis=0)
-    np.testing.assert_allclose(derived.intervals["skies"]["max_angular_diameter_arcsec"], expected, rtol=1e-12)
+    whole = compute(draws, uncertainty._anchor(derived))
+
+    def percentiles(values, axis):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            return np.nanpercentile(values, [16, 84], axis=axis)
+
+    for table in ("planets", "pairs", "triples"):
+        for key, (low, high) in derived.intervals[table].items():
+            np.testing.assert_allclose([low, high], percentiles(whole[f"{table}.{key}"], 0), rtol=1e-12,
+                                       err_msg=f"{table}.{key}")
     np.testing.assert_allclose(derived.extra["other_nearest_fraction"], whole["pairs.other_nearest"].mean(axis=0))
+    # the sky table: every draw's distances and diameters in single precision at once
+    a = whole["planets.semi_major_axis_au"].T.astype(np.float32)
+    e, w = draws.eccentricity.T.astype(np.float32), np.radians(draws.omega.T).astype(np.float32)
+    inner, outer = np.triu_indices(4, 1)
+    distance = orbits.closest_distance_of_draws(orbits.DrawOrbits.of(a, e, w), inner, outer)
+    observer, body, pair = sky_rows(4)
+    radius = np.where(body[:, None] < 0, draws.star_radius.T * (R_SUN / AU), draws.radius.T[body] * (R_EARTH / AU))
+    rows = np.where(body[:, None] < 0, a[observer], distance[np.maximum(pair, 0)])
+    diameter = angular_diameter(radius.astype(np.float32), rows) * RAD_TO_ARCSEC
+    expected = percentiles(diameter, 1)
+    got = derived.intervals["skies"]["max_angular_diameter_arcsec"]
+    np.testing.assert_allclose(got, expected, rtol=2e-6)
+    np.testing.assert_allclose(derived.intervals["skies"]["closest_distance_au"][0][body >= 0],
+                               percentiles(distance, 1)[0][pair[body >= 0]], rtol=2e-6)
+    # and the single-precision, one-step sky agrees with the full double-precision search
+    np.testing.assert_allclose(got, percentiles(whole["skies.max_angular_diameter_arcsec"], 0), rtol=1e-4)

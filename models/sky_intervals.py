@@ -1,0 +1,86 @@
+"""Intervals of the sky table over Monte Carlo draws, a few planet pairs at a time.
+
+The sky table has N(N-1) planet rows besides its N star rows, so for a
+crowded system it holds most of a Monte Carlo derivation's numbers. They are
+worked out pair by pair in groups small enough for the CPU cache: for each
+group the closest distances of its pairs in every draw
+(:func:`orbits.closest_distance_of_draws`), the diameter of each planet of a
+pair seen from the other, and at once the percentiles of those rows, so no
+draw of the sky table is ever kept in memory. The groups run on the worker
+threads (:mod:`orbitdeck.models.parallel`).
+
+Everything here is single precision (~1e-7 relative, far under the spread
+of the draws); the nominal sky table is computed in double precision by
+:mod:`orbitdeck.models.compute`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .compute import Orbit, sky_rows
+from .constants import AU, RAD_TO_ARCSEC
+from .orbits import DrawOrbits, closest_distance_of_draws
+from .percentiles import row_percentiles
+from .skies import angular_diameter
+
+#: values per array of one group of pairs (a few hundred kilobytes of arrays in all)
+_GROUP_VALUES = 65_536
+
+
+def _orbit_major(array, samples: int) -> np.ndarray:
+    """(samples or 1, planets) -> (planets, samples) single precision, contiguous."""
+    return np.ascontiguousarray(np.broadcast_to(array, (samples, array.shape[1])).T, dtype=np.float32)
+
+
+class SkyIntervals:
+    """The sky table's percentiles over the draws of an :class:`Orbit`.
+
+    :meth:`tasks` lists independent pieces of work (run them on any thread,
+    in any order); afterwards :meth:`result` gives the intervals.
+    """
+
+    def __init__(self, orbit: Orbit, samples: int, percentiles):
+        self.percentiles = tuple(percentiles)
+        self.planets = orbit.a_au.shape[1]
+        self.orbits = DrawOrbits.of(_orbit_major(orbit.a_au, samples), _orbit_major(orbit.eccentricity, samples),
+                                    _orbit_major(orbit.omega_rad, samples))
+        self.radius_au = _orbit_major(orbit.radius_m / AU, samples)
+        self.star_radius_au = np.asarray(orbit.star_radius_m / AU, dtype=np.float32).reshape(1, -1)
+        self.inner, self.outer = np.triu_indices(self.planets, 1)
+        per_group = max(1, _GROUP_VALUES // max(samples, 1))
+        self.groups = [slice(start, start + per_group) for start in range(0, self.inner.size, per_group)]
+        count = len(self.percentiles)
+        # rows: the closest distance of each pair, then the outer planet seen from the inner one and
+        # the inner seen from the outer one; and the star seen from each planet
+        self._pairs = np.empty((count, 3, self.inner.size))
+        self._star = np.empty((count, self.planets))
+
+    def tasks(self) -> list:
+        """Zero-argument callables that together fill the intervals; the largest first."""
+        return [lambda group=group: self._pair_group(group) for group in self.groups] + [self._star_rows]
+
+    def _pair_group(self, group: slice) -> None:
+        inner, outer = self.inner[group], self.outer[group]
+        distance = closest_distance_of_draws(self.orbits, inner, outer)
+        rows = np.concatenate([distance,
+                               angular_diameter(np.take(self.radius_au, outer, axis=0), distance),
+                               angular_diameter(np.take(self.radius_au, inner, axis=0), distance)])
+        self._pairs[:, :, group] = row_percentiles(rows, self.percentiles).reshape(len(self.percentiles), 3, -1)
+
+    def _star_rows(self) -> None:
+        self._star[:] = row_percentiles(angular_diameter(self.star_radius_au, self.orbits.a), self.percentiles)
+
+    def result(self) -> dict[str, tuple]:
+        """``"sky_pairs.closest_distance_au"``: (low, high) per planet pair in ``np.triu_indices`` order;
+        ``"skies.max_angular_diameter_arcsec"``: (low, high) per row of the sky table."""
+        observer, body, pair = sky_rows(self.planets)
+        star_row, pair = body < 0, np.maximum(pair, 0)
+        # an outer body seen from an inner observer is the pair's second diameter row, else its third
+        seen = np.where(body > observer, 1, 2)
+        bounds = []
+        for star, pairs in zip(self._star, self._pairs):
+            planet = pairs[seen, pair] if pairs.size else np.zeros(body.shape)
+            bounds.append(RAD_TO_ARCSEC * np.where(star_row, star[observer], planet))
+        return {"sky_pairs.closest_distance_au": tuple(self._pairs[:, 0]),
+                "skies.max_angular_diameter_arcsec": tuple(bounds)}
