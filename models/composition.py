@@ -59,7 +59,7 @@ def bulk_density(mass_kg, radius_m):
     ndarray
         Density [kg m^-3].
     """
-    return mass_kg / (4.0 / 3.0 * np.pi * radius_m**3)
+    return mass_kg / (4.0 / 3.0 * np.pi * radius_m * radius_m * radius_m)   # not **3: a slow power loop
 
 
 def surface_gravity(mass_kg, radius_m):

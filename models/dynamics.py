@@ -81,4 +81,6 @@ def tidal_locking_time(a_m, planet_mass_kg, planet_radius_m, star_mass_kg,
         Locking time [s].
     """
     inertia = inertia_factor * planet_mass_kg * planet_radius_m**2
-    return initial_spin_rad_s * a_m**6 * inertia * q / (3.0 * G * star_mass_kg**2 * k2 * planet_radius_m**5)
+    # products, not **6 and **5, which numpy evaluates with a slow general power
+    a2, r2 = a_m * a_m, planet_radius_m * planet_radius_m
+    return initial_spin_rad_s * (a2 * a2 * a2) * inertia * q / (3.0 * G * star_mass_kg**2 * k2 * (r2 * r2 * planet_radius_m))

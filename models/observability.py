@@ -74,12 +74,12 @@ def transit_duration_total(period, a, star_radius, planet_radius, inclination, b
         Impact parameter and eccentricity.
     """
     k = planet_radius / star_radius
-    chord2 = (1.0 + k) ** 2 - b**2
+    chord2 = np.asarray((1.0 + k) ** 2 - b**2)
+    chord2[chord2 <= 0.0] = np.nan   # no transit
     with np.errstate(invalid="ignore", divide="ignore"):
         argument = star_radius / a * np.sqrt(chord2) / np.sin(inclination)
         t14 = period / np.pi * np.arcsin(np.minimum(argument, 1.0))
-    t14 = t14 * np.sqrt(1.0 - eccentricity**2) / (1.0 + eccentricity * np.sin(omega))
-    return np.where(chord2 > 0.0, t14, np.nan)
+    return t14 * np.sqrt(1.0 - eccentricity**2) / (1.0 + eccentricity * np.sin(omega))
 
 
 def rv_semi_amplitude(period_s, planet_mass_kg, star_mass_kg, inclination, eccentricity):
@@ -104,13 +104,14 @@ def rv_semi_amplitude(period_s, planet_mass_kg, star_mass_kg, inclination, eccen
         K [m s^-1].
     """
     return (np.cbrt(2.0 * np.pi * G / period_s) * planet_mass_kg * np.sin(inclination)
-            / (star_mass_kg + planet_mass_kg) ** (2.0 / 3.0) / np.sqrt(1.0 - eccentricity**2))
+            / np.square(np.cbrt(star_mass_kg + planet_mass_kg)) / np.sqrt(1.0 - eccentricity**2))
 
 
 def tsm_scale_factor(radius_rearth):
     """Kempton et al. 2018 TSM scale factor for each radius; NaN beyond 10 Rearth."""
     r = np.asarray(radius_rearth, dtype=float)
-    index = np.clip(np.searchsorted(TSM_RADIUS_EDGES, r, side="right") - 1, 0, len(TSM_SCALE_FACTORS) - 1)
+    # the bin of each radius by comparisons with the inner edges (cheaper than searchsorted)
+    index = sum((r >= edge).astype(np.intp) for edge in TSM_RADIUS_EDGES[1:-1])
     return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS[index], np.nan)
 
 

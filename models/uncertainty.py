@@ -109,15 +109,18 @@ def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples:
     With ``compact``, a field that no body gives an uncertainty stays one row
     (1, bodies), which broadcasts against the draws of the others: functions
     of it alone (sines of fixed angles, say) are then computed once.
+    The draws are laid out body by body in memory (a Fortran-ordered
+    (samples, bodies) array), and so are the columns computed from them:
+    a column's rows of draws, one per body, are then contiguous.
     """
     spreads = [body.uncertainty(field) for body in bodies]
     if not any(spreads) or np.isnan(nominal).all():
         return nominal if compact else np.repeat(nominal, samples, axis=0)
-    plus = np.array([[s.plus if s else 0.0 for s in spreads]])
-    minus = np.array([[s.minus if s else 0.0 for s in spreads]])
+    plus = np.array([[s.plus if s else 0.0] for s in spreads])
+    minus = np.array([[s.minus if s else 0.0] for s in spreads])
     parameter = type(bodies[0]).param[field]
-    return truncated_split_normal(rng, nominal, plus, minus, (samples, len(bodies)),
-                                  parameter.bounds, parameter.inclusive_bounds)
+    return truncated_split_normal(rng, nominal.T, plus, minus, (len(bodies), samples),
+                                  parameter.bounds, parameter.inclusive_bounds).T
 
 
 def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool = False) -> Inputs:
@@ -151,23 +154,17 @@ def _anchor(derived) -> Anchor:
                   triple_q=np.asarray(derived.triples["q"], dtype=int))
 
 
-def _interval_columns(derived, draws: Inputs, orbit: Orbit) -> tuple[dict[str, np.ndarray], np.ndarray]:
-    """Every star, planet, pair and triple column that gets an interval, over all draws at once,
-    keyed ``"<table>.<key>"`` and each shaped (samples or 1, rows); also per draw and pair whether
-    its own nearest commensurability differs from the nominal one."""
-    anchor = _anchor(derived)
-    columns = star_and_planet_columns(draws, orbit, regions=False)
-    columns.update(pair_columns(draws, orbit, anchor))
-    columns.update(triple_columns(draws, anchor))
+def _interval_columns(derived, columns: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """Those of ``columns`` (keyed ``"<table>.<key>"``) that get an interval: the star's and
+    the float columns of the planet, pair and triple tables, each shaped (samples or 1, rows)."""
     tables = {"planets": derived.planets, "pairs": derived.pairs, "triples": derived.triples}
     wanted = {f"{table}.{key}" for table, cols in tables.items() for key, col in cols.items() if col.dtype.kind == "f"}
-    numeric = {name: (column if column.ndim == 2 else column[:, None]) for name, column in columns.items()
-               if name in wanted or name.startswith("star.")}
-    return numeric, columns["pairs.other_nearest"]
+    return {name: (column if column.ndim == 2 else column[:, None]) for name, column in columns.items()
+            if name in wanted or name.startswith("star.")}
 
 
-#: rows of the stacked columns whose percentiles are one task (about 2 MB of draws)
-_ROWS_PER_TASK = 64
+#: rows of the stacked columns whose percentiles are one task (about 1 MB of draws)
+_ROWS_PER_TASK = 32
 
 
 def _column_intervals(columns: dict[str, np.ndarray], samples: int, work: SharedWork) -> Callable[[], dict]:
@@ -209,16 +206,20 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     draws = sampled_inputs(system, samples, seed, compact=True)
     orbit = orbit_of(draws)
     # the worker thread begins on the sky table (most of the work for a crowded
-    # system) while this one works out the other columns; then both take what is left
+    # system) while this one works out the other columns, queueing their
+    # percentiles as they come; then both take what is left
     work = SharedWork()
     sky = SkyIntervals(orbit, samples, PERCENTILES)
     work.add(sky.tasks())
-    columns, other_nearest = _interval_columns(derived, draws, orbit)
+    planet_bounds = _column_intervals(_interval_columns(derived, star_and_planet_columns(draws, orbit, regions=False)),
+                                      samples, work)
+    anchor = _anchor(derived)
+    pairs = {**pair_columns(draws, orbit, anchor), **triple_columns(draws, anchor)}
+    other_nearest = pairs["pairs.other_nearest"]
     derived.extra["other_nearest_fraction"] = np.broadcast_to(other_nearest, (samples, other_nearest.shape[1])).mean(axis=0)
-    column_bounds = _column_intervals(columns, samples, work)
+    pair_bounds = _column_intervals(_interval_columns(derived, pairs), samples, work)
     work.finish()
-    bounds = column_bounds()
-    bounds.update(sky.result())
+    bounds = {**planet_bounds(), **pair_bounds(), **sky.result()}
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}
     for name, bound in bounds.items():
         table, key = name.split(".", 1)
