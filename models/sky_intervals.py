@@ -81,6 +81,7 @@ class SkyIntervals:
         bounds = []
         for star, pairs in zip(self._star, self._pairs):
             planet = pairs[seen, pair] if pairs.size else np.zeros(body.shape)
-            bounds.append(RAD_TO_ARCSEC * np.where(star_row, star[observer], planet))
+            # at most half the sky: pi in single precision rounds up, past it
+            bounds.append(RAD_TO_ARCSEC * np.minimum(np.where(star_row, star[observer], planet), np.pi))
         return {"sky_pairs.closest_distance_au": tuple(self._pairs[:, 0]),
                 "skies.max_angular_diameter_arcsec": tuple(bounds)}

@@ -20,6 +20,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from .allocator import keep_freed_memory
 from .compute import Anchor, Orbit, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
 from .constants import RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
@@ -203,6 +204,7 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     draw's period ratio falls nearest to another commensurability than the
     nominal one, per pair.
     """
+    keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True)
     orbit = orbit_of(draws)
     # the worker thread begins on the sky table (most of the work for a crowded

@@ -244,3 +244,18 @@ def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
                                percentiles(distance, 1)[0][pair[body >= 0]], rtol=2e-6)
     # and the single-precision, one-step sky agrees with the full double-precision search
     np.testing.assert_allclose(got, percentiles(whole["skies.max_angular_diameter_arcsec"], 0), rtol=1e-4)
+
+
+def test_draws_where_orbits_cross_fill_at_most_half_the_sky():
+    # two eccentric orbits that cross in many draws: there the neighbour is at zero distance and
+    # fills half the sky, 180 deg (geometry), and no interval may go past that
+    inner = _planet("b", value=3.0, eccentricity=Uncertainty.from_sigma(0.1))
+    outer = _planet("c", value=3.3, eccentricity=Uncertainty.from_sigma(0.1))
+    inner.eccentricity, outer.eccentricity = 0.3, 0.4
+    derived = derive(System(name="crossing", star=_star(), planets=[inner, outer]), samples=2000, seed=4)
+    low, high = derived.intervals["skies"]["max_angular_diameter_arcsec"]
+    assert np.all(high <= 180 * 3600.0)
+    crossing = derived.skies["body"] != "star"
+    assert np.all(high[crossing] == 180 * 3600.0)
+    assert np.all(low[crossing] < high[crossing])
+    assert np.all(derived.intervals["skies"]["closest_distance_au"][0][crossing] == 0.0)
