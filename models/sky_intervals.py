@@ -24,8 +24,9 @@ from .orbits import DrawOrbits, closest_distance_of_draws
 from .percentiles import row_percentiles
 from .skies import angular_diameter
 
-#: values per array of one group of pairs: few and long numpy calls, which let two threads overlap
-_GROUP_VALUES = 262_144
+#: values per array of one group of pairs (measured best: long enough numpy calls for two threads
+#: to overlap, small enough for the CPU cache)
+_GROUP_VALUES = 65_536
 
 
 def _orbit_major(array, samples: int) -> np.ndarray:
