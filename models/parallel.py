@@ -59,4 +59,5 @@ class SharedWork:
             self._take_all()
         finally:
             for helper in self._helpers:
-                helper.result()
+                if not helper.cancel():   # a helper still queued behind other work is not waited for
+                    helper.result()

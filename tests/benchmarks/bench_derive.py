@@ -33,6 +33,18 @@ def best_of(function, repeat: int = 20) -> float:
     return 1e3 * min(times)
 
 
+def interleaved(ours, theirs, rounds: int = 6, calls: int = 4) -> tuple[float, float, list[float]]:
+    """Best wall times [ms] of two functions measured in alternating rounds (so that both see
+    the same machine: a shared machine's speed drifts by tens of percent within a minute), and
+    the ratio theirs / ours of each round's bests."""
+    best_ours, best_theirs, ratios = [], [], []
+    for _ in range(rounds):
+        best_ours.append(best_of(ours, calls))
+        best_theirs.append(best_of(theirs, calls))
+        ratios.append(best_theirs[-1] / best_ours[-1])
+    return min(best_ours), min(best_theirs), ratios
+
+
 def notebook_style(system, samples: int, seed: int = 1) -> None:
     """The core quantities as one would write them by hand: Quantity arrays, a loop over planets."""
     draws = sampled_inputs(system, samples, seed)
@@ -70,11 +82,11 @@ def main() -> None:
           "   (target < 20 ms)")
     for planets, target in ((7, 10), (30, 40)):
         system = synthetic_system(planets)
-        ours = best_of(lambda: derive(system, samples=4000, seed=1), 10)
-        by_hand = best_of(lambda: notebook_style(system, 4000), 5)
+        ours, by_hand, ratios = interleaved(lambda: derive(system, samples=4000, seed=1),
+                                            lambda: notebook_style(system, 4000))
         print(f"derive, {planets:2d} planets x 4000 samples, all:     {ours:8.3f} ms   (target < {target} ms); "
               f"core quantities by hand with Quantity arrays and a planet loop: {by_hand:8.3f} ms "
-              f"(ratio {by_hand / ours:.2f})")
+              f"(ratio {by_hand / ours:.2f}; per round {min(ratios):.2f}-{max(ratios):.2f})")
     start = time.perf_counter()
     subprocess.run([sys.executable, "-m", "orbitdeck.dashboard.cli", "table", "--json"], check=True,
                    stdout=subprocess.DEVNULL)
