@@ -16,7 +16,7 @@ quantities (one stellar-mass draw feeds a, S and Teq alike) are kept.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import replace
+from dataclasses import fields, replace
 
 import numpy as np
 
@@ -173,33 +173,80 @@ def _interval_columns(derived, columns: dict[str, np.ndarray]) -> dict[str, np.n
 _ROWS_PER_TASK = 32
 
 
-def _column_intervals(columns: dict[str, np.ndarray], samples: int, work: SharedWork) -> Callable[[], dict]:
+def _nominal(derived, name: str) -> np.ndarray:
+    """The nominal values of column ``name`` ("<table>.<key>") in ``derived``."""
+    table, key = name.split(".", 1)
+    if table != "star":
+        return np.asarray(getattr(derived, table)[key], dtype=float)
+    hz = derived.star["hz_au"] or {}
+    return np.array([derived.star["luminosity_lsun"] if key == "luminosity_lsun" else hz.get(key[6:], np.nan)])
+
+
+def _column_intervals(derived, columns: dict[str, np.ndarray], samples: int, work: SharedWork) -> Callable[[], dict]:
     """Queue on ``work`` the percentiles of every column; returns a function that, once the
     work is finished, gives them as (low, high) by name.
 
     Columns without spread in the draws (a single broadcasting row: every
-    input exact) get a zero-width interval at once; the others are stacked,
-    one row per quantity, and taken a block of rows at a time.
+    input exact) get the zero-width interval of their nominal value at once;
+    the others are stacked, one row per quantity and one matrix per
+    precision, and taken a block of rows at a time.
     """
-    out = {name: (column[0].astype(float),) * 2 for name, column in columns.items() if column.shape[0] == 1}
-    varying = [name for name in columns if name not in out]
-    offsets = np.concatenate([[0], np.cumsum([columns[name].shape[1] for name in varying])]).astype(int)
-    matrix = np.empty((int(offsets[-1]), samples))
-    for name, start, stop in zip(varying, offsets[:-1], offsets[1:]):
-        matrix[start:stop] = columns[name].T
-    bounds = np.empty((len(PERCENTILES), matrix.shape[0]))
+    out = {name: (_nominal(derived, name),) * 2 for name, column in columns.items() if column.shape[0] == 1}
+    finishing = []
+    for dtype in (np.float32, np.float64):
+        names = [name for name in columns if name not in out and columns[name].dtype == dtype]
+        offsets = np.concatenate([[0], np.cumsum([columns[name].shape[1] for name in names])]).astype(int)
+        matrix = np.empty((int(offsets[-1]), samples), dtype=dtype)
+        for name, start, stop in zip(names, offsets[:-1], offsets[1:]):
+            matrix[start:stop] = columns[name].T
+        bounds = np.empty((len(PERCENTILES), matrix.shape[0]))
 
-    def block(rows: slice) -> None:
-        bounds[:, rows] = row_percentiles(matrix[rows], PERCENTILES)
+        def block(rows: slice, matrix=matrix, bounds=bounds) -> None:
+            bounds[:, rows] = row_percentiles(matrix[rows], PERCENTILES)
 
-    work.add(lambda rows=slice(start, start + _ROWS_PER_TASK): block(rows)
-             for start in range(0, matrix.shape[0], _ROWS_PER_TASK))
+        work.add(lambda rows=slice(start, start + _ROWS_PER_TASK), block=block: block(rows)
+                 for start in range(0, matrix.shape[0], _ROWS_PER_TASK))
+        finishing.append((names, offsets, bounds))
 
     def result() -> dict:
-        out.update({name: (bounds[0, start:stop], bounds[1, start:stop])
-                    for name, start, stop in zip(varying, offsets[:-1], offsets[1:])})
+        for names, offsets, bounds in finishing:
+            out.update({name: (bounds[0, start:stop], bounds[1, start:stop])
+                        for name, start, stop in zip(names, offsets[:-1], offsets[1:])})
         return out
     return result
+
+
+def _single_precision(draws: Inputs) -> Inputs:
+    """``draws`` in single precision, but for the periods.
+
+    The star, planet and sky columns of the draws are computed from these:
+    ~1e-7 relative error, below 1e-4 of the width of their intervals, at
+    half the memory and far cheaper transcendental functions. Periods stay
+    double: their spread can be 1e-6 of their value, and the period-ratio
+    columns (offsets from commensurability, super-periods, three-body
+    residuals) are computed from them in double precision.
+    """
+    return replace(draws, **{f.name: value.astype(np.float32) for f in fields(draws)
+                             if isinstance(value := getattr(draws, f.name), np.ndarray) and f.name != "period"})
+
+
+#: narrowest interval, relative to its value, that single precision gives to better than ~1e-3 of its width
+_SINGLE_PRECISION_MIN_WIDTH = 1e-4
+
+
+def _in_double_where_narrow(derived, draws: Inputs, bounds: dict[str, tuple]) -> dict[str, tuple]:
+    """``bounds`` of the star and planet columns, with those whose spread is too narrow for
+    single precision (spread below 1e-4 of the value: only periods carry errors, say)
+    worked out again from the draws in double precision."""
+    narrow = [name for name, (low, high) in bounds.items() if np.any(
+        (high > low) & (high - low < _SINGLE_PRECISION_MIN_WIDTH * np.abs(_nominal(derived, name))))]
+    if not narrow:
+        return bounds
+    exact = _interval_columns(derived, star_and_planet_columns(draws, orbit_of(draws), regions=False))
+    low, high = row_percentiles(np.concatenate([exact[name].T for name in narrow]), PERCENTILES)
+    offsets = np.cumsum([0] + [exact[name].shape[1] for name in narrow])
+    return {**bounds, **{name: (low[start:stop], high[start:stop])
+                         for name, start, stop in zip(narrow, offsets[:-1], offsets[1:])}}
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
@@ -211,22 +258,24 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     """
     keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True)
-    orbit = orbit_of(draws)
+    single = _single_precision(draws)
+    orbit = orbit_of(single)
     # the worker thread begins on the sky table (most of the work for a crowded
     # system) while this one works out the other columns, queueing their
     # percentiles as they come; then both take what is left
     work = SharedWork()
     sky = SkyIntervals(orbit, samples, PERCENTILES)
     work.add(sky.tasks())
-    planet_bounds = _column_intervals(_interval_columns(derived, star_and_planet_columns(draws, orbit, regions=False)),
-                                      samples, work)
+    planet_columns = star_and_planet_columns(single, orbit, regions=False)
+    planet_columns["planets.period_d"] = draws.period
+    planet_bounds = _column_intervals(derived, _interval_columns(derived, planet_columns), samples, work)
     anchor = _anchor(derived)
     pairs = {**pair_columns(draws, orbit, anchor), **triple_columns(draws, anchor)}
     other_nearest = pairs["pairs.other_nearest"]
     derived.extra["other_nearest_fraction"] = np.broadcast_to(other_nearest, (samples, other_nearest.shape[1])).mean(axis=0)
-    pair_bounds = _column_intervals(_interval_columns(derived, pairs), samples, work)
+    pair_bounds = _column_intervals(derived, _interval_columns(derived, pairs), samples, work)
     work.finish()
-    bounds = {**planet_bounds(), **pair_bounds(), **sky.result()}
+    bounds = {**_in_double_where_narrow(derived, draws, planet_bounds()), **pair_bounds(), **sky.result()}
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}
     for name, bound in bounds.items():
         table, key = name.split(".", 1)

@@ -216,7 +216,8 @@ def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
     system = System(name="groups", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
     derived = derive(system, samples=3000, seed=5)
     draws = sampled_inputs(system, 3000, 5)
-    whole = compute(draws, uncertainty._anchor(derived))
+    # the star, planet and sky columns of the draws are worked out in single precision (periods double)
+    whole = compute(uncertainty._single_precision(draws), uncertainty._anchor(derived))
 
     def percentiles(values, axis):
         with warnings.catch_warnings():
@@ -225,8 +226,8 @@ def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
 
     for table in ("planets", "pairs", "triples"):
         for key, (low, high) in derived.intervals[table].items():
-            np.testing.assert_allclose([low, high], percentiles(whole[f"{table}.{key}"], 0), rtol=1e-12,
-                                       err_msg=f"{table}.{key}")
+            np.testing.assert_allclose([low, high], percentiles(whole[f"{table}.{key}"].astype(float), 0),
+                                       rtol=1e-12, err_msg=f"{table}.{key}")
     np.testing.assert_allclose(derived.extra["other_nearest_fraction"], whole["pairs.other_nearest"].mean(axis=0))
     # the sky table: every draw's distances and diameters in single precision at once
     a = whole["planets.semi_major_axis_au"].T.astype(np.float32)
@@ -259,3 +260,20 @@ def test_draws_where_orbits_cross_fill_at_most_half_the_sky():
     assert np.all(high[crossing] == 180 * 3600.0)
     assert np.all(low[crossing] < high[crossing])
     assert np.all(derived.intervals["skies"]["closest_distance_au"][0][crossing] == 0.0)
+
+
+def test_intervals_far_narrower_than_single_precision_are_worked_out_in_double():
+    # only the periods carry errors, of 1e-7 of their value (common practice for long transit
+    # baselines): a, S and Teq then spread by ~1e-7 relative, near single precision's 6e-8
+    from orbitdeck.models.compute import compute
+
+    planets = [_planet(name, value=period, period=Uncertainty.from_sigma(1e-7 * period))
+               for name, period in zip("bc", (12.0, 19.0))]
+    system = System(name="precise", star=_star(), planets=planets)
+    derived = derive(system, samples=3000, seed=9)
+    exact = compute(sampled_inputs(system, 3000, 9))
+    for key in ("semi_major_axis_au", "insolation_earth", "teq_k", "period_d"):
+        low, high = derived.intervals["planets"][key]
+        expected = np.percentile(exact[f"planets.{key}"], [16, 84], axis=0)
+        assert np.all(high > low)
+        np.testing.assert_allclose([low, high], expected, rtol=1e-12, err_msg=key)
