@@ -330,21 +330,21 @@ def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
     np.sqrt(norm, out=norm)
     cx /= norm
     cy /= norm
-    sides = [(pick(orbits.latus, index), *_side_terms(cx, cy, pick(orbits.latus, index), pick(orbits.e_cos, index),
-                                                       pick(orbits.e_sin, index)))
-             for index in (inner_index, outer_index)]
+    sides = []
+    for index in (inner_index, outer_index):
+        latus = pick(orbits.latus, index)
+        sides.append((latus, *_side_terms(cx, cy, latus, pick(orbits.e_cos, index), pick(orbits.e_sin, index))))
     (p_i, cos_i, sin_i, slope_i, curv_i), (p_o, cos_o, sin_o, slope_o, curv_o) = sides
     curvature = curv_o - curv_i
     turn = slope_i - slope_o
     with np.errstate(divide="ignore", invalid="ignore"):
         turn /= curvature + np.float32(1e-30)              # circular: 0 / tiny = 0
     cos_t, sin_t = np.cos(turn), np.sin(turn)
-    cos_i *= cos_t
-    cos_i -= sin_i * sin_t
-    cos_o *= cos_t
-    cos_o -= sin_o * sin_t
-    cos_i += 1.0
-    cos_o += 1.0
+    # 1 + e cos(theta + t - omega) = 1 + E cos t - F sin t, in place of E
+    for cos_term, sin_term in ((cos_i, sin_i), (cos_o, sin_o)):
+        cos_term *= cos_t
+        cos_term -= sin_term * sin_t
+        cos_term += 1.0
     gap = p_o / cos_o
     gap -= p_i / cos_i
     redo = (gap <= 0.0) | (curvature < 0.0) | (np.abs(turn) > _LARGE_TURN)

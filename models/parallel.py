@@ -16,7 +16,16 @@ from concurrent.futures import ThreadPoolExecutor
 
 WORKERS = max(1, min(2, os.cpu_count() or 1))
 _pool: ThreadPoolExecutor | None = None
+_pool_lock = threading.Lock()
 _PREFIX = "orbitdeck-worker"
+
+
+def _the_pool() -> ThreadPoolExecutor:
+    global _pool
+    with _pool_lock:
+        if _pool is None:
+            _pool = ThreadPoolExecutor(WORKERS, thread_name_prefix=_PREFIX)
+        return _pool
 
 
 class SharedWork:
@@ -40,11 +49,8 @@ class SharedWork:
         self._queue.extend(tasks)
         if self._inline:
             return
-        global _pool
-        if _pool is None:
-            _pool = ThreadPoolExecutor(WORKERS, thread_name_prefix=_PREFIX)
         while len([h for h in self._helpers if not h.done()]) < WORKERS - 1:
-            self._helpers.append(_pool.submit(self._take_all))
+            self._helpers.append(_the_pool().submit(self._take_all))
 
     def _take_all(self) -> None:
         while True:

@@ -25,7 +25,7 @@ import numpy as np
 _LEVELS = 255.99
 #: sorted positions left of a wanted rank searched for the first value of its level
 _RUN_WINDOW = 96
-#: rows shorter than this, and levels holding more values than this, go to np.partition
+#: rows shorter than this, and levels holding more values than this, go to np.percentile
 _MIN_SAMPLES = 64
 _MAX_RUN = 192
 
@@ -37,10 +37,10 @@ def _ranks(n: int, percentiles) -> tuple[np.ndarray, np.ndarray]:
     return np.minimum(lower, n - 1), position - lower
 
 
-def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Each row scaled onto 0..255 and truncated to 8 bits (a map that never reverses the
-    order of two values); also each row's least value, and which rows could not be scaled
-    (constant, overflowing or not finite)."""
+    order of two values); also each row's least value, its span, and which rows could not
+    be scaled (constant, overflowing or not finite)."""
     low = values.min(axis=1)
     span = values.max(axis=1) - low
     with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
@@ -51,7 +51,7 @@ def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         scaled = np.subtract(values, low[:, None])
         scaled *= scale[:, None]
         levels = scaled.astype(np.uint8)
-    return levels, low, bad
+    return levels, low, span, bad
 
 
 def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
@@ -103,7 +103,7 @@ def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarra
     if n < _MIN_SAMPLES:
         with np.errstate(invalid="ignore"):
             return np.percentile(values, percentiles, axis=1)
-    levels, low, bad = _levels(values)
+    levels, low, span, bad = _levels(values)
     ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
     result = np.empty((len(percentiles), rows))
     redo = np.zeros(rows, dtype=bool)
@@ -112,7 +112,7 @@ def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarra
             low_stat, high_stat, unsure = _pair_of_order_statistics(values, levels, ordered, int(rank), bad)
             result[index] = low_stat + weight[index] * (high_stat.astype(float) - low_stat)
             redo |= unsure
-    constant = bad & ~skip & (values.max(axis=1) == low)   # finite: ~np.isfinite(scale) from a zero span
+    constant = ~skip & (span == 0.0)
     result[:, constant] = low[constant]
     redo = np.flatnonzero(redo & ~skip & ~constant)
     if redo.size:

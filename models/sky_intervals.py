@@ -10,8 +10,10 @@ draw of the sky table is ever kept in memory. The groups run on the worker
 threads (:mod:`orbitdeck.models.parallel`).
 
 Everything here is single precision (~1e-7 relative, far under the spread
-of the draws); the nominal sky table is computed in double precision by
-:mod:`orbitdeck.models.compute`.
+of the draws) with one Newton step for the closest approaches, unless the
+caller asks for double precision (draws that spread less than single
+precision resolves well), which takes the full search of the nominal sky
+table (:mod:`orbitdeck.models.compute`).
 """
 
 from __future__ import annotations
@@ -20,7 +22,7 @@ import numpy as np
 
 from .compute import Orbit, sky_rows
 from .constants import AU, RAD_TO_ARCSEC
-from .orbits import DrawOrbits, closest_distance_of_draws
+from .orbits import DrawOrbits, closest_distance_of_draws, closest_distance_of_pairs
 from .percentiles import row_percentiles
 from .skies import angular_diameter
 
@@ -29,9 +31,9 @@ from .skies import angular_diameter
 _GROUP_VALUES = 65_536
 
 
-def _orbit_major(array, samples: int) -> np.ndarray:
-    """(samples or 1, planets) -> (planets, samples) single precision, contiguous."""
-    return np.ascontiguousarray(np.broadcast_to(array, (samples, array.shape[1])).T, dtype=np.float32)
+def _orbit_major(array, samples: int, dtype) -> np.ndarray:
+    """(samples or 1, planets) -> (planets, samples), contiguous."""
+    return np.ascontiguousarray(np.broadcast_to(array, (samples, array.shape[1])).T, dtype=dtype)
 
 
 class SkyIntervals:
@@ -41,13 +43,15 @@ class SkyIntervals:
     in any order); afterwards :meth:`result` gives the intervals.
     """
 
-    def __init__(self, orbit: Orbit, samples: int, percentiles):
+    def __init__(self, orbit: Orbit, samples: int, percentiles, single: bool = True):
         self.percentiles = tuple(percentiles)
         self.planets = orbit.a_au.shape[1]
-        self.orbits = DrawOrbits.of(_orbit_major(orbit.a_au, samples), _orbit_major(orbit.eccentricity, samples),
-                                    _orbit_major(orbit.omega_rad, samples))
-        self.radius_au = _orbit_major(orbit.radius_m / AU, samples)
-        self.star_radius_au = np.asarray(orbit.star_radius_m / AU, dtype=np.float32).reshape(1, -1)
+        dtype = np.float32 if single else np.float64
+        self.a, self.e, self.omega = (_orbit_major(x, samples, dtype)
+                                      for x in (orbit.a_au, orbit.eccentricity, orbit.omega_rad))
+        self.draw_orbits = DrawOrbits.of(self.a, self.e, self.omega) if single else None
+        self.radius_au = _orbit_major(orbit.radius_m / AU, samples, dtype)
+        self.star_radius_au = np.asarray(orbit.star_radius_m / AU, dtype=dtype).reshape(1, -1)
         self.inner, self.outer = np.triu_indices(self.planets, 1)
         per_group = max(1, _GROUP_VALUES // max(samples, 1))
         self.groups = [slice(start, start + per_group) for start in range(0, self.inner.size, per_group)]
@@ -63,14 +67,17 @@ class SkyIntervals:
 
     def _pair_group(self, group: slice) -> None:
         inner, outer = self.inner[group], self.outer[group]
-        distance = closest_distance_of_draws(self.orbits, inner, outer)
+        if self.draw_orbits is not None:
+            distance = closest_distance_of_draws(self.draw_orbits, inner, outer)
+        else:   # double precision: the full search of the nominal sky table
+            distance = closest_distance_of_pairs(self.a.T, self.e.T, self.omega.T, inner, outer).T
         rows = np.concatenate([distance,
                                angular_diameter(np.take(self.radius_au, outer, axis=0), distance),
                                angular_diameter(np.take(self.radius_au, inner, axis=0), distance)])
         self._pairs[:, :, group] = row_percentiles(rows, self.percentiles).reshape(len(self.percentiles), 3, -1)
 
     def _star_rows(self) -> None:
-        self._star[:] = row_percentiles(angular_diameter(self.star_radius_au, self.orbits.a), self.percentiles)
+        self._star[:] = row_percentiles(angular_diameter(self.star_radius_au, self.a), self.percentiles)
 
     def result(self) -> dict[str, tuple]:
         """``"sky_pairs.closest_distance_au"``: (low, high) per planet pair in ``np.triu_indices`` order;
@@ -82,7 +89,7 @@ class SkyIntervals:
         bounds = []
         for star, pairs in zip(self._star, self._pairs):
             planet = pairs[seen, pair] if pairs.size else np.zeros(body.shape)
-            # at most half the sky: pi in single precision rounds up, past it
+            # at most half the sky (pi in single precision rounds up, past it)
             bounds.append(RAD_TO_ARCSEC * np.minimum(np.where(star_row, star[observer], planet), np.pi))
         return {"sky_pairs.closest_distance_au": tuple(self._pairs[:, 0]),
                 "skies.max_angular_diameter_arcsec": tuple(bounds)}

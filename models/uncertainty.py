@@ -21,7 +21,7 @@ from dataclasses import fields, replace
 import numpy as np
 
 from .allocator import keep_freed_memory
-from .compute import Anchor, Orbit, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
+from .compute import Anchor, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
 from .constants import RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import SharedWork
@@ -230,23 +230,35 @@ def _single_precision(draws: Inputs) -> Inputs:
                              if isinstance(value := getattr(draws, f.name), np.ndarray) and f.name != "period"})
 
 
-#: narrowest interval, relative to its value, that single precision gives to better than ~1e-3 of its width
-_SINGLE_PRECISION_MIN_WIDTH = 1e-4
+#: spread every uncertain drawn input but the periods needs for the draws to be worked out in single
+#: precision (~6e-8 relative): relative to the value, or absolute for angles [deg] and for
+#: quantities that enter as 1 - e^2, 1 + e sin(omega), 1 - A
+_SINGLE_PRECISION_MIN_SPREAD = 1e-3
+_ABSOLUTE_MIN_SPREAD = {"inclination": 0.01, "omega": 0.01, "eccentricity": 1e-3, "bond_albedo": 1e-3}
 
 
-def _in_double_where_narrow(derived, draws: Inputs, bounds: dict[str, tuple]) -> dict[str, tuple]:
-    """``bounds`` of the star and planet columns, with those whose spread is too narrow for
-    single precision (spread below 1e-4 of the value: only periods carry errors, say)
-    worked out again from the draws in double precision."""
-    narrow = [name for name, (low, high) in bounds.items() if np.any(
-        (high > low) & (high - low < _SINGLE_PRECISION_MIN_WIDTH * np.abs(_nominal(derived, name))))]
-    if not narrow:
-        return bounds
-    exact = _interval_columns(derived, star_and_planet_columns(draws, orbit_of(draws), regions=False))
-    low, high = row_percentiles(np.concatenate([exact[name].T for name in narrow]), PERCENTILES)
-    offsets = np.cumsum([0] + [exact[name].shape[1] for name in narrow])
-    return {**bounds, **{name: (low[start:stop], high[start:stop])
-                         for name, start, stop in zip(narrow, offsets[:-1], offsets[1:])}}
+def _single_precision_suffices(system: System) -> bool:
+    """Whether single precision resolves every interval of ``system``'s star, planet and sky
+    columns to better than ~1e-3 of its width.
+
+    Those columns depend on the stellar mass (through a) or on other drawn
+    inputs than the periods; they spread by at least ~1e-4 of their value
+    when the stellar mass and every other uncertain input but the periods
+    spread by 1e-3 or more of theirs (angles by 0.01 deg, eccentricity and
+    albedo by 0.001). Otherwise (only periods carry errors, say, whose
+    spread can be 1e-7 of their value) everything is worked out in double.
+    """
+    def spread_enough(body, field) -> bool:
+        spread, value = body.uncertainty(field), getattr(body, field)
+        if spread is None or value is None:
+            return True
+        needed = _ABSOLUTE_MIN_SPREAD.get(field, _SINGLE_PRECISION_MIN_SPREAD * abs(value))
+        return 0.5 * (spread.plus + spread.minus) >= needed
+
+    drawn = [(system.star, (*STAR_FIELDS, "j_mag", "k_mag")), (system.assumptions, ("bond_albedo",))]
+    drawn += [(planet, [field for field in PLANET_FIELDS if field != "period"]) for planet in system.planets]
+    return system.star.uncertainty("mass") is not None and all(
+        spread_enough(body, field) for body, fields_drawn in drawn for field in fields_drawn)
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
@@ -258,24 +270,27 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     """
     keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True)
-    single = _single_precision(draws)
-    orbit = orbit_of(single)
+    single = _single_precision_suffices(system)
+    single_draws = _single_precision(draws) if single else draws
+    orbit = orbit_of(single_draws)
     # the worker thread begins on the sky table (most of the work for a crowded
     # system) while this one works out the other columns, queueing their
     # percentiles as they come; then both take what is left
     work = SharedWork()
-    sky = SkyIntervals(orbit, samples, PERCENTILES)
+    sky = SkyIntervals(orbit, samples, PERCENTILES, single)
     work.add(sky.tasks())
-    planet_columns = star_and_planet_columns(single, orbit, regions=False)
+    planet_columns = star_and_planet_columns(single_draws, orbit, regions=False)
     planet_columns["planets.period_d"] = draws.period
-    planet_bounds = _column_intervals(derived, _interval_columns(derived, planet_columns), samples, work)
+    planet_columns = _interval_columns(derived, planet_columns)
+    planet_bounds = _column_intervals(derived, planet_columns, samples, work)
     anchor = _anchor(derived)
     pairs = {**pair_columns(draws, orbit, anchor), **triple_columns(draws, anchor)}
     other_nearest = pairs["pairs.other_nearest"]
     derived.extra["other_nearest_fraction"] = np.broadcast_to(other_nearest, (samples, other_nearest.shape[1])).mean(axis=0)
-    pair_bounds = _column_intervals(derived, _interval_columns(derived, pairs), samples, work)
+    pair_interval_columns = _interval_columns(derived, pairs)
+    pair_bounds = _column_intervals(derived, pair_interval_columns, samples, work)
     work.finish()
-    bounds = {**_in_double_where_narrow(derived, draws, planet_bounds()), **pair_bounds(), **sky.result()}
+    bounds = {**planet_bounds(), **pair_bounds(), **sky.result()}
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}
     for name, bound in bounds.items():
         table, key = name.split(".", 1)

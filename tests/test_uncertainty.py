@@ -264,7 +264,8 @@ def test_draws_where_orbits_cross_fill_at_most_half_the_sky():
 
 def test_intervals_far_narrower_than_single_precision_are_worked_out_in_double():
     # only the periods carry errors, of 1e-7 of their value (common practice for long transit
-    # baselines): a, S and Teq then spread by ~1e-7 relative, near single precision's 6e-8
+    # baselines): a, S, Teq and the skies then spread by ~1e-7 relative, near single precision's
+    # 6e-8, so the draws are worked out in double precision throughout
     from orbitdeck.models.compute import compute
 
     planets = [_planet(name, value=period, period=Uncertainty.from_sigma(1e-7 * period))
@@ -277,3 +278,7 @@ def test_intervals_far_narrower_than_single_precision_are_worked_out_in_double()
         expected = np.percentile(exact[f"planets.{key}"], [16, 84], axis=0)
         assert np.all(high > low)
         np.testing.assert_allclose([low, high], expected, rtol=1e-12, err_msg=key)
+    expected = np.percentile(exact["skies.max_angular_diameter_arcsec"], [16, 84], axis=0)
+    low, high = derived.intervals["skies"]["max_angular_diameter_arcsec"]
+    assert np.all(high > low)
+    np.testing.assert_allclose([low, high], expected, rtol=1e-12)
