@@ -8,7 +8,7 @@ triples or observer-body skies. No Python loop runs over planets.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
@@ -85,7 +85,7 @@ def compute(inp: Inputs, anchor: Anchor | None = None) -> dict[str, np.ndarray]:
 class Orbit:
     """Intermediate arrays the pair and sky columns share with the planet columns (SI unless named).
 
-    Every array has the samples on its first axis; :meth:`rows` picks some.
+    Every array has the samples on its first axis.
     """
 
     a_au: np.ndarray
@@ -95,11 +95,6 @@ class Orbit:
     radius_m: np.ndarray
     star_mass_kg: np.ndarray
     star_radius_m: np.ndarray
-
-    def rows(self, rows: slice) -> "Orbit":
-        """The same arrays for the samples ``rows`` only (single-row arrays, which broadcast, stay)."""
-        return Orbit(*(array if array.shape[0] == 1 else array[rows]
-                       for array in (getattr(self, f.name) for f in fields(self))))
 
 
 def orbit_of(inp: Inputs) -> Orbit:
