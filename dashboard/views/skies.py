@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 import panel as pn
-from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span
+from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span, Title
 from bokeh.palettes import Cividis256
 
 from . import palette
@@ -84,9 +84,9 @@ class SkiesView:
         self.bar_tooltips = [("body", "@body"), ("largest diameter", "@moon_ratio{0.000} x the Moon"),
                              ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")]
         self.bar_hover = add_hover(bars, [bar], self.bar_tooltips)
-        self.error_note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
-                                text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
-        bars.add_layout(self.error_note)
+        # under the axis, where it can cover neither a bar nor the Moon line's label
+        self.error_note = Title(text="", text_font_size="11px", text_font_style="normal", text_color="#444444")
+        bars.add_layout(self.error_note, "below")
         self.sky_from = SkyFromView(app)
         follow(app, self.update, self._observer)
 

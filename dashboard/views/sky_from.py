@@ -143,7 +143,9 @@ class SkyFromView:
         side = -1.0 if np.sum(longitude[1:] > 0) > np.sum(longitude[1:] < 0) else 1.0
         moon_x = side * (now["angular_diameter_arcsec"][0] / 7200.0 + MOON_DEG)
         replace_data(self.sources["moon"], {"x": [moon_x], "y": [0.0], "radius": [MOON_DEG / 2.0]})
-        self.moon_label.update(x=moon_x, y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0) - 0.3)
+        # the label runs outwards from the Moon's outer edge, clear of the star's disc and its name
+        self.moon_label.update(x=moon_x + side * MOON_DEG / 2.0, text_align="left" if side > 0 else "right",
+                               y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0) - 0.3)
         self.sky.title.text = (f"The sky of planet {observer} at BJD_TDB {time:.4f} "
                                "(discs to scale; hover for phase and brightness)")
 
