@@ -64,6 +64,24 @@ def _orbit_terms(a, e, omega):
     return a * (1.0 - e**2), e * np.cos(omega), e * np.sin(omega), e
 
 
+def _side_terms(cx, cy, latus, e_cos, e_sin):
+    """One orbit along the unit vector (cx, cy) = (cos theta, sin theta): E and F (e cos and
+    e sin of theta - omega), the radius r and its first two derivatives in theta."""
+    cos_term = cx * e_cos
+    cos_term += cy * e_sin
+    sin_term = cy * e_cos
+    sin_term -= cx * e_sin
+    q = 1.0 / (1.0 + cos_term)
+    r = latus * q
+    tilt = sin_term * q                                   # r' = r F q
+    curvature = tilt * tilt
+    curvature *= 2.0
+    curvature += q * cos_term
+    curvature *= r                                        # r'' = r (q E + 2 (F q)^2)
+    tilt *= r
+    return cos_term, sin_term, r, tilt, curvature
+
+
 def _gap_at(c, s, inner, outer, derivatives: bool = True):
     """Radial gap r_out - r_in along the unit vector (c, s) = (cos theta, sin theta).
 
@@ -71,16 +89,11 @@ def _gap_at(c, s, inner, outer, derivatives: bool = True):
     ``inner``, ``outer`` are :func:`_orbit_terms`; r = p / (1 + e cos(theta - omega)).
     """
     (p_i, ec_i, es_i, _), (p_o, ec_o, es_o, _) = inner, outer
-    e_cos_i, e_cos_o = c * ec_i + s * es_i, c * ec_o + s * es_o        # e cos(theta - omega)
-    inv_i, inv_o = 1.0 / (1.0 + e_cos_i), 1.0 / (1.0 + e_cos_o)
-    r_i, r_o = p_i * inv_i, p_o * inv_o
     if not derivatives:
-        return r_o - r_i
-    e_sin_i, e_sin_o = s * ec_i - c * es_i, s * ec_o - c * es_o        # e sin(theta - omega)
-    slope = r_o * e_sin_o * inv_o - r_i * e_sin_i * inv_i
-    curvature = (r_o * inv_o**2 * (e_cos_o * (1.0 + e_cos_o) + 2.0 * e_sin_o**2)
-                 - r_i * inv_i**2 * (e_cos_i * (1.0 + e_cos_i) + 2.0 * e_sin_i**2))
-    return r_o - r_i, slope, curvature
+        return p_o / (1.0 + (c * ec_o + s * es_o)) - p_i / (1.0 + (c * ec_i + s * es_i))
+    (*_, r_i, slope_i, curv_i), (*_, r_o, slope_o, curv_o) = (
+        _side_terms(c, s, p, ec, es) for p, ec, es in ((p_i, ec_i, es_i), (p_o, ec_o, es_o)))
+    return r_o - r_i, slope_o - slope_i, curv_o - curv_i
 
 
 def _newton(c, s, inner, outer, steps: int, sign: float = 1.0):
@@ -276,23 +289,6 @@ class DrawOrbits:
         return cls(a, e, omega, a * (1.0 - e * e), e_cos, e_sin, a * e_cos, a * e_sin, e > _FIRST_ORDER_E_MAX)
 
 
-def _side_terms(cx, cy, latus, e_cos, e_sin):
-    """E, F (e cos and e sin of theta - omega at the seed direction (cx, cy)), r' and r'' of one orbit."""
-    cos_term = cx * e_cos
-    cos_term += cy * e_sin
-    sin_term = cy * e_cos
-    sin_term -= cx * e_sin
-    q = 1.0 / (1.0 + cos_term)
-    r = latus * q
-    tilt = sin_term * q                                   # r' = r F q
-    curvature = tilt * tilt
-    curvature *= 2.0
-    curvature += q * cos_term
-    curvature *= r                                        # r'' = r (q E + 2 (F q)^2)
-    tilt *= r
-    return cos_term, sin_term, tilt, curvature
-
-
 def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
     """:func:`closest_orbit_distance` of many Monte Carlo draws of pairs, one Newton step, single precision.
 
@@ -334,7 +330,7 @@ def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
     for index in (inner_index, outer_index):
         latus = pick(orbits.latus, index)
         sides.append((latus, *_side_terms(cx, cy, latus, pick(orbits.e_cos, index), pick(orbits.e_sin, index))))
-    (p_i, cos_i, sin_i, slope_i, curv_i), (p_o, cos_o, sin_o, slope_o, curv_o) = sides
+    (p_i, cos_i, sin_i, _, slope_i, curv_i), (p_o, cos_o, sin_o, _, slope_o, curv_o) = sides
     curvature = curv_o - curv_i
     turn = slope_i - slope_o
     with np.errstate(divide="ignore", invalid="ignore"):

@@ -25,6 +25,8 @@ import astropy.units as u
 import numpy as np
 
 from . import ephemeris
+from .constants import RAD_TO_ARCSEC
+from .skies import angular_diameter
 
 #: Moon mean radius, 1737.4 km (IAU WGCCRE report, Archinal et al. 2018; from memory)
 MOON_RADIUS = 1737.4 * u.km
@@ -53,8 +55,7 @@ def angular_diameter_arcsec(radius, distance) -> np.ndarray:
     numpy.ndarray
         Angular diameter [arcsec]; 180 deg when d <= R.
     """
-    ratio = np.clip(np.asarray(radius, dtype=float) / np.asarray(distance, dtype=float), 0.0, 1.0)
-    return np.degrees(2.0 * np.arcsin(ratio)) * 3600.0
+    return angular_diameter(np.asarray(radius, dtype=float), np.asarray(distance, dtype=float)) * RAD_TO_ARCSEC
 
 
 def angle_between_deg(a, b) -> np.ndarray:
