@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G, M_EARTH, M_JUP, M_SUN, R_EARTH
+from .constants import G, M_EARTH, M_JUP, M_SUN, R_EARTH, as_float_array
 
 # Chen & Kipping 2017 (ApJ 834, 17), Table 1, mean posterior values:
 # R = C M^S piecewise in Earth units, continuous at the transitions.
@@ -40,7 +40,7 @@ def mass_from_radius(radius_rearth):
     ndarray
         Estimated mass [Mearth].
     """
-    r = np.asarray(radius_rearth, dtype=float)
+    r = as_float_array(radius_rearth)
     terran = (r / _TERRAN_C) ** (1.0 / _TERRAN_S)
     neptunian = (np.minimum(r, R_NEPTUNIAN_MAX) / _NEPTUNIAN_C) ** (1.0 / _NEPTUNIAN_S)
     return np.where(r < _R_TERRAN_MAX, terran, neptunian)

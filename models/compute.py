@@ -18,6 +18,10 @@ from .constants import AU, DAY, GYR, HOUR, L_SUN, M_EARTH, M_SUN, R_EARTH, R_SUN
 from .inputs import Inputs
 
 
+#: a product, not np.radians, whose loop is ten times slower
+_RADIANS_PER_DEGREE = np.pi / 180.0
+
+
 @lru_cache(maxsize=16)
 def sky_rows(n_planets: int):
     """Observer and body indices of the sky table; body -1 is the star.
@@ -64,8 +68,9 @@ def compute(inp: Inputs, anchor: Anchor | None = None) -> dict[str, np.ndarray]:
     inp : Inputs
     anchor : Anchor, optional
         Measure pair offsets, super-periods and three-body residuals from
-        these nominal choices instead of each row's own (adds the boolean
-        column ``"pairs.other_nearest"``: the row's own nearest differs).
+        these nominal choices instead of each row's own; the boolean column
+        ``"pairs.other_nearest"`` (the row's own nearest differs) then takes
+        the place of the pairs' integer columns p, q and order.
 
     Returns
     -------
@@ -97,13 +102,24 @@ class Orbit:
     star_radius_m: np.ndarray
 
 
+def _working_period_s(inp: Inputs) -> np.ndarray:
+    """The periods [s] in the precision of the stellar mass, for the columns that also depend on it.
+
+    Single-precision draws (:mod:`orbitdeck.models.uncertainty`) keep their
+    periods in double precision for the period column and the period
+    ratios; every other column also depends on the stellar mass, whose
+    spread single precision resolves, and is worked out in its precision.
+    """
+    return np.asarray(inp.period * DAY, dtype=np.result_type(inp.star_mass, np.float32))
+
+
 def orbit_of(inp: Inputs) -> Orbit:
     """The orbits and bodies of ``inp`` in SI units (masses estimated from radii where absent)."""
     mass_mearth = np.where(np.isnan(inp.mass), composition.mass_from_radius(inp.radius), inp.mass)
     mass_kg = mass_mearth * M_EARTH
     star_mass_kg = inp.star_mass * M_SUN
-    a_au = orbits.semi_major_axis(inp.period * DAY, star_mass_kg + mass_kg) / AU
-    return Orbit(a_au, inp.eccentricity, np.radians(inp.omega), mass_kg, inp.radius * R_EARTH, star_mass_kg,
+    a_au = orbits.semi_major_axis(_working_period_s(inp), star_mass_kg + mass_kg) / AU
+    return Orbit(a_au, inp.eccentricity, inp.omega * _RADIANS_PER_DEGREE, mass_kg, inp.radius * R_EARTH, star_mass_kg,
                  inp.star_radius * R_SUN)
 
 
@@ -123,9 +139,9 @@ def star_and_planet_columns(inp: Inputs, orbit: Orbit, regions: bool = True) -> 
     mass_estimated = np.isnan(inp.mass)
     mass_kg, radius_m = orbit.mass_kg, orbit.radius_m
     mass_mearth = mass_kg / M_EARTH
-    period_s = inp.period * DAY
+    period_s = _working_period_s(inp)
     e, omega = orbit.eccentricity, orbit.omega_rad
-    incl = np.radians(inp.inclination)
+    incl = inp.inclination * _RADIANS_PER_DEGREE
     a_au = orbit.a_au
     a_m = a_au * AU
     s_earth = irradiation.insolation(luminosity, a_au, e)
@@ -169,11 +185,12 @@ def pair_columns(inp: Inputs, orbit: Orbit, anchor: Anchor | None) -> dict[str, 
     n = inp.period.shape[1]
     inner, outer = inp.period[:, : n - 1], inp.period[:, 1:]
     ratio = outer / inner
-    p, q, order = resonances.nearest_commensurability(ratio)
-    out = {"pairs.period_ratio": ratio, "pairs.p": p, "pairs.q": q, "pairs.order": order}
-    if anchor is not None:
-        out["pairs.other_nearest"] = (p != anchor.pair_p) | (q != anchor.pair_q)
+    if anchor is None:
+        p, q, order = resonances.nearest_commensurability(ratio)
+        out = {"pairs.period_ratio": ratio, "pairs.p": p, "pairs.q": q, "pairs.order": order}
+    else:
         p, q = anchor.pair_p, anchor.pair_q
+        out = {"pairs.period_ratio": ratio, "pairs.other_nearest": resonances.nearest_differs(ratio, p, q)}
     with np.errstate(divide="ignore"):
         sup = resonances.super_period(inner, outer, p)
     out.update({

@@ -80,7 +80,10 @@ def tidal_locking_time(a_m, planet_mass_kg, planet_radius_m, star_mass_kg,
     ndarray
         Locking time [s].
     """
-    inertia = inertia_factor * planet_mass_kg * planet_radius_m**2
-    # products, not **6 and **5, which numpy evaluates with a slow general power
-    a2, r2 = a_m * a_m, planet_radius_m * planet_radius_m
-    return initial_spin_rad_s * (a2 * a2 * a2) * inertia * q / (3.0 * G * star_mass_kg**2 * k2 * (r2 * r2 * planet_radius_m))
+    # grouped as (m / M*) (a / R)^6 R^3 / (G M*), whose factors all stay within single-precision
+    # range (a^6 and M*^2 in SI overflow it); products, not **6, which numpy evaluates slowly
+    x = a_m / planet_radius_m
+    x3 = x * x * x
+    planet_radius_cubed = planet_radius_m * planet_radius_m * planet_radius_m
+    spin_factor = initial_spin_rad_s * inertia_factor * q / (3.0 * k2)
+    return spin_factor * (planet_mass_kg / star_mass_kg) * x3 * x3 * (planet_radius_cubed / (G * star_mass_kg))

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import SIGMA_SB
+from .constants import SIGMA_SB, as_float_array
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
 #: S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K.
@@ -110,8 +110,8 @@ def hz_effective_flux(teff_k):
         S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
         runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
     """
-    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
-    c = HZ_COEFFICIENTS
+    t = as_float_array(teff_k)[..., None] - 5780.0
+    c = HZ_COEFFICIENTS.astype(t.dtype)
     return c[:, 0] + t * (c[:, 1] + t * (c[:, 2] + t * (c[:, 3] + t * c[:, 4])))
 
 

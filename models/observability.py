@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN
+from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN, as_float_array
 
 # Kempton et al. 2018 (PASP 130, 114401), Table 1: TSM scale factors by radius bin [Rearth]
 TSM_RADIUS_EDGES = np.array([0.0, 1.5, 2.75, 4.0, 10.0])
@@ -109,10 +109,10 @@ def rv_semi_amplitude(period_s, planet_mass_kg, star_mass_kg, inclination, eccen
 
 def tsm_scale_factor(radius_rearth):
     """Kempton et al. 2018 TSM scale factor for each radius; NaN beyond 10 Rearth."""
-    r = np.asarray(radius_rearth, dtype=float)
+    r = as_float_array(radius_rearth)
     # the bin of each radius by comparisons with the inner edges (cheaper than searchsorted)
     index = sum((r >= edge).astype(np.intp) for edge in TSM_RADIUS_EDGES[1:-1])
-    return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS[index], np.nan)
+    return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS.astype(r.dtype)[index], np.nan)
 
 
 def transmission_spectroscopy_metric(radius_rearth, mass_mearth, star_radius_rsun, teq_k, j_mag):
@@ -123,7 +123,8 @@ def transmission_spectroscopy_metric(radius_rearth, mass_mearth, star_radius_rsu
     Teq for zero albedo and full redistribution. Defined for Rp < 10 Rearth;
     NaN beyond, and wherever mJ is NaN.
     """
-    return (tsm_scale_factor(radius_rearth) * radius_rearth**3 * teq_k
+    cube = radius_rearth * radius_rearth * radius_rearth   # not **3: a slow power loop
+    return (tsm_scale_factor(radius_rearth) * cube * teq_k
             / (mass_mearth * star_radius_rsun**2) * 10.0 ** (-j_mag / 5.0))
 
 
@@ -138,7 +139,9 @@ def emission_spectroscopy_metric(radius_rearth, star_radius_rearth, teq_k, teff_
 
     ESM = 4.29e6 x B(7.5 um, Tday) / B(7.5 um, Teff) x (Rp / R*)^2 x 10^(-mK / 5),
     with Tday = 1.10 Teq for zero albedo and full redistribution
-    (Kempton et al. 2018, eq. 4). NaN wherever mK is NaN.
+    (Kempton et al. 2018, eq. 4). NaN wherever mK is NaN. In single
+    precision a day side colder than ~22 K (B overflows its denominator)
+    gives 0, where the metric is below ~1e-30.
 
     Parameters
     ----------
@@ -149,5 +152,6 @@ def emission_spectroscopy_metric(radius_rearth, star_radius_rearth, teq_k, teff_
     k_mag : array_like
         Apparent K magnitude.
     """
-    ratio = planck(ESM_WAVELENGTH, ESM_DAYSIDE_FACTOR * teq_k) / planck(ESM_WAVELENGTH, teff_k)
+    with np.errstate(over="ignore"):
+        ratio = planck(ESM_WAVELENGTH, ESM_DAYSIDE_FACTOR * teq_k) / planck(ESM_WAVELENGTH, teff_k)
     return ESM_SCALE * ratio * (radius_rearth / star_radius_rearth) ** 2 * 10.0 ** (-k_mag / 5.0)

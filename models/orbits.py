@@ -6,7 +6,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .constants import G
+from .constants import G, M_SUN, YEAR
+
+
+#: semi-major axis [m] of a one-year orbit about one solar mass
+_KEPLER_LENGTH = float(np.cbrt(G * M_SUN * YEAR**2 / (4.0 * np.pi**2)))
 
 
 def semi_major_axis(period_s, total_mass_kg):
@@ -24,10 +28,13 @@ def semi_major_axis(period_s, total_mass_kg):
     Returns
     -------
     ndarray
-        Semi-major axis [m].
+        Semi-major axis [m]; single precision where both inputs are.
     """
-    period_s = np.asarray(period_s, dtype=float)
-    return np.cbrt(G * np.asarray(total_mass_kg, dtype=float) * period_s**2 / (4.0 * np.pi**2))
+    dtype = np.result_type(period_s, total_mass_kg, np.float32)
+    # in units of the Sun's mass and a year, so that single precision cannot overflow
+    period = np.asarray(period_s, dtype=dtype) / YEAR
+    mass = np.asarray(total_mass_kg, dtype=dtype) / M_SUN
+    return _KEPLER_LENGTH * np.cbrt(mass * period * period)
 
 
 def orbital_radius(a, e, true_anomaly):

@@ -36,14 +36,14 @@ class SharedWork:
     on; :meth:`finish` makes the caller take tasks too until none is left,
     then waits for the tasks still running and re-raises the first error.
     Tasks may be added in several batches; each is taken by one thread.
-    From one of the pool's own threads, or with one core, every task runs
-    in the caller.
+    From one of the pool's own threads, with one core, or when ``threaded``
+    is false, every task runs in the caller.
     """
 
-    def __init__(self):
+    def __init__(self, threaded: bool = True):
         self._queue: deque = deque()
         self._helpers: list = []
-        self._inline = WORKERS == 1 or threading.current_thread().name.startswith(_PREFIX)
+        self._inline = not threaded or WORKERS == 1 or threading.current_thread().name.startswith(_PREFIX)
 
     def add(self, tasks) -> None:
         self._queue.extend(tasks)

@@ -11,7 +11,8 @@ by an exact selection that suits Monte Carlo columns:
    level's run of sorted positions starts;
 3. the row's values on that level (a few dozen for a smooth row) are put
    in order, which places the wanted rank exactly. Rows where the run is
-   long (heavy tails, many ties) go to ``np.percentile``.
+   long (heavy tails, many ties) are tried again with levels of their
+   logarithms where they are positive, and otherwise go to ``np.percentile``.
 
 Rows that hold NaN or infinities go to ``np.percentile`` / ``np.nanpercentile``
 directly (a row with no value but NaN gives NaN).
@@ -95,26 +96,46 @@ def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
     return statistic, next_statistic, unsure
 
 
-def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarray:
-    """Percentiles of the rows that hold only finite values, (len(percentiles), rows); rows
-    flagged in ``skip`` (the others) are left undefined."""
-    rows, n = values.shape
-    lower, weight = _ranks(n, percentiles)
-    if n < _MIN_SAMPLES:
-        with np.errstate(invalid="ignore"):
-            return np.percentile(values, percentiles, axis=1)
-    levels, low, span, bad = _levels(values)
+def _selected(values: np.ndarray, keys: np.ndarray, lower, weight) -> tuple[np.ndarray, np.ndarray]:
+    """Percentiles of each row of ``values`` by the 8-bit levels of ``keys`` (``values`` itself or
+    any map of it that never reverses the order of two values), and which rows are left unsure."""
+    levels, _, span, bad = _levels(keys)
     ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
-    result = np.empty((len(percentiles), rows))
-    redo = np.zeros(rows, dtype=bool)
+    result = np.empty((len(lower), values.shape[0]))
+    redo = np.zeros(values.shape[0], dtype=bool)
     with np.errstate(invalid="ignore"):
         for index, rank in enumerate(lower):
             low_stat, high_stat, unsure = _pair_of_order_statistics(values, levels, ordered, int(rank), bad)
             result[index] = low_stat + weight[index] * (high_stat.astype(float) - low_stat)
             redo |= unsure
-    constant = ~skip & (span == 0.0)
-    result[:, constant] = low[constant]
-    redo = np.flatnonzero(redo & ~skip & ~constant)
+    constant = span == 0.0
+    result[:, constant] = values[constant, 0]
+    return result, redo & ~constant
+
+
+def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarray:
+    """Percentiles of the rows that hold only finite values, (len(percentiles), rows); rows
+    flagged in ``skip`` (the others) are left undefined.
+
+    Rows too heavy-tailed for levels of their values (a metric spread over
+    decades, say) are tried again with levels of their logarithms, where
+    all their values are positive; what is still unsure goes to np.percentile.
+    """
+    rows, n = values.shape
+    lower, weight = _ranks(n, percentiles)
+    if n < _MIN_SAMPLES:
+        with np.errstate(invalid="ignore"):
+            return np.percentile(values, percentiles, axis=1)
+    result, redo = _selected(values, values, lower, weight)
+    redo = np.flatnonzero(redo & ~skip)
+    if redo.size:
+        again = values[redo]
+        positive = again.min(axis=1) > 0.0
+        if positive.any():
+            logs = np.log(again[positive])
+            result[:, redo[positive]], unsure = _selected(again[positive], logs, lower, weight)
+            positive[positive] = ~unsure
+        redo = redo[~positive]
     if redo.size:
         result[:, redo] = np.percentile(values[redo], percentiles, axis=1)
     return result

@@ -65,6 +65,40 @@ def nearest_commensurability(period_ratio):
     return _P[index], _Q[index], _ORDER[index]
 
 
+def nearest_differs(period_ratio, p, q):
+    """Whether the nearest commensurability to each ratio is another than p:q.
+
+    The same answer as comparing :func:`nearest_commensurability` with p:q,
+    without its search: a ratio keeps the rung p:q while it lies nearer to
+    it than to the rungs either side (on a tie the rung of lower order wins,
+    as there).
+
+    Parameters
+    ----------
+    period_ratio : array_like, shape (..., pairs)
+        Outer-over-inner period ratios.
+    p, q : array_like of int, shape (pairs,)
+        A commensurability of :func:`commensurability_table` per pair.
+
+    Returns
+    -------
+    ndarray of bool, shape of ``period_ratio``
+    """
+    ratio = np.asarray(period_ratio, dtype=float)
+    sorted_p, sorted_q = _P[_BY_RATIO], _Q[_BY_RATIO]
+    p, q = np.asarray(p).reshape(-1, 1), np.asarray(q).reshape(-1, 1)
+    position = ((sorted_p == p) & (sorted_q == q)).argmax(axis=1)
+    padded_ratio = np.concatenate([[-np.inf], _SORTED_RATIO, [np.inf]])
+    padded_rank = np.concatenate([[_BY_RATIO.size], _BY_RATIO, [_BY_RATIO.size]])
+    below, rung, above = (padded_ratio[position + shift] for shift in (0, 1, 2))
+    rank_below, rank, rank_above = (padded_rank[position + shift] for shift in (0, 1, 2))
+    with np.errstate(invalid="ignore"):   # inf - inf never decides: the other side's gap is finite
+        up_gap, down_gap = ratio - rung, rung - ratio
+        keeps_above = (up_gap < above - ratio) | ((up_gap == above - ratio) & (rank < rank_above))
+        keeps_below = (down_gap < ratio - below) | ((down_gap == ratio - below) & (rank < rank_below))
+    return ~np.where(ratio >= rung, keeps_above, keeps_below)
+
+
 def resonance_offset(period_ratio, p, q):
     """Fractional distance from a commensurability.
 

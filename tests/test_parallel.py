@@ -44,7 +44,20 @@ def test_work_started_from_a_worker_runs_there_without_waiting_for_itself():
     assert len(inner_done) == 8
 
 
-def test_derivations_in_several_threads_at_once_give_the_same_document():
+def test_work_not_threaded_runs_in_the_caller():
+    names = []
+    work = SharedWork(threaded=False)
+    work.add(lambda: names.append(threading.current_thread().name) for _ in range(6))
+    work.finish()
+    assert names == [threading.current_thread().name] * 6
+
+
+@pytest.mark.parametrize("threaded", [False, True])
+def test_derivations_in_several_threads_at_once_give_the_same_document(threaded, monkeypatch):
+    from orbitdeck.models import uncertainty
+
+    if threaded:   # the pool takes a share of even this small system's work
+        monkeypatch.setattr(uncertainty, "THREADED_MIN_PAIR_DRAWS", 0)
     star = Star(name="s", mass=0.3, radius=0.3, teff=3300.0)
     star.set_uncertainty("mass", Uncertainty.from_sigma(0.01))
     planets = []

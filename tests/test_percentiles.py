@@ -81,3 +81,16 @@ def test_long_rows_of_any_values_match_numpy(values, percentiles, single):
         np.testing.assert_allclose(got[~np.isnan(got)], expected[~np.isnan(expected)], rtol=1e-6, atol=1e-3)
     else:
         _assert_same(got, expected)
+
+
+@pytest.mark.parametrize("dtype", [np.float32, np.float64])
+def test_rows_spread_over_decades_are_selected_by_their_logarithms(dtype, monkeypatch):
+    # positive rows spread over many decades (a heavy-tailed metric) crowd into a few 8-bit levels
+    # of their values; their logarithms spread evenly, so they must not need numpy's own percentile
+    from orbitdeck.models import percentiles
+
+    rng = np.random.default_rng(5)
+    rows = np.exp(rng.uniform(-40.0, 0.0, (6, 4000)) * rng.uniform(0.2, 2.0, (6, 1))).astype(dtype)
+    expected = _reference(rows.astype(float))
+    monkeypatch.setattr(percentiles.np, "percentile", None)
+    _assert_same(row_percentiles(rows, PERCENTILES), expected)

@@ -109,6 +109,22 @@ def test_delta_is_zero_on_the_rung(ratio):
     assert abs(resonances.resonance_offset(p / q, p, q)) < 1e-15
 
 
+@settings(max_examples=200, deadline=None)
+@given(rung=st.integers(0, resonances._P.size - 1), offsets=st.lists(st.floats(-0.3, 0.3), min_size=1, max_size=30),
+       midpoint=st.booleans())
+def test_nearest_differs_agrees_with_the_search(rung, offsets, midpoint):
+    # the shortcut used for Monte Carlo draws must give the search's answer ratio by ratio, on the
+    # rung, across it, beyond its neighbours and exactly half way to them (ties)
+    p, q = resonances._P[rung], resonances._Q[rung]
+    ratios = p / q + np.array(offsets)
+    if midpoint:
+        ratios = np.concatenate([ratios, 0.5 * (resonances._SORTED_RATIO[:-1] + resonances._SORTED_RATIO[1:])])
+    ratios = ratios[ratios >= 1.0].reshape(-1, 1)
+    found_p, found_q, _ = resonances.nearest_commensurability(ratios)
+    expected = (found_p != p) | (found_q != q)
+    np.testing.assert_array_equal(resonances.nearest_differs(ratios, [p], [q]), expected)
+
+
 # -- file round trip ------------------------------------------------------------------------
 
 # text of any Unicode character that UTF-8 can encode (no lone surrogates)

@@ -209,6 +209,7 @@ def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
     from orbitdeck.models.skies import angular_diameter
 
     monkeypatch.setattr(sky_intervals, "_GROUP_VALUES", 500)   # one planet pair per group
+    monkeypatch.setattr(uncertainty, "THREADED_MIN_PAIR_DRAWS", 0)   # two threads even for four planets
     planets = [_planet(name, value=period, radius_value=1.2, mass_value=None,
                        period=Uncertainty.from_sigma(1e-4), radius=Uncertainty(0.08, 0.05),
                        eccentricity=Uncertainty.from_sigma(0.02))
@@ -282,3 +283,42 @@ def test_intervals_far_narrower_than_single_precision_are_worked_out_in_double()
     low, high = derived.intervals["skies"]["max_angular_diameter_arcsec"]
     assert np.all(high > low)
     np.testing.assert_allclose([low, high], expected, rtol=1e-12)
+
+
+def test_single_precision_intervals_agree_with_double_precision_ones(monkeypatch):
+    # The draws of a system whose inputs spread widely are worked out in single precision. The
+    # same draws in double precision are the reference: an order statistic moves by at most the
+    # largest error of one draw (it is 1-Lipschitz in the draws), so every interval must agree to
+    # a small part of its width. The system reaches far: periods up to 4e6 d around a 2 Msun star
+    # (a^6, M*^2 and G M P^2 in SI overflow single precision), a planet cold enough for the
+    # emission metric to vanish (about 15 K), and nearly edge-on orbits.
+    from orbitdeck.models import uncertainty
+
+    sigma = Uncertainty.from_sigma
+    star = _star(mass=sigma(0.05), radius=Uncertainty(0.04, 0.03), teff=sigma(80.0))
+    star.mass, star.radius, star.teff, star.j_mag, star.k_mag = 2.0, 1.8, 7000.0, 8.0, 7.6
+    planets = []
+    for name, period in zip("bcde", (1.3, 40.0, 2.0e3, 4.0e6)):
+        planet = _planet(name, value=period, radius_value=2.0, mass_value=None, period=sigma(1e-4 * period),
+                         radius=Uncertainty(0.1, 0.08), eccentricity=sigma(0.02), inclination=sigma(0.05))
+        planet.eccentricity, planet.inclination = 0.05, 89.9
+        planets.append(planet)
+    system = System(name="far", star=star, planets=planets)
+    assert uncertainty._single_precision_suffices(system)
+    single = derive(system, samples=2000, seed=3)
+    monkeypatch.setattr(uncertainty, "_single_precision_suffices", lambda _: False)
+    double = derive(system, samples=2000, seed=3)
+    assert double.intervals["planets"]["esm"][1][3] < 1e-30    # the cold planet
+    for table in ("planets", "pairs", "triples", "skies"):
+        for key, (low, high) in double.intervals[table].items():
+            got_low, got_high = single.intervals[table][key]
+            assert np.all(np.isfinite(got_low) == np.isfinite(low)), f"{table}.{key}"
+            tolerance = 1e-3 * np.nan_to_num(high - low) + 1e-30
+            for got, want in ((got_low, low), (got_high, high)):
+                np.testing.assert_array_less(np.abs(np.nan_to_num(got - want)), tolerance + 1e-5 * np.abs(np.nan_to_num(want)),
+                                             err_msg=f"{table}.{key}")
+    star_single, star_double = single.intervals["star"], double.intervals["star"]
+    assert set(star_double["hz_au"]) == set(star_single["hz_au"]) and star_double["hz_au"]
+    for got, want in [(star_single["luminosity_lsun"], star_double["luminosity_lsun"])] + [
+            (star_single["hz_au"][key], star_double["hz_au"][key]) for key in star_double["hz_au"]]:
+        np.testing.assert_allclose(got, want, rtol=1e-5)
