@@ -22,7 +22,7 @@ import numpy as np
 
 from .allocator import keep_freed_memory
 from .compute import Anchor, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
-from .constants import RAD_TO_ARCSEC
+from .constants import AU, R_SUN, RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import SharedWork
 from .percentiles import row_percentiles
@@ -32,7 +32,6 @@ from .system import System, _Body
 
 #: percentiles that bound the reported interval (one sigma for a normal)
 PERCENTILES = (16.0, 84.0)
-_MAX_REDRAWS = 100
 
 
 def split_normal(rng: np.random.Generator, value, plus, minus, size):
@@ -52,7 +51,7 @@ def split_normal(rng: np.random.Generator, value, plus, minus, size):
     """
     z = rng.standard_normal(size)
     plus, minus = np.asarray(plus, dtype=float), np.asarray(minus, dtype=float)
-    if np.array_equal(plus, minus):
+    if (plus == minus).all():
         z *= plus
     else:   # minus below the median, plus above (arithmetic: np.where with broadcasting is slow)
         width = (z >= 0.0) * (plus - minus)
@@ -65,16 +64,28 @@ def split_normal(rng: np.random.Generator, value, plus, minus, size):
 def _outside(values, bounds, inclusive):
     """Where ``values`` fall outside ``bounds`` (NaN, an absent optional value, never does)."""
     lo, hi = bounds if bounds is not None else (None, None)
-    bad = np.zeros(values.shape, dtype=bool)
-    if lo is not None:
-        bad |= values < lo if inclusive[0] else values <= lo
-    if hi is not None:
-        bad |= values > hi if inclusive[1] else values >= hi
-    return bad
+    below = None if lo is None else (values < lo if inclusive[0] else values <= lo)
+    above = None if hi is None else (values > hi if inclusive[1] else values >= hi)
+    if below is None or above is None:
+        return np.zeros(np.shape(values), dtype=bool) if below is None and above is None else (
+            above if below is None else below)
+    below |= above
+    return below
+
+
+#: rounds of fresh tries for draws outside the domain, and the tries per rejected draw in the first
+_REDRAW_ROUNDS = 8
+_FIRST_TRIES = 4
+_MAX_TRIES_PER_ROUND = 1 << 20
 
 
 def truncated_split_normal(rng, value, plus, minus, size, bounds, inclusive=(True, True)):
-    """Split-normal draws restricted to ``bounds`` by redrawing those outside.
+    """Split-normal draws restricted to ``bounds`` by drawing again those outside.
+
+    Rejection sampling, with several tries at once: each draw outside the
+    domain takes the first of a few fresh draws that falls inside (four, then
+    four times more each round for those that still found none), which
+    truncates the distribution exactly, as drawing again one at a time does.
 
     Parameters
     ----------
@@ -92,25 +103,30 @@ def truncated_split_normal(rng, value, plus, minus, size, bounds, inclusive=(Tru
     if not bad.size:
         return draws
     flat = draws.reshape(-1)
-    # value, plus and minus of each rejected draw, without broadcasting them to the full size
-    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size)[np.unravel_index(bad, size)]
+    # value, plus and minus of each rejected draw, one row each, without broadcasting them to the full size
+    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), size)[np.unravel_index(bad, size)][:, None]
                           for x in (value, plus, minus))
-    for _ in range(_MAX_REDRAWS):
-        # only the rejected draws are drawn again and checked again
-        redrawn = split_normal(rng, value, plus, minus, bad.size)
-        still = _outside(redrawn, bounds, inclusive)
-        flat[bad] = redrawn
-        bad, value, plus, minus = bad[still], value[still], plus[still], minus[still]
+    tries = _FIRST_TRIES
+    for _ in range(_REDRAW_ROUNDS):
+        fresh = split_normal(rng, value, plus, minus, (bad.size, tries))
+        inside = ~_outside(fresh, bounds, inclusive)
+        found = inside.any(axis=1)
+        first = inside.argmax(axis=1)
+        flat[bad[found]] = fresh[found, first[found]]
+        missing = ~found
+        bad, value, plus, minus = bad[missing], value[missing], plus[missing], minus[missing]
         if not bad.size:
             return draws
+        tries = max(tries, min(4 * tries, _MAX_TRIES_PER_ROUND // bad.size))
     # a domain that far in a tail keeps its last valid neighbour: the nominal value
-    flat[bad] = value
+    flat[bad] = value[:, 0]
     return draws
 
 
-def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples: int,
+def _sampled(rng, bodies: list[_Body], spreads_of: list[dict], field: str, nominal: np.ndarray, samples: int,
              compact: bool = False) -> np.ndarray:
-    """Samples of ``field`` of every body in ``bodies`` (columns of ``nominal``).
+    """Samples of ``field`` of every body in ``bodies`` (columns of ``nominal``), whose
+    uncertainties by field are ``spreads_of``.
 
     With ``compact``, a field that no body gives an uncertainty stays one row
     (1, bodies), which broadcasts against the draws of the others: functions
@@ -119,7 +135,7 @@ def _sampled(rng, bodies: list[_Body], field: str, nominal: np.ndarray, samples:
     (samples, bodies) array), and so are the columns computed from them:
     a column's rows of draws, one per body, are then contiguous.
     """
-    spreads = [body.uncertainty(field) for body in bodies]
+    spreads = [spread_of.get(field) for spread_of in spreads_of]
     if not any(spreads) or np.isnan(nominal).all():
         return nominal if compact else np.repeat(nominal, samples, axis=0)
     plus = np.array([[s.plus if s else 0.0] for s in spreads])
@@ -137,17 +153,19 @@ def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool
     """
     rng = np.random.default_rng(seed)
     nominal = nominal_inputs(system)
-    planets = list(system.planets)
-    star = [system.star]
+    planets, star, assumptions = list(system.planets), [system.star], [system.assumptions]
+    planet_spreads = [planet.uncertainties for planet in planets]
+    star_spreads, assumption_spreads = [system.star.uncertainties], [system.assumptions.uncertainties]
 
-    def draw(bodies, field, values):
-        return _sampled(rng, bodies, field, values, samples, compact)
+    def draw(bodies, spreads_of, field, values):
+        return _sampled(rng, bodies, spreads_of, field, values, samples, compact)
 
-    fields = {field: draw(planets, field, getattr(nominal, field)) for field in PLANET_FIELDS}
-    fields.update({f"star_{field}": draw(star, field, getattr(nominal, f"star_{field}")) for field in STAR_FIELDS})
-    fields["j_mag"] = draw(star, "j_mag", nominal.j_mag)
-    fields["k_mag"] = draw(star, "k_mag", nominal.k_mag)
-    fields["bond_albedo"] = draw([system.assumptions], "bond_albedo", nominal.bond_albedo)
+    fields = {field: draw(planets, planet_spreads, field, getattr(nominal, field)) for field in PLANET_FIELDS}
+    fields.update({f"star_{field}": draw(star, star_spreads, field, getattr(nominal, f"star_{field}"))
+                   for field in STAR_FIELDS})
+    fields["j_mag"] = draw(star, star_spreads, "j_mag", nominal.j_mag)
+    fields["k_mag"] = draw(star, star_spreads, "k_mag", nominal.k_mag)
+    fields["bond_albedo"] = draw(assumptions, assumption_spreads, "bond_albedo", nominal.bond_albedo)
     return replace(nominal, **fields)
 
 
@@ -237,17 +255,26 @@ _SINGLE_PRECISION_MIN_SPREAD = 1e-3
 _ABSOLUTE_MIN_SPREAD = {"inclination": 0.01, "omega": 0.01, "eccentricity": 1e-3, "bond_albedo": 1e-3}
 
 
-def _single_precision_suffices(system: System) -> bool:
+#: largest a / R* worked out in single precision: it resolves cos i near i = 90 deg to ~1e-7 only,
+#: so the impact parameter to ~1e-7 a / R*, which near-grazing transit durations feel
+_SINGLE_PRECISION_MAX_A_OVER_R = 1000.0
+
+
+def _single_precision_suffices(system: System, derived) -> bool:
     """Whether single precision resolves every interval of ``system``'s star, planet and sky
-    columns to better than ~1e-3 of its width.
+    columns to better than ~1e-3 of its width (``derived``: its nominal derivation).
 
     Those columns depend on the stellar mass (through a) or on other drawn
     inputs than the periods; they spread by at least ~1e-4 of their value
     when the stellar mass and every other uncertain input but the periods
     spread by 1e-3 or more of theirs (angles by 0.01 deg, eccentricity and
     albedo by 0.001). Otherwise (only periods carry errors, say, whose
-    spread can be 1e-7 of their value) everything is worked out in double.
+    spread can be 1e-7 of their value), or where a planet's a / R* exceeds
+    1000, everything is worked out in double.
     """
+    a_over_r = np.asarray(derived.planets["semi_major_axis_au"], dtype=float) * AU / (system.star.radius * R_SUN)
+    if not np.all(a_over_r <= _SINGLE_PRECISION_MAX_A_OVER_R):
+        return False
     def spread_enough(body, field) -> bool:
         spread, value = body.uncertainty(field), getattr(body, field)
         if spread is None or value is None:
@@ -276,7 +303,7 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     """
     keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True)
-    single = _single_precision_suffices(system)
+    single = _single_precision_suffices(system, derived)
     single_draws = _single_precision(draws) if single else draws
     orbit = orbit_of(single_draws)
     # for a crowded system the worker thread begins on the sky table (most of the
