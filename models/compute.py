@@ -141,6 +141,9 @@ def star_and_planet_columns(inp: Inputs, orbit: Orbit, regions: bool = True) -> 
     mass_mearth = mass_kg / M_EARTH
     period_s = _working_period_s(inp)
     e, omega = orbit.eccentricity, orbit.omega_rad
+    # the inclination stays in its own precision, double for single-precision draws: near 90 deg
+    # single precision resolves cos i only to ~1e-7, and so the impact parameter to ~1e-7 a / R*,
+    # which a near-grazing transit's duration feels far out from its star
     incl = inp.inclination * _RADIANS_PER_DEGREE
     a_au = orbit.a_au
     a_m = a_au * AU
@@ -166,7 +169,8 @@ def star_and_planet_columns(inp: Inputs, orbit: Orbit, regions: bool = True) -> 
         "transit_duration_h": observability.transit_duration_total(period_s, a_m, star_radius_m, radius_m,
                                                                    incl, b, e, omega) / HOUR,
         "impact_parameter": b,
-        "rv_semi_amplitude_ms": observability.rv_semi_amplitude(period_s, mass_kg, star_mass_kg, incl, e),
+        "rv_semi_amplitude_ms": observability.rv_semi_amplitude(period_s, mass_kg, star_mass_kg,
+                                                                 incl.astype(period_s.dtype), e),
         "tsm": observability.transmission_spectroscopy_metric(inp.radius, mass_mearth, inp.star_radius,
                                                               teq_kempton, inp.j_mag),
         "esm": observability.emission_spectroscopy_metric(inp.radius, inp.star_radius * R_SUN / R_EARTH,

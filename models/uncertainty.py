@@ -22,7 +22,7 @@ import numpy as np
 
 from .allocator import keep_freed_memory
 from .compute import Anchor, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
-from .constants import AU, R_SUN, RAD_TO_ARCSEC
+from .constants import RAD_TO_ARCSEC
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import SharedWork
 from .percentiles import row_percentiles
@@ -235,17 +235,20 @@ def _column_intervals(derived, columns: dict[str, np.ndarray], samples: int, wor
 
 
 def _single_precision(draws: Inputs) -> Inputs:
-    """``draws`` in single precision, but for the periods.
+    """``draws`` in single precision, but for the periods and inclinations.
 
     The star, planet and sky columns of the draws are computed from these:
     ~1e-7 relative error, below 1e-4 of the width of their intervals, at
     half the memory and far cheaper transcendental functions. Periods stay
     double: their spread can be 1e-6 of their value, and the period-ratio
     columns (offsets from commensurability, super-periods, three-body
-    residuals) are computed from them in double precision.
+    residuals) are computed from them in double precision. Inclinations stay
+    double for the impact parameters and transit durations (see
+    :func:`orbitdeck.models.compute.star_and_planet_columns`).
     """
     return replace(draws, **{f.name: value.astype(np.float32) for f in fields(draws)
-                             if isinstance(value := getattr(draws, f.name), np.ndarray) and f.name != "period"})
+                             if isinstance(value := getattr(draws, f.name), np.ndarray)
+                             and f.name not in ("period", "inclination")})
 
 
 #: spread every uncertain drawn input but the periods needs for the draws to be worked out in single
@@ -255,37 +258,31 @@ _SINGLE_PRECISION_MIN_SPREAD = 1e-3
 _ABSOLUTE_MIN_SPREAD = {"inclination": 0.01, "omega": 0.01, "eccentricity": 1e-3, "bond_albedo": 1e-3}
 
 
-#: largest a / R* worked out in single precision: it resolves cos i near i = 90 deg to ~1e-7 only,
-#: so the impact parameter to ~1e-7 a / R*, which near-grazing transit durations feel
-_SINGLE_PRECISION_MAX_A_OVER_R = 1000.0
-
-
-def _single_precision_suffices(system: System, derived) -> bool:
+def _single_precision_suffices(system: System) -> bool:
     """Whether single precision resolves every interval of ``system``'s star, planet and sky
-    columns to better than ~1e-3 of its width (``derived``: its nominal derivation).
+    columns to better than ~1e-3 of its width.
 
     Those columns depend on the stellar mass (through a) or on other drawn
     inputs than the periods; they spread by at least ~1e-4 of their value
     when the stellar mass and every other uncertain input but the periods
     spread by 1e-3 or more of theirs (angles by 0.01 deg, eccentricity and
     albedo by 0.001). Otherwise (only periods carry errors, say, whose
-    spread can be 1e-7 of their value), or where a planet's a / R* exceeds
-    1000, everything is worked out in double.
+    spread can be 1e-7 of their value) everything is worked out in double.
     """
-    a_over_r = np.asarray(derived.planets["semi_major_axis_au"], dtype=float) * AU / (system.star.radius * R_SUN)
-    if not np.all(a_over_r <= _SINGLE_PRECISION_MAX_A_OVER_R):
-        return False
-    def spread_enough(body, field) -> bool:
-        spread, value = body.uncertainty(field), getattr(body, field)
-        if spread is None or value is None:
-            return True
-        needed = _ABSOLUTE_MIN_SPREAD.get(field, _SINGLE_PRECISION_MIN_SPREAD * abs(value))
-        return 0.5 * (spread.plus + spread.minus) >= needed
+    def spreads_enough(body, fields_drawn) -> bool:
+        # only the fields with an uncertainty, each read once (param attributes are slow to read)
+        spreads = {field: spread for field, spread in body.uncertainties.items() if field in fields_drawn}
+        for (field, spread), value in zip(spreads.items(), body.values_of(spreads)):
+            needed = _ABSOLUTE_MIN_SPREAD.get(field, _SINGLE_PRECISION_MIN_SPREAD * abs(value or 0.0))
+            if value is not None and 0.5 * (spread.plus + spread.minus) < needed:
+                return False
+        return True
 
-    drawn = [(system.star, (*STAR_FIELDS, "j_mag", "k_mag")), (system.assumptions, ("bond_albedo",))]
-    drawn += [(planet, [field for field in PLANET_FIELDS if field != "period"]) for planet in system.planets]
+    planet_fields = set(PLANET_FIELDS) - {"period"}
+    drawn = [(system.star, {*STAR_FIELDS, "j_mag", "k_mag"}), (system.assumptions, {"bond_albedo"})]
+    drawn += [(planet, planet_fields) for planet in system.planets]
     return system.star.uncertainty("mass") is not None and all(
-        spread_enough(body, field) for body, fields_drawn in drawn for field in fields_drawn)
+        spreads_enough(body, fields_drawn) for body, fields_drawn in drawn)
 
 
 #: sky-table pair draws from which a second thread shares the work (about 16 planets x 4000 draws).
@@ -303,7 +300,7 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     """
     keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True)
-    single = _single_precision_suffices(system, derived)
+    single = _single_precision_suffices(system)
     single_draws = _single_precision(draws) if single else draws
     orbit = orbit_of(single_draws)
     # for a crowded system the worker thread begins on the sky table (most of the
