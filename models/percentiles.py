@@ -96,9 +96,10 @@ def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
     return statistic, next_statistic, unsure
 
 
-def _selected(values: np.ndarray, keys: np.ndarray, lower, weight) -> tuple[np.ndarray, np.ndarray]:
-    """Percentiles of each row of ``values`` by the 8-bit levels of ``keys`` (``values`` itself or
-    any map of it that never reverses the order of two values), and which rows are left unsure."""
+def _selected(values: np.ndarray, keys: np.ndarray, lower, weight, transform) -> tuple[np.ndarray, np.ndarray]:
+    """Percentiles of each row of ``transform(values)`` by the 8-bit levels of ``keys`` (``values``
+    itself or any map of it that never reverses the order of two values), and which rows are left
+    unsure."""
     levels, _, span, bad = _levels(keys)
     ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
     result = np.empty((len(lower), values.shape[0]))
@@ -106,14 +107,15 @@ def _selected(values: np.ndarray, keys: np.ndarray, lower, weight) -> tuple[np.n
     with np.errstate(invalid="ignore"):
         for index, rank in enumerate(lower):
             low_stat, high_stat, unsure = _pair_of_order_statistics(values, levels, ordered, int(rank), bad)
+            low_stat, high_stat = transform(low_stat), transform(high_stat)
             result[index] = low_stat + weight[index] * (high_stat.astype(float) - low_stat)
             redo |= unsure
     constant = span == 0.0
-    result[:, constant] = values[constant, 0]
+    result[:, constant] = transform(values[constant, 0])
     return result, redo & ~constant
 
 
-def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarray:
+def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray, transform) -> np.ndarray:
     """Percentiles of the rows that hold only finite values, (len(percentiles), rows); rows
     flagged in ``skip`` (the others) are left undefined.
 
@@ -125,29 +127,29 @@ def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray) -> np.ndarra
     lower, weight = _ranks(n, percentiles)
     if n < _MIN_SAMPLES:
         with np.errstate(invalid="ignore"):
-            return np.percentile(values, percentiles, axis=1)
-    result, redo = _selected(values, values, lower, weight)
+            return np.percentile(transform(values), percentiles, axis=1)
+    result, redo = _selected(values, values, lower, weight, transform)
     redo = np.flatnonzero(redo & ~skip)
     if redo.size:
         again = values[redo]
         positive = again.min(axis=1) > 0.0
         if positive.any():
             logs = np.log(again[positive])
-            result[:, redo[positive]], unsure = _selected(again[positive], logs, lower, weight)
+            result[:, redo[positive]], unsure = _selected(again[positive], logs, lower, weight, transform)
             positive[positive] = ~unsure
         redo = redo[~positive]
     if redo.size:
-        result[:, redo] = np.percentile(values[redo], percentiles, axis=1)
+        result[:, redo] = np.percentile(transform(values[redo]), percentiles, axis=1)
     return result
 
 
-def _rows_in_turn(values: np.ndarray, percentiles) -> np.ndarray:
+def _rows_in_turn(values: np.ndarray, percentiles, transform) -> np.ndarray:
     finite = np.isfinite(values).all(axis=1)
-    result = _finite_rows(values, percentiles, skip=~finite)
+    result = _finite_rows(values, percentiles, ~finite, transform)
     if finite.all():
         return result
     other = np.flatnonzero(~finite)
-    rest = values[other]
+    rest = transform(values[other])
     nan = np.isnan(rest)
     some_nan, all_nan = nan.any(axis=1), nan.all(axis=1)
     with np.errstate(invalid="ignore"):  # inf - inf between infinite order statistics
@@ -159,8 +161,12 @@ def _rows_in_turn(values: np.ndarray, percentiles) -> np.ndarray:
     return result
 
 
-def row_percentiles(values, percentiles) -> np.ndarray:
-    """Percentiles of each row of ``values``, NaN draws ignored.
+def _unchanged(values):
+    return values
+
+
+def row_percentiles(values, percentiles, transform=None) -> np.ndarray:
+    """Percentiles of each row of ``values`` (or of ``transform(values)``), NaN draws ignored.
 
     Parameters
     ----------
@@ -171,6 +177,10 @@ def row_percentiles(values, percentiles) -> np.ndarray:
         double precision.
     percentiles : sequence of float
         In [0, 100].
+    transform : callable, optional
+        An elementwise map that never reverses the order of two values
+        (non-decreasing). The percentiles are those of ``transform(values)``,
+        exactly, but the map is applied to the order statistics only.
 
     Returns
     -------
@@ -184,4 +194,4 @@ def row_percentiles(values, percentiles) -> np.ndarray:
     rows, n = values.shape
     if rows == 0 or n == 0:
         return np.full((len(percentiles), rows), np.nan)
-    return _rows_in_turn(values, percentiles)
+    return _rows_in_turn(values, percentiles, transform or _unchanged)

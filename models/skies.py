@@ -20,12 +20,24 @@ def angular_diameter(radius, distance):
     ndarray
         Angular diameter [rad].
     """
-    with np.errstate(divide="ignore"):
-        ratio = np.asarray(np.divide(radius, distance))   # d = 0: inf, which the minimum makes 1
-    np.minimum(ratio, 1.0, out=ratio)
+    ratio = size_ratio(radius, distance)
     np.arcsin(ratio, out=ratio)
     ratio *= 2.0
     return ratio if ratio.ndim else ratio[()]
+
+
+def size_ratio(radius, distance, out=None):
+    """R / d, at most 1 (where d <= R), from which :func:`angular_diameter_of_ratio` gives the
+    angular diameter; it grows with the diameter, so it has the same order statistics."""
+    with np.errstate(divide="ignore"):
+        ratio = np.asarray(np.divide(radius, distance, out=out))   # d = 0: inf, which the minimum makes 1
+    np.minimum(ratio, 1.0, out=ratio)
+    return ratio
+
+
+def angular_diameter_of_ratio(ratio):
+    """Angular diameter [rad], 2 arcsin(R / d), of a sphere whose :func:`size_ratio` is ``ratio``."""
+    return 2.0 * np.arcsin(ratio)
 
 
 def moon_ratio(angular_diameter_rad):

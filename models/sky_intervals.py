@@ -24,7 +24,7 @@ from .compute import Orbit, sky_rows
 from .constants import AU, RAD_TO_ARCSEC
 from .orbits import DrawOrbits, closest_distance_of_draws, closest_distance_of_pairs
 from .percentiles import row_percentiles
-from .skies import angular_diameter
+from .skies import angular_diameter_of_ratio, size_ratio
 
 #: values per array of one group of pairs (measured best: long enough numpy calls for two threads
 #: to overlap, small enough for the CPU cache)
@@ -71,13 +71,18 @@ class SkyIntervals:
             distance = closest_distance_of_draws(self.draw_orbits, inner, outer)
         else:   # double precision: the full search of the nominal sky table
             distance = closest_distance_of_pairs(self.a.T, self.e.T, self.omega.T, inner, outer).T
-        rows = np.concatenate([distance,
-                               angular_diameter(np.take(self.radius_au, outer, axis=0), distance),
-                               angular_diameter(np.take(self.radius_au, inner, axis=0), distance)])
-        self._pairs[:, :, group] = row_percentiles(rows, self.percentiles).reshape(len(self.percentiles), 3, -1)
+        # the diameters' percentiles from those of R / d (the same order statistics), each planet
+        # of a pair seen from the other: the outer from the inner one, then the inner from the outer
+        ratios = np.empty((2 * inner.size, distance.shape[1]), dtype=distance.dtype)
+        size_ratio(np.take(self.radius_au, outer, axis=0), distance, out=ratios[: inner.size])
+        size_ratio(np.take(self.radius_au, inner, axis=0), distance, out=ratios[inner.size:])
+        self._pairs[:, 0, group] = row_percentiles(distance, self.percentiles)
+        self._pairs[:, 1:, group] = row_percentiles(ratios, self.percentiles, angular_diameter_of_ratio).reshape(
+            len(self.percentiles), 2, -1)
 
     def _star_rows(self) -> None:
-        self._star[:] = row_percentiles(angular_diameter(self.star_radius_au, self.a), self.percentiles)
+        self._star[:] = row_percentiles(size_ratio(self.star_radius_au, self.a), self.percentiles,
+                                        angular_diameter_of_ratio)
 
     def result(self) -> dict[str, tuple]:
         """``"sky_pairs.closest_distance_au"``: (low, high) per planet pair in ``np.triu_indices`` order;
