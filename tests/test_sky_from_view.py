@@ -60,3 +60,17 @@ def test_time_player_steps_the_shared_time(app):
     assert app.time == pytest.approx(start + 0.5)
     view = SkyFromView(app)
     assert f"{app.time:.4f}" in view.sky.title.text
+
+
+def test_names_of_bodies_close_in_the_sky_take_turns_above_and_below():
+    from orbitdeck.dashboard.views.sky_from import name_offsets
+
+    # longitudes [deg]: a lone body, two a degree apart, three within a degree, one far off
+    longitude = [0.0, -123.0, -122.0, 60.0, 60.3, 60.6, 140.0]
+    latitude = [0.0, 0.0, 0.2, 0.0, 0.0, 0.0, 0.0]
+    offsets = name_offsets(longitude, latitude)
+    assert offsets[0] == offsets[6] == -6.0                       # alone: just above
+    assert offsets[1] < 0 < offsets[2]                           # a pair: one above, one below
+    assert offsets[3] < 0 < offsets[4] and offsets[5] < offsets[3]   # three: above, below, further above
+    assert len(set(offsets[3:6])) == 3
+    assert name_offsets([], []).size == 0

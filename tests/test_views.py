@@ -426,3 +426,21 @@ def test_a_taken_port_is_refused_and_the_default_search_skips_it():
         with pytest.raises(OSError, match=str(port)):
             choose_port(port)
         assert choose_port(None) != port
+
+
+@pytest.mark.parametrize("text", ["1_0", "\u0661\u0662", "1 0", "0x1A", "1e", ".", "--1", "1.5.2"])
+def test_entries_take_only_plain_decimal_numbers(text):
+    # float() takes "1_0" and other scripts' digits; a number typed into an entry is plain ASCII
+    from orbitdeck.dashboard.views.controls import Rejected, parse_entry
+    from orbitdeck.models import Star
+
+    with pytest.raises(Rejected, match="is not a number"):
+        parse_entry(text, Star.param.mass, "Mass", "Msun")
+
+
+@pytest.mark.parametrize("text, value", [(" 0.5 ", 0.5), ("+.5", 0.5), ("5.", 5.0), ("2E-1", 0.2), ("1e+1", 10.0)])
+def test_entries_take_every_usual_way_of_writing_a_number(text, value):
+    from orbitdeck.dashboard.views.controls import parse_entry
+    from orbitdeck.models import Star
+
+    assert parse_entry(text, Star.param.mass, "Mass", "Msun") == value

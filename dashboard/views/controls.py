@@ -50,6 +50,10 @@ class Rejected(ValueError):
     """An entry that cannot be applied; the message is shown to the user."""
 
 
+#: a decimal number as people type it: digits with an optional point and exponent, ASCII only
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+
+
 def parse_entry(text: str, parameter, label: str, unit: str, optional: bool = False):
     """The value of an entry's ``text`` for ``parameter``, checked against its bounds.
 
@@ -61,10 +65,10 @@ def parse_entry(text: str, parameter, label: str, unit: str, optional: bool = Fa
         if optional:
             return None
         raise Rejected(f"{label}: a value is needed")
-    try:
-        value = float(text)
-    except ValueError:
-        raise Rejected(f"{label}: {text!r} is not a number") from None
+    if not _PLAIN_NUMBER.fullmatch(text):   # float() also takes "1_0", "infinity" and non-ASCII digits
+        if text.lower().lstrip("+-") not in ("nan", "inf", "infinity"):
+            raise Rejected(f"{label}: {text!r} is not a number")
+    value = float(text)
     if not math.isfinite(value):
         raise Rejected(f"{label}: must be a finite number, not {text!r}")
     lo, hi = getattr(parameter, "bounds", None) or (None, None)

@@ -67,6 +67,31 @@ def sky_coordinates(elements, observer: int, time: float):
     return longitude, latitude
 
 
+#: a name's width as a share of the picture's span of longitude, and the pixel offsets of names
+#: above (negative) or below their bodies
+_NAME_WIDTH_SHARE = 1.0 / 40.0
+_NAME_ABOVE_PX, _NAME_BELOW_PX, _NAME_STEP_PX = -6.0, 14.0, 14.0
+
+
+def name_offsets(longitude, latitude) -> np.ndarray:
+    """Vertical pixel offsets of the bodies' names, so that names of bodies that stand close
+    together in the sky take turns above and below them (further out each time) instead of
+    overlapping; a lone body's name sits just above it."""
+    longitude, latitude = np.asarray(longitude, dtype=float), np.asarray(latitude, dtype=float)
+    if longitude.size == 0:
+        return np.zeros(0)
+    width = _NAME_WIDTH_SHARE * max(float(np.ptp(longitude)), 10.0)
+    order = np.argsort(longitude, kind="stable")
+    x, y = longitude[order], latitude[order]
+    close = np.concatenate([[False], (np.diff(x) < width) & (np.abs(np.diff(y)) < width)])
+    index = np.arange(x.size)
+    slot = index - np.maximum.accumulate(np.where(close, 0, index))   # place within a run of close bodies
+    away = (slot // 2) * _NAME_STEP_PX
+    offsets = np.empty(x.size)
+    offsets[order] = np.where(slot % 2 == 0, _NAME_ABOVE_PX - away, _NAME_BELOW_PX + away)
+    return offsets
+
+
 class SkyFromView:
     """The sky from the selected planet at the app's time."""
 
@@ -80,13 +105,13 @@ class SkyFromView:
                          height=330, match_aspect=True)
         self.sky = sky
         self.sources = {"discs": empty_source("x", "y", "radius", "colour", "body", "arcsec", "elongation",
-                                              "phase", "lit", "brightness", "distance"),
+                                              "phase", "lit", "brightness", "distance", "name_offset"),
                         "moon": empty_source("x", "y", "radius")}
         discs = sky.circle(x="x", y="y", radius="radius", fill_color="colour", line_color="#222222",
                            fill_alpha=0.85, source=self.sources["discs"])
         marks = sky.scatter(x="x", y="y", size=7, marker="circle", fill_color="colour", line_color="#222222",
                             source=self.sources["discs"])
-        sky.text(x="x", y="y", text="body", text_font_size="11px", x_offset=6, y_offset=-6,
+        sky.text(x="x", y="y", text="body", text_font_size="11px", x_offset=6, y_offset="name_offset",
                  source=self.sources["discs"])
         sky.circle(x="x", y="y", radius="radius", fill_alpha=0, line_color="#555555", line_dash="dashed",
                    source=self.sources["moon"])
@@ -138,14 +163,15 @@ class SkyFromView:
             "colour": colours, "body": bodies, "arcsec": now["angular_diameter_arcsec"],
             "elongation": now["elongation_deg"], "phase": np.nan_to_num(now["phase_angle_deg"], nan=-1.0),
             "lit": now["illuminated_fraction"], "brightness": now["brightness_moon_ratio"],
-            "distance": now["distance_au"]})
+            "distance": now["distance_au"], "name_offset": name_offsets(longitude, latitude)})
         # the reference Moon sits just beside the star's disc, on the side away from most bodies
         side = -1.0 if np.sum(longitude[1:] > 0) > np.sum(longitude[1:] < 0) else 1.0
         moon_x = side * (now["angular_diameter_arcsec"][0] / 7200.0 + MOON_DEG)
         replace_data(self.sources["moon"], {"x": [moon_x], "y": [0.0], "radius": [MOON_DEG / 2.0]})
-        # the label runs outwards from the Moon's outer edge, clear of the star's disc and its name
-        self.moon_label.update(x=moon_x + side * MOON_DEG / 2.0, text_align="left" if side > 0 else "right",
-                               y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0) - 0.3)
+        # the label runs inwards from the Moon's outer edge (outwards it would leave the picture),
+        # below the discs and so clear of the bodies' names above them
+        self.moon_label.update(x=moon_x + side * MOON_DEG / 2.0, text_align="right" if side > 0 else "left",
+                               y=-max(MOON_DEG, now["angular_diameter_arcsec"][0] / 7200.0), y_offset=-8)
         self.sky.title.text = (f"The sky of planet {observer} at BJD_TDB {time:.4f} "
                                "(discs to scale; hover for phase and brightness)")
 
