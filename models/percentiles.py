@@ -9,10 +9,11 @@ by an exact selection that suits Monte Carlo columns:
 2. numpy sorts 8-bit integers by counting, so sorting the levels is cheap;
    the sorted levels give the level of each wanted rank and where that
    level's run of sorted positions starts;
-3. the row's values on that level (a few dozen for a smooth row) are put
-   in order, which places the wanted rank exactly. Rows where the run is
-   long (heavy tails, many ties) are tried again with levels of their
-   logarithms where they are positive, and otherwise go to ``np.percentile``.
+3. the row's values on that level and on the next rank's (a few dozen for
+   a smooth row) are put in order, which places the wanted rank and the
+   next one exactly. Rows where the run is long (heavy tails, many ties)
+   are tried again with levels of their logarithms where they are
+   positive, and otherwise go to ``np.percentile``.
 
 Rows that hold NaN or infinities go to ``np.percentile`` / ``np.nanpercentile``
 directly (a row with no value but NaN gives NaN).
@@ -26,9 +27,10 @@ import numpy as np
 _LEVELS = 255.99
 #: sorted positions left of a wanted rank searched for the first value of its level
 _RUN_WINDOW = 96
-#: rows shorter than this, and levels holding more values than this, go to np.percentile
+#: rows shorter than this, and runs (a wanted rank's level and the next rank's) holding more values
+#: than this, go to np.percentile
 _MIN_SAMPLES = 64
-_MAX_RUN = 192
+_MAX_RUN = 384
 
 
 def _ranks(n: int, percentiles) -> tuple[np.ndarray, np.ndarray]:
@@ -60,20 +62,22 @@ def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
 
     Sorted by level, the value of ``rank`` lies in the run of sorted
     positions holding its level. The run starts where that level first
-    appears (searched in a window left of ``rank``), and its values are the
-    row's values on that level: put in order, they give the statistic, and
-    the next one too unless that lies on the next level up, where it is the
-    least value. Rows whose run starts left of the window or holds more
+    appears (searched in a window left of ``rank``); the row's values on
+    that level and on the level of ``rank + 1`` (the same, or the next one
+    up, whose least value it then is), put in order, hold both statistics
+    side by side. Rows whose run starts left of the window or holds more
     than ``_MAX_RUN`` values (heavy tails, many ties) are left unsure.
     """
     rows, n = values.shape
     following = min(rank + 1, n - 1)
-    level, next_level = ordered[:, rank], ordered[:, following]
+    level, next_level = ordered[:, rank, None], ordered[:, following, None]
     first = max(rank - _RUN_WINDOW, 0)
-    in_window = ordered[:, first:rank + 1] == level[:, None]
+    in_window = ordered[:, first:rank + 1] == level
     start = first + in_window.argmax(axis=1)
     unsure = bad | ((first > 0) & in_window[:, 0])
-    flat = np.flatnonzero(levels == level[:, None])
+    on_run = levels == level
+    on_run |= levels == next_level
+    flat = np.flatnonzero(on_run)
     row_of = flat // n
     counts = np.bincount(row_of, minlength=rows)
     unsure |= counts > _MAX_RUN
@@ -87,13 +91,7 @@ def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
     run.sort(axis=1)
     offset = np.where(unsure, 0, rank - start)
     every_row = np.arange(rows)
-    statistic = run[every_row, offset]
-    next_statistic = run[every_row, np.minimum(offset + following - rank, width - 1)]
-    up = np.flatnonzero((next_level != level) & ~unsure)
-    if up.size:  # the next statistic is the least value on the next level
-        on_next = levels[up] == next_level[up, None]
-        next_statistic[up] = np.where(on_next, values[up], np.inf).min(axis=1)
-    return statistic, next_statistic, unsure
+    return run[every_row, offset], run[every_row, np.minimum(offset + following - rank, width - 1)], unsure
 
 
 def _selected(values: np.ndarray, keys: np.ndarray, lower, weight, transform) -> tuple[np.ndarray, np.ndarray]:

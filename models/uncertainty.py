@@ -64,13 +64,12 @@ def split_normal(rng: np.random.Generator, value, plus, minus, size):
 def _outside(values, bounds, inclusive):
     """Where ``values`` fall outside ``bounds`` (NaN, an absent optional value, never does)."""
     lo, hi = bounds if bounds is not None else (None, None)
-    below = None if lo is None else (values < lo if inclusive[0] else values <= lo)
-    above = None if hi is None else (values > hi if inclusive[1] else values >= hi)
-    if below is None or above is None:
-        return np.zeros(np.shape(values), dtype=bool) if below is None and above is None else (
-            above if below is None else below)
-    below |= above
-    return below
+    outside = [] if lo is None else [values < lo if inclusive[0] else values <= lo]
+    if hi is not None:
+        outside.append(values > hi if inclusive[1] else values >= hi)
+    if not outside:
+        return np.zeros(np.shape(values), dtype=bool)
+    return outside[0] if len(outside) == 1 else np.logical_or(*outside, out=outside[0])
 
 
 #: rounds of fresh tries for draws outside the domain, and the tries per rejected draw in the first
@@ -273,8 +272,10 @@ def _single_precision_suffices(system: System) -> bool:
         # only the fields with an uncertainty, each read once (param attributes are slow to read)
         spreads = {field: spread for field, spread in body.uncertainties.items() if field in fields_drawn}
         for (field, spread), value in zip(spreads.items(), body.values_of(spreads)):
-            needed = _ABSOLUTE_MIN_SPREAD.get(field, _SINGLE_PRECISION_MIN_SPREAD * abs(value or 0.0))
-            if value is not None and 0.5 * (spread.plus + spread.minus) < needed:
+            if value is None:
+                continue
+            needed = _ABSOLUTE_MIN_SPREAD.get(field, _SINGLE_PRECISION_MIN_SPREAD * abs(value))
+            if 0.5 * (spread.plus + spread.minus) < needed:
                 return False
         return True
 
