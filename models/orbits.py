@@ -56,8 +56,10 @@ def orbital_radius(a, e, true_anomaly):
 
 #: largest eccentricity for which the first-order longitude of closest approach seeds the search
 _FIRST_ORDER_E_MAX = 0.1
-#: longitudes of the coarse sweep that seeds more eccentric pairs (and the search for the largest gap)
+#: longitudes of the coarse sweep that seeds more eccentric pairs (and the search for the largest gap),
+#: and the eccentricity beyond which a pair is swept eight times as finely
 _SWEEP_SAMPLES = 24
+_COARSE_SWEEP_E_MAX = 0.6
 #: Newton steps from the first-order seed (pairs with e <= 0.1; exact to rounding) and from a sweep's best longitude
 NEWTON_STEPS = 3
 _NEWTON_STEPS_WIDE = 6
@@ -161,15 +163,22 @@ def _smallest_gap(inner, outer, steps: int):
     flat = norm == 0.0
     norm = np.where(flat, 1.0, norm)
     c, s = np.where(flat, 1.0, cx / norm), cy / norm
-    wide = np.flatnonzero(np.maximum(e_i, e_o) > _FIRST_ORDER_E_MAX)
+    largest_e = np.maximum(e_i, e_o)
+    wide = np.flatnonzero(largest_e > _FIRST_ORDER_E_MAX)
     if not wide.size:
         return _newton(c, s, inner, outer, steps)
-    count = _SWEEP_SAMPLES if np.max(np.maximum(e_i[wide], e_o[wide])) <= 0.6 else 8 * _SWEEP_SAMPLES
-    theta, gaps = _sweep(inner, outer, count, wide)
-    best = theta[np.argmin(gaps, axis=1)]
-    c[wide], s[wide] = np.cos(best), np.sin(best)
+    swept = np.empty(wide.size, dtype=c.dtype)
+    # each pair is swept as finely as its own eccentricity needs (a few very eccentric
+    # draws must not make every eccentric pair take the fine sweep)
+    very = largest_e[wide] > _COARSE_SWEEP_E_MAX
+    for part, count in ((~very, _SWEEP_SAMPLES), (very, 8 * _SWEEP_SAMPLES)):
+        if part.any():
+            theta, gaps = _sweep(inner, outer, count, wide[part])
+            best = theta[np.argmin(gaps, axis=1)]
+            c[wide[part]], s[wide[part]] = np.cos(best), np.sin(best)
+            swept[part] = gaps.min(axis=1)
     low = _newton(c, s, inner, outer, max(steps, _NEWTON_STEPS_WIDE))
-    low[wide] = np.minimum(low[wide], gaps.min(axis=1))   # a step gone astray never beats the sweep
+    low[wide] = np.minimum(low[wide], swept)   # a step gone astray never beats the sweep
     return low
 
 
