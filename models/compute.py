@@ -228,7 +228,6 @@ def sky_columns(orbit: Orbit) -> dict[str, np.ndarray]:
     body_radius_au = np.where(is_star, orbit.star_radius_m / AU, (orbit.radius_m / AU)[:, np.where(is_star, 0, body)])
     diameter = skies.angular_diameter(body_radius_au, distance_au)
     return {
-        "sky_pairs.closest_distance_au": closest,
         "skies.closest_distance_au": distance_au,
         "skies.max_angular_diameter_arcsec": diameter * RAD_TO_ARCSEC,
         "skies.moon_ratio": skies.moon_ratio(diameter),

@@ -24,7 +24,7 @@ from .compute import Orbit, sky_rows
 from .constants import AU, RAD_TO_ARCSEC
 from .orbits import DrawOrbits, closest_distance_of_draws, closest_distance_of_pairs
 from .percentiles import row_percentiles
-from .skies import angular_diameter_of_ratio, size_ratio
+from .skies import angular_diameter_of_ratio, moon_ratio, size_ratio
 
 #: values per array of one group of pairs (measured best: long enough numpy calls for two threads
 #: to overlap, small enough for the CPU cache)
@@ -84,17 +84,20 @@ class SkyIntervals:
         self._star[:] = row_percentiles(size_ratio(self.star_radius_au, self.a), self.percentiles,
                                         angular_diameter_of_ratio)
 
-    def result(self) -> dict[str, tuple]:
-        """``"sky_pairs.closest_distance_au"``: (low, high) per planet pair in ``np.triu_indices`` order;
-        ``"skies.max_angular_diameter_arcsec"``: (low, high) per row of the sky table."""
+    def result(self, semi_major_axis_bounds) -> dict[str, tuple]:
+        """(low, high) per row of the sky table of ``"skies.closest_distance_au"``,
+        ``"skies.max_angular_diameter_arcsec"`` and ``"skies.moon_ratio"``; the star is as far
+        as the observer's semi-major axis, whose (low, high) per planet is ``semi_major_axis_bounds``."""
         observer, body, pair = sky_rows(self.planets)
         star_row, pair = body < 0, np.maximum(pair, 0)
         # an outer body seen from an inner observer is the pair's second diameter row, else its third
         seen = np.where(body > observer, 1, 2)
-        bounds = []
-        for star, pairs in zip(self._star, self._pairs):
-            planet = pairs[seen, pair] if pairs.size else np.zeros(body.shape)
+        distances, diameters = [], []
+        for a, star, pairs in zip(semi_major_axis_bounds, self._star, self._pairs):
+            planet_distance, planet = (pairs[0, pair], pairs[seen, pair]) if pairs.size else (0.0, 0.0)
+            distances.append(np.where(star_row, np.asarray(a)[observer], planet_distance))
             # at most half the sky (pi in single precision rounds up, past it)
-            bounds.append(RAD_TO_ARCSEC * np.minimum(np.where(star_row, star[observer], planet), np.pi))
-        return {"sky_pairs.closest_distance_au": tuple(self._pairs[:, 0]),
-                "skies.max_angular_diameter_arcsec": tuple(bounds)}
+            diameters.append(np.minimum(np.where(star_row, star[observer], planet), np.pi))
+        return {"skies.closest_distance_au": tuple(distances),
+                "skies.max_angular_diameter_arcsec": tuple(RAD_TO_ARCSEC * d for d in diameters),
+                "skies.moon_ratio": tuple(moon_ratio(d) for d in diameters)}

@@ -21,13 +21,11 @@ from dataclasses import fields, replace
 import numpy as np
 
 from .allocator import keep_freed_memory
-from .compute import Anchor, orbit_of, pair_columns, sky_rows, star_and_planet_columns, triple_columns
-from .constants import RAD_TO_ARCSEC
+from .compute import Anchor, orbit_of, pair_columns, star_and_planet_columns, triple_columns
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import SharedWork
 from .percentiles import row_percentiles
 from .sky_intervals import SkyIntervals
-from .skies import moon_ratio
 from .system import System, _Body
 
 #: percentiles that bound the reported interval (one sigma for a normal)
@@ -186,7 +184,7 @@ def _interval_columns(derived, columns: dict[str, np.ndarray]) -> dict[str, np.n
             if name in wanted or name.startswith("star.")}
 
 
-#: rows of the stacked columns whose percentiles are one task (about 1 MB of draws)
+#: rows of the stacked columns whose percentiles are one task (0.5-1 MB of draws)
 _ROWS_PER_TASK = 32
 
 
@@ -322,21 +320,12 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None) ->
     pair_interval_columns = _interval_columns(derived, pairs)
     pair_bounds = _column_intervals(derived, pair_interval_columns, samples, work)
     work.finish()
-    bounds = {**planet_bounds(), **pair_bounds(), **sky.result()}
-    intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "sky_pairs": {}, "star": {}}
+    bounds = {**planet_bounds(), **pair_bounds()}
+    bounds.update(sky.result(bounds["planets.semi_major_axis_au"]))
+    intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "star": {}}
     for name, bound in bounds.items():
         table, key = name.split(".", 1)
         intervals[table][key] = bound
-    _, body, pair = sky_rows(len(derived.planets["name"]))
-    a_low, a_high = intervals["planets"]["semi_major_axis_au"]
-    p_low, p_high = intervals.pop("sky_pairs")["closest_distance_au"]
-    observer = np.repeat(np.arange(len(a_low)), len(a_low))
-    star_row, safe_pair = body < 0, np.maximum(pair, 0)
-    intervals["skies"]["closest_distance_au"] = (
-        np.where(star_row, a_low[observer], p_low[safe_pair] if p_low.size else 0.0),
-        np.where(star_row, a_high[observer], p_high[safe_pair] if p_high.size else 0.0))
-    d_low, d_high = intervals["skies"]["max_angular_diameter_arcsec"]
-    intervals["skies"]["moon_ratio"] = (moon_ratio(d_low / RAD_TO_ARCSEC), moon_ratio(d_high / RAD_TO_ARCSEC))
     star_bounds = {key: [float(lo[0]), float(hi[0])] for key, (lo, hi) in intervals.pop("star").items()}
     star = {"luminosity_lsun": star_bounds["luminosity_lsun"]}
     if derived.hz_valid:
