@@ -45,6 +45,11 @@ class SharedWork:
         self._helpers: list = []
         self._inline = not threaded or WORKERS == 1 or threading.current_thread().name.startswith(_PREFIX)
 
+    @property
+    def shared(self) -> bool:
+        """Whether another thread takes part (else every task runs in the caller, at :meth:`finish`)."""
+        return not self._inline
+
     def add(self, tasks) -> None:
         self._queue.extend(tasks)
         if self._inline:

@@ -9,11 +9,11 @@ by an exact selection that suits Monte Carlo columns:
 2. numpy sorts 8-bit integers by counting, so sorting the levels is cheap;
    the sorted levels give the level of each wanted rank and where that
    level's run of sorted positions starts;
-3. the row's values on that level and on the next rank's (a few dozen for
-   a smooth row) are put in order, which places the wanted rank and the
-   next one exactly. Rows where the run is long (heavy tails, many ties)
-   are tried again with levels of their logarithms where they are
-   positive, and otherwise go to ``np.percentile``.
+3. the row's values on those levels and on the next ranks' (a few dozen
+   per rank for a smooth row) are put in order, which places each wanted
+   rank and the next one exactly. Rows where a run is long (heavy tails,
+   many ties) are tried again with levels of their logarithms where they
+   are positive, and otherwise go to ``np.percentile``.
 
 Rows that hold NaN or infinities go to ``np.percentile`` / ``np.nanpercentile``
 directly (a row with no value but NaN gives NaN).
@@ -21,23 +21,29 @@ directly (a row with no value but NaN gives NaN).
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 #: the 8-bit levels each row is scaled onto (just under 256, so the largest value stays in level 255)
 _LEVELS = 255.99
 #: sorted positions left of a wanted rank searched for the first value of its level
 _RUN_WINDOW = 96
-#: rows shorter than this, and runs (a wanted rank's level and the next rank's) holding more values
-#: than this, go to np.percentile
+#: rows shorter than this, and runs (each wanted rank's level and the next rank's) holding more
+#: values than this per wanted rank, go to np.percentile
 _MIN_SAMPLES = 64
 _MAX_RUN = 384
 
 
-def _ranks(n: int, percentiles) -> tuple[np.ndarray, np.ndarray]:
-    """Lower order-statistic index and interpolation weight of each percentile (definition 7)."""
+@functools.lru_cache(maxsize=64)
+def _ranks(n: int, percentiles: tuple) -> tuple[np.ndarray, np.ndarray]:
+    """Lower order-statistic index and interpolation weight of each percentile (definition 7);
+    read-only arrays, kept for the next call."""
     position = np.asarray(percentiles, dtype=float) / 100.0 * (n - 1)
     lower = np.floor(position).astype(int)
-    return np.minimum(lower, n - 1), position - lower
+    lower, weight = np.minimum(lower, n - 1), position - lower
+    lower.flags.writeable = weight.flags.writeable = False
+    return lower, weight
 
 
 def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
@@ -46,41 +52,45 @@ def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.
     be scaled (constant, overflowing or not finite)."""
     low = values.min(axis=1)
     span = values.max(axis=1) - low
-    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
-        scale = (_LEVELS / span).astype(values.dtype)
+    scale = (_LEVELS / span).astype(values.dtype)
     bad = ~np.isfinite(scale)
     scale[bad] = 0.0
-    with np.errstate(invalid="ignore"):
-        scaled = np.subtract(values, low[:, None])
-        scaled *= scale[:, None]
-        levels = scaled.astype(np.uint8)
+    scaled = np.subtract(values, low[:, None])
+    scaled *= scale[:, None]
+    levels = scaled.astype(np.uint8)
     return levels, low, span, bad
 
 
-def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
-    """The order statistics ``rank`` and ``rank + 1`` of every row, and which rows they are unsure for.
+def _order_statistics(values, levels, ordered, lower, bad):
+    """The order statistics ``lower`` and ``lower + 1`` of every row, each (rows, len(lower)),
+    and which rows they are unsure for.
 
-    Sorted by level, the value of ``rank`` lies in the run of sorted
-    positions holding its level. The run starts where that level first
-    appears (searched in a window left of ``rank``); the row's values on
-    that level and on the level of ``rank + 1`` (the same, or the next one
-    up, whose least value it then is), put in order, hold both statistics
-    side by side. Rows whose run starts left of the window or holds more
-    than ``_MAX_RUN`` values (heavy tails, many ties) are left unsure.
+    Sorted by level, the value of rank k lies in the run of sorted positions
+    holding its level. The run starts where that level first appears
+    (searched in a window left of k); the row's values on that level and on
+    the level of k + 1 (the same, or the next one up, whose least value it
+    then is) hold both statistics side by side. The values on the runs of
+    every wanted rank are put in order together, one row each; rank k then
+    sits as far into its run as it is into its level, past the values of
+    the runs on lower levels. Rows whose run starts left of the window or
+    holds more than ``_MAX_RUN`` values per rank (heavy tails, many ties) are
+    left unsure.
     """
     rows, n = values.shape
-    following = min(rank + 1, n - 1)
-    level, next_level = ordered[:, rank, None], ordered[:, following, None]
-    first = max(rank - _RUN_WINDOW, 0)
-    in_window = ordered[:, first:rank + 1] == level
-    start = first + in_window.argmax(axis=1)
-    unsure = bad | ((first > 0) & in_window[:, 0])
-    on_run = levels == level
-    on_run |= levels == next_level
+    following = np.minimum(lower + 1, n - 1)
+    level, next_level = ordered[:, lower], ordered[:, following]          # (rows, ranks)
+    window = np.maximum(lower[:, None] + np.arange(-_RUN_WINDOW, 1), 0)   # (ranks, positions)
+    in_window = ordered[:, window] == level[:, :, None]
+    start = window[np.arange(len(lower)), in_window.argmax(axis=2)]
+    unsure = bad | ((window[:, 0] > 0) & in_window[:, :, 0]).any(axis=1)
+    # a rank's run: levels from its own to the next rank's (none between holds a value), by uint8 wrap-around
+    on_run = np.zeros(levels.shape, dtype=bool)
+    for first_level, gap in zip(level.T, (next_level - level).T):
+        on_run |= (levels - first_level[:, None]) <= gap[:, None]
     flat = np.flatnonzero(on_run)
     row_of = flat // n
     counts = np.bincount(row_of, minlength=rows)
-    unsure |= counts > _MAX_RUN
+    unsure |= counts > _MAX_RUN * len(lower)
     counts[unsure] = 0
     keep = counts[row_of] > 0
     flat, row_of = flat[keep], row_of[keep]
@@ -89,82 +99,74 @@ def _pair_of_order_statistics(values, levels, ordered, rank: int, bad):
     run = np.full((rows, width), np.inf, dtype=values.dtype)
     run.ravel()[slot] = values.ravel()[flat]
     run.sort(axis=1)
-    offset = np.where(unsure, 0, rank - start)
-    every_row = np.arange(rows)
-    return run[every_row, offset], run[every_row, np.minimum(offset + following - rank, width - 1)], unsure
+    run_levels = np.full((rows, width), 255, dtype=np.uint8)   # padding is never below a level
+    run_levels.ravel()[slot] = levels.ravel()[flat]
+    below = (run_levels[:, None, :] < level[:, :, None]).sum(axis=2)
+    position = np.where(unsure[:, None], 0, below + lower - start)
+    every_row = np.arange(rows)[:, None]
+    return (run[every_row, position], run[every_row, np.minimum(position + (following - lower), width - 1)],
+            unsure)
 
 
-def _selected(values: np.ndarray, keys: np.ndarray, lower, weight, transform) -> tuple[np.ndarray, np.ndarray]:
-    """Percentiles of each row of ``transform(values)`` by the 8-bit levels of ``keys`` (``values``
-    itself or any map of it that never reverses the order of two values), and which rows are left
-    unsure."""
+def _selected(values: np.ndarray, keys: np.ndarray, lower, weight) -> tuple[np.ndarray, ...]:
+    """Percentiles of each row of ``values`` by the 8-bit levels of ``keys`` (``values`` itself or
+    any map of it that never reverses the order of two values), which rows are left unsure, and
+    each row's span of ``keys`` (not finite where a row holds NaN or infinities)."""
     levels, _, span, bad = _levels(keys)
     ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
-    result = np.empty((len(lower), values.shape[0]))
-    redo = np.zeros(values.shape[0], dtype=bool)
-    with np.errstate(invalid="ignore"):
-        for index, rank in enumerate(lower):
-            low_stat, high_stat, unsure = _pair_of_order_statistics(values, levels, ordered, int(rank), bad)
-            low_stat, high_stat = transform(low_stat), transform(high_stat)
-            result[index] = low_stat + weight[index] * (high_stat.astype(float) - low_stat)
-            redo |= unsure
+    low_stat, high_stat, redo = _order_statistics(values, levels, ordered, lower, bad)
+    result = (low_stat + weight * (high_stat.astype(float) - low_stat)).T
     constant = span == 0.0
-    result[:, constant] = transform(values[constant, 0])
-    return result, redo & ~constant
+    result[:, constant] = values[constant, 0]
+    return result, redo & ~constant, span
 
 
-def _finite_rows(values: np.ndarray, percentiles, skip: np.ndarray, transform) -> np.ndarray:
-    """Percentiles of the rows that hold only finite values, (len(percentiles), rows); rows
-    flagged in ``skip`` (the others) are left undefined.
+def _finite_rows(values: np.ndarray, percentiles) -> tuple[np.ndarray, np.ndarray]:
+    """Percentiles of the rows whose values span a finite range, (len(percentiles), rows),
+    and which rows those are (the others, holding NaN or infinities, are left undefined).
 
     Rows too heavy-tailed for levels of their values (a metric spread over
     decades, say) are tried again with levels of their logarithms, where
     all their values are positive; what is still unsure goes to np.percentile.
     """
     rows, n = values.shape
-    lower, weight = _ranks(n, percentiles)
+    lower, weight = _ranks(n, tuple(float(q) for q in percentiles))
     if n < _MIN_SAMPLES:
-        with np.errstate(invalid="ignore"):
-            return np.percentile(transform(values), percentiles, axis=1)
-    result, redo = _selected(values, values, lower, weight, transform)
-    redo = np.flatnonzero(redo & ~skip)
+        return np.percentile(values, percentiles, axis=1), np.isfinite(values).all(axis=1)
+    result, redo, span = _selected(values, values, lower, weight)
+    finite = np.isfinite(span)   # a NaN or an infinity makes the span NaN or infinite
+    redo = np.flatnonzero(redo & finite)
     if redo.size:
         again = values[redo]
         positive = again.min(axis=1) > 0.0
         if positive.any():
             logs = np.log(again[positive])
-            result[:, redo[positive]], unsure = _selected(again[positive], logs, lower, weight, transform)
+            result[:, redo[positive]], unsure, _ = _selected(again[positive], logs, lower, weight)
             positive[positive] = ~unsure
         redo = redo[~positive]
     if redo.size:
-        result[:, redo] = np.percentile(transform(values[redo]), percentiles, axis=1)
-    return result
+        result[:, redo] = np.percentile(values[redo], percentiles, axis=1)
+    return result, finite
 
 
-def _rows_in_turn(values: np.ndarray, percentiles, transform) -> np.ndarray:
-    finite = np.isfinite(values).all(axis=1)
-    result = _finite_rows(values, percentiles, ~finite, transform)
+def _rows_in_turn(values: np.ndarray, percentiles) -> np.ndarray:
+    result, finite = _finite_rows(values, percentiles)
     if finite.all():
         return result
     other = np.flatnonzero(~finite)
-    rest = transform(values[other])
+    rest = values[other]
     nan = np.isnan(rest)
     some_nan, all_nan = nan.any(axis=1), nan.all(axis=1)
-    with np.errstate(invalid="ignore"):  # inf - inf between infinite order statistics
-        result[:, other[~some_nan]] = np.percentile(rest[~some_nan], percentiles, axis=1)
-        result[:, other[all_nan]] = np.nan
-        partly = some_nan & ~all_nan
-        if partly.any():
-            result[:, other[partly]] = np.nanpercentile(rest[partly], percentiles, axis=1)
+    result[:, other[~some_nan]] = np.percentile(rest[~some_nan], percentiles, axis=1)
+    result[:, other[all_nan]] = np.nan
+    partly = some_nan & ~all_nan
+    if partly.any():
+        result[:, other[partly]] = np.nanpercentile(rest[partly], percentiles, axis=1)
     return result
 
 
-def _unchanged(values):
-    return values
-
-
-def row_percentiles(values, percentiles, transform=None) -> np.ndarray:
-    """Percentiles of each row of ``values`` (or of ``transform(values)``), NaN draws ignored.
+def row_percentiles(values, percentiles) -> np.ndarray:
+    """Percentiles of each row of ``values``, NaN draws ignored.
 
     Parameters
     ----------
@@ -175,10 +177,6 @@ def row_percentiles(values, percentiles, transform=None) -> np.ndarray:
         double precision.
     percentiles : sequence of float
         In [0, 100].
-    transform : callable, optional
-        An elementwise map that never reverses the order of two values
-        (non-decreasing). The percentiles are those of ``transform(values)``,
-        exactly, but the map is applied to the order statistics only.
 
     Returns
     -------
@@ -192,4 +190,6 @@ def row_percentiles(values, percentiles, transform=None) -> np.ndarray:
     rows, n = values.shape
     if rows == 0 or n == 0:
         return np.full((len(percentiles), rows), np.nan)
-    return _rows_in_turn(values, percentiles, transform or _unchanged)
+    # a constant row's span divides by zero; inf - inf between infinite order statistics
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+        return _rows_in_turn(values, percentiles)

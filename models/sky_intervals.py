@@ -36,6 +36,18 @@ def _orbit_major(array, samples: int, dtype) -> np.ndarray:
     return np.ascontiguousarray(np.broadcast_to(array, (samples, array.shape[1])).T, dtype=dtype)
 
 
+def _diameters(ratio_percentiles: np.ndarray) -> np.ndarray:
+    """Percentiles of angular diameters [rad] from the same percentiles of R / d.
+
+    The diameter grows with R / d, so both have the same order statistics;
+    only the interpolation between two neighbouring ones is taken linear in
+    R / d instead of in the angle, a relative difference of order
+    (R/d)^2 (delta / (R/d))^2 for neighbours delta apart, far below single
+    precision.
+    """
+    return angular_diameter_of_ratio(ratio_percentiles)
+
+
 class SkyIntervals:
     """The sky table's percentiles over the draws of an :class:`Orbit`.
 
@@ -71,18 +83,19 @@ class SkyIntervals:
             distance = closest_distance_of_draws(self.draw_orbits, inner, outer)
         else:   # double precision: the full search of the nominal sky table
             distance = closest_distance_of_pairs(self.a.T, self.e.T, self.omega.T, inner, outer).T
-        # the diameters' percentiles from those of R / d (the same order statistics), each planet
-        # of a pair seen from the other: the outer from the inner one, then the inner from the outer
-        ratios = np.empty((2 * inner.size, distance.shape[1]), dtype=distance.dtype)
-        size_ratio(np.take(self.radius_au, outer, axis=0), distance, out=ratios[: inner.size])
-        size_ratio(np.take(self.radius_au, inner, axis=0), distance, out=ratios[inner.size:])
-        self._pairs[:, 0, group] = row_percentiles(distance, self.percentiles)
-        self._pairs[:, 1:, group] = row_percentiles(ratios, self.percentiles, angular_diameter_of_ratio).reshape(
-            len(self.percentiles), 2, -1)
+        # rows: the closest distances, then R / d of the outer planet seen from the inner one and
+        # of the inner seen from the outer one, whose percentiles give the diameters' (see _diameters)
+        count = inner.size
+        rows = np.empty((3 * count, distance.shape[1]), dtype=distance.dtype)
+        rows[:count] = distance
+        size_ratio(np.take(self.radius_au, outer, axis=0), distance, out=rows[count:2 * count])
+        size_ratio(np.take(self.radius_au, inner, axis=0), distance, out=rows[2 * count:])
+        bounds = row_percentiles(rows, self.percentiles).reshape(len(self.percentiles), 3, count)
+        bounds[:, 1:] = _diameters(bounds[:, 1:])
+        self._pairs[:, :, group] = bounds
 
     def _star_rows(self) -> None:
-        self._star[:] = row_percentiles(size_ratio(self.star_radius_au, self.a), self.percentiles,
-                                        angular_diameter_of_ratio)
+        self._star[:] = _diameters(row_percentiles(size_ratio(self.star_radius_au, self.a), self.percentiles))
 
     def result(self, semi_major_axis_bounds) -> dict[str, tuple]:
         """(low, high) per row of the sky table of ``"skies.closest_distance_au"``,

@@ -9,7 +9,7 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from orbitdeck.models import Planet, Star, System, Uncertainty, derive
-from orbitdeck.models.uncertainty import sampled_inputs
+from orbitdeck.models.uncertainty import sampled_inputs, standard_normals
 
 N = 20000
 
@@ -174,6 +174,23 @@ def test_draws_stay_in_their_domains(e, e_sigma, mass, plus, minus, albedo, a_si
     assert np.all((draws.eccentricity >= 0.0) & (draws.eccentricity < 1.0))
     assert np.all(draws.mass > 0.0)
     assert np.all((draws.bond_albedo >= 0.0) & (draws.bond_albedo < 1.0))
+
+
+def test_box_muller_normals_are_independent_unit_normals():
+    # Box & Muller (1958): r cos(theta) and r sin(theta) are two independent N(0, 1) draws;
+    # scipy.stats.norm as the reference distribution, tail fraction and correlations within
+    # their sampling noise (binomial, and 1/sqrt(n) for a correlation of independent draws)
+    n = 200_000
+    z = standard_normals(np.random.default_rng(21), n)
+    assert z.shape == (n,) and z.dtype == np.float64
+    assert stats.kstest(z, stats.norm.cdf).pvalue > 1e-3
+    beyond = 2.0 * stats.norm.sf(3.0)
+    assert abs(np.mean(np.abs(z) > 3.0) - beyond) < 5.0 * np.sqrt(beyond / n)
+    first, second = z[: n // 2], z[n // 2:]   # the cosine and the sine of the same angles and radii
+    for x, y in ((first, second), (first**2, second**2)):
+        assert abs(np.corrcoef(x, y)[0, 1]) < 5.0 / np.sqrt(n // 2)
+    odd = standard_normals(np.random.default_rng(21), (3, 7))
+    assert odd.shape == (3, 7) and np.all(np.isfinite(odd))
 
 
 def test_symmetric_draws_are_normal():
