@@ -206,7 +206,8 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     -------
     Derived
     """
-    columns = compute(nominal_inputs(system))
+    nominal = nominal_inputs(system)
+    columns = compute(nominal)
     star, planets, pairs, triples, skies, extra = tables_from_columns(system, columns)
     derived = Derived(system_name=system.name, star=star, planets=planets, pairs=pairs, triples=triples,
                       skies=skies, extra=extra,
@@ -215,5 +216,5 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     if samples:
         from .uncertainty import attach_intervals
 
-        attach_intervals(derived, system, samples, seed)
+        attach_intervals(derived, system, samples, seed, nominal)
     return derived

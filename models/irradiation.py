@@ -110,9 +110,11 @@ def hz_effective_flux(teff_k):
         S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
         runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
     """
-    t = as_float_array(teff_k)[..., None] - 5780.0
-    c = HZ_COEFFICIENTS.astype(t.dtype)
-    return c[:, 0] + t * (c[:, 1] + t * (c[:, 2] + t * (c[:, 3] + t * c[:, 4])))
+    t = as_float_array(teff_k) - 5780.0
+    flat = t.reshape(1, -1)
+    c = HZ_COEFFICIENTS.astype(t.dtype)[:, :, None]   # the limits along the first axis: long inner loops
+    flux = c[:, 0] + flat * (c[:, 1] + flat * (c[:, 2] + flat * (c[:, 3] + flat * c[:, 4])))
+    return np.moveaxis(flux.reshape(len(c), *t.shape), 0, -1)
 
 
 def hz_distance(luminosity_lsun, effective_flux):

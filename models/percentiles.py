@@ -157,7 +157,8 @@ def _rows_in_turn(values: np.ndarray, percentiles) -> np.ndarray:
     rest = values[other]
     nan = np.isnan(rest)
     some_nan, all_nan = nan.any(axis=1), nan.all(axis=1)
-    result[:, other[~some_nan]] = np.percentile(rest[~some_nan], percentiles, axis=1)
+    if not some_nan.all():   # infinite values (np.percentile costs ~0.3 ms even for no row)
+        result[:, other[~some_nan]] = np.percentile(rest[~some_nan], percentiles, axis=1)
     result[:, other[all_nan]] = np.nan
     partly = some_nan & ~all_nan
     if partly.any():

@@ -162,7 +162,8 @@ def truncated_split_normal(rng, z, value, plus, minus, bounds, inclusive=(True, 
     return draws
 
 
-def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool = False) -> Inputs:
+def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool = False,
+                   nominal: Inputs | None = None) -> Inputs:
     """``samples`` joint draws of every uncertain input of ``system``.
 
     The unit normals of all inputs are drawn at once, then each input's are
@@ -175,9 +176,10 @@ def sampled_inputs(system: System, samples: int, seed: int | None, compact: bool
     With ``compact``, an input that no body gives an uncertainty stays one
     row (1, bodies), which broadcasts against the draws of the others:
     functions of it alone (sines of fixed angles, say) are then computed once.
+    ``nominal`` is ``nominal_inputs(system)``, if the caller has it already.
     """
     rng = np.random.default_rng(seed)
-    nominal = nominal_inputs(system)
+    nominal = nominal_inputs(system) if nominal is None else nominal
     planets, star, assumptions = list(system.planets), [system.star], [system.assumptions]
     # (the Inputs field, the bodies it holds a column of, their parameter)
     inputs = [(field, planets, field) for field in PLANET_FIELDS]
@@ -330,15 +332,15 @@ def _single_precision_suffices(system: System) -> bool:
 THREADED_MIN_PAIR_DRAWS = 500_000
 
 
-def attach_intervals(derived, system: System, samples: int, seed: int | None) -> None:
+def attach_intervals(derived, system: System, samples: int, seed: int | None, nominal: Inputs | None = None) -> None:
     """Fill ``derived.intervals`` with the 16th-84th percentiles of every numeric column.
 
     Also records in ``derived.extra["other_nearest_fraction"]`` how often a
     draw's period ratio falls nearest to another commensurability than the
-    nominal one, per pair.
+    nominal one, per pair. ``nominal`` is ``nominal_inputs(system)``, if the caller has it already.
     """
     keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
-    draws = sampled_inputs(system, samples, seed, compact=True)
+    draws = sampled_inputs(system, samples, seed, compact=True, nominal=nominal)
     single = _single_precision_suffices(system)
     single_draws = _single_precision(draws) if single else draws
     orbit = orbit_of(single_draws)
