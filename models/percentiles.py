@@ -55,9 +55,8 @@ def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.
     scale = (_LEVELS / span).astype(values.dtype)
     bad = ~np.isfinite(scale)
     scale[bad] = 0.0
-    scaled = np.subtract(values, low[:, None])
-    scaled *= scale[:, None]
-    levels = scaled.astype(np.uint8)
+    levels = np.empty(values.shape, dtype=np.uint8)
+    np.multiply(np.subtract(values, low[:, None]), scale[:, None], out=levels, casting="unsafe")   # truncates
     return levels, low, span, bad
 
 

@@ -224,9 +224,11 @@ def _interval_columns(derived, columns: dict[str, np.ndarray]) -> dict[str, np.n
             if name in wanted or name.startswith("star.")}
 
 
-#: rows of the stacked columns whose percentiles are one task when two threads share them (0.5-1 MB
-#: of draws); on one thread all rows are one task (each call has ~0.1 ms of fixed cost)
-_ROWS_PER_SHARED_TASK = 32
+#: draws of the stacked columns whose percentiles are one task: on one thread about 2 MB in single
+#: precision (measured best: each call has ~0.1 ms of fixed cost, and larger ones leave the cache),
+#: half that when two threads share the tasks
+_VALUES_PER_TASK = 524_288
+_VALUES_PER_SHARED_TASK = 262_144
 
 
 def _nominal(derived, name: str) -> np.ndarray:
@@ -260,7 +262,7 @@ def _column_intervals(derived, columns: dict[str, np.ndarray], samples: int, wor
         def block(rows: slice, matrix=matrix, bounds=bounds) -> None:
             bounds[:, rows] = row_percentiles(matrix[rows], PERCENTILES)
 
-        per_task = _ROWS_PER_SHARED_TASK if work.shared else max(matrix.shape[0], 1)
+        per_task = max(1, (_VALUES_PER_SHARED_TASK if work.shared else _VALUES_PER_TASK) // max(samples, 1))
         work.add(lambda rows=slice(start, start + per_task), block=block: block(rows)
                  for start in range(0, matrix.shape[0], per_task))
         finishing.append((names, offsets, bounds))
@@ -326,10 +328,15 @@ def _single_precision_suffices(system: System) -> bool:
         spreads_enough(body, fields_drawn) for body, fields_drawn in drawn)
 
 
-#: sky-table pair draws from which a second thread shares the work (about 16 planets x 4000 draws).
-#: Below, it costs more than it gains: the many short numpy calls of a small system hand the GIL
-#: back and forth between the threads (measured: no faster, and 40 % more CPU, at 7 planets)
-THREADED_MIN_PAIR_DRAWS = 500_000
+#: sky-table pair draws from which a second thread shares the sky table and the percentiles, once
+#: this one has worked out the other columns (about 5 planets x 4000 draws); below, handing work
+#: over costs more than it gains
+SHARED_MIN_PAIR_DRAWS = 40_000
+#: sky-table pair draws from which the second thread begins on the sky table at once, while this one
+#: works out the other columns (about 16 planets x 4000 draws). Below, that costs more than it gains:
+#: the columns' many short numpy calls hand the GIL back and forth between the threads (measured at
+#: 7 planets: no faster, and 40 % more CPU)
+EARLY_SHARING_MIN_PAIR_DRAWS = 500_000
 
 
 def attach_intervals(derived, system: System, samples: int, seed: int | None, nominal: Inputs | None = None) -> None:
@@ -344,13 +351,15 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None, no
     single = _single_precision_suffices(system)
     single_draws = _single_precision(draws) if single else draws
     orbit = orbit_of(single_draws)
-    # for a crowded system the worker thread begins on the sky table (most of the
-    # work) while this one works out the other columns and queues their
-    # percentiles; then both take what is left
-    work = SharedWork(threaded=len(system.planets) * (len(system.planets) - 1) // 2 * samples
-                      >= THREADED_MIN_PAIR_DRAWS)
+    # two threads share the sky table and the percentiles (long numpy calls, which they share
+    # well; the columns' many short ones they do not). For a crowded system the worker begins
+    # on the sky table at once, for a smaller one once this thread has the other columns
+    pair_draws = len(system.planets) * (len(system.planets) - 1) // 2 * samples
+    early = pair_draws >= EARLY_SHARING_MIN_PAIR_DRAWS
+    work = SharedWork(threaded=pair_draws >= SHARED_MIN_PAIR_DRAWS)
     sky = SkyIntervals(orbit, samples, PERCENTILES, single)
-    work.add(sky.tasks())
+    if early:
+        work.add(sky.tasks())
     columns = star_and_planet_columns(single_draws, orbit, regions=False)
     columns["planets.period_d"] = draws.period
     anchor = _anchor(derived)
@@ -359,6 +368,8 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None, no
     other_nearest = columns["pairs.other_nearest"]
     derived.extra["other_nearest_fraction"] = np.broadcast_to(other_nearest, (samples, other_nearest.shape[1])).mean(axis=0)
     column_bounds = _column_intervals(derived, _interval_columns(derived, columns), samples, work)
+    if not early:
+        work.add(sky.tasks())
     work.finish()
     bounds = column_bounds()
     bounds.update(sky.result(bounds["planets.semi_major_axis_au"]))

@@ -56,8 +56,9 @@ def test_work_not_threaded_runs_in_the_caller():
 def test_derivations_in_several_threads_at_once_give_the_same_document(threaded, monkeypatch):
     from orbitdeck.models import uncertainty
 
-    if threaded:   # the pool takes a share of even this small system's work
-        monkeypatch.setattr(uncertainty, "THREADED_MIN_PAIR_DRAWS", 0)
+    # the pool takes a share of even this small system's work, from the start, or none
+    monkeypatch.setattr(uncertainty, "SHARED_MIN_PAIR_DRAWS", 0 if threaded else 10**12)
+    monkeypatch.setattr(uncertainty, "EARLY_SHARING_MIN_PAIR_DRAWS", 0 if threaded else 10**12)
     star = Star(name="s", mass=0.3, radius=0.3, teff=3300.0)
     star.set_uncertainty("mass", Uncertainty.from_sigma(0.01))
     planets = []

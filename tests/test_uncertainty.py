@@ -236,9 +236,10 @@ def test_delta_interval_stays_on_the_nominal_rung():
     assert 0.0 < d.extra["other_nearest_fraction"][0] < 0.5
 
 
-def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch):
+@pytest.mark.parametrize("sharing", ["one thread", "after the columns", "from the start"])
+def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch, sharing):
     # numpy's nanpercentile over one computation of all the draws at once is the reference for
-    # the grouped, threaded path: every interval must be the same numbers.
+    # the grouped paths, on one thread or two: every interval must be the same numbers.
     import warnings
 
     from orbitdeck.models import orbits, sky_intervals, uncertainty
@@ -247,7 +248,9 @@ def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(
     from orbitdeck.models.skies import angular_diameter
 
     monkeypatch.setattr(sky_intervals, "_GROUP_VALUES", 500)   # one planet pair per group
-    monkeypatch.setattr(uncertainty, "THREADED_MIN_PAIR_DRAWS", 0)   # two threads even for four planets
+    # whichever arrangement of threads is asked for, even for four planets
+    monkeypatch.setattr(uncertainty, "SHARED_MIN_PAIR_DRAWS", 10**12 if sharing == "one thread" else 0)
+    monkeypatch.setattr(uncertainty, "EARLY_SHARING_MIN_PAIR_DRAWS", 0 if sharing == "from the start" else 10**12)
     planets = [_planet(name, value=period, radius_value=1.2, mass_value=None,
                        period=Uncertainty.from_sigma(1e-4), radius=Uncertainty(0.08, 0.05),
                        eccentricity=Uncertainty.from_sigma(0.02))
