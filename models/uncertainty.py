@@ -373,15 +373,21 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None, no
     work.finish()
     bounds = column_bounds()
     bounds.update(sky.result(bounds["planets.semi_major_axis_au"]))
+    derived.intervals = _by_table(bounds, derived.hz_valid)
+    derived.samples = samples
+    derived.seed = seed
+
+
+def _by_table(bounds: dict, hz_valid: bool) -> dict:
+    """(low, high) by ``"<table>.<key>"`` as ``Derived.intervals``: by table, then key; the star's
+    as plain floats, its habitable-zone distances (if valid) under ``"hz_au"``."""
     intervals: dict = {"planets": {}, "pairs": {}, "triples": {}, "skies": {}, "star": {}}
     for name, bound in bounds.items():
         table, key = name.split(".", 1)
         intervals[table][key] = bound
     star_bounds = {key: [float(lo[0]), float(hi[0])] for key, (lo, hi) in intervals.pop("star").items()}
     star = {"luminosity_lsun": star_bounds["luminosity_lsun"]}
-    if derived.hz_valid:
+    if hz_valid:
         star["hz_au"] = {key[6:]: bound for key, bound in star_bounds.items() if key.startswith("hz_au.")}
     intervals["star"] = star
-    derived.intervals = intervals
-    derived.samples = samples
-    derived.seed = seed
+    return intervals
