@@ -122,6 +122,9 @@ def test_skies_and_observability_show_ranges(app):
     assert any(label.startswith("16th") for label, _ in skies.cell_hover.tooltips)
     rows = np.flatnonzero(np.asarray(app.derived.skies["observer"]) == app.selected)
     assert skies.sources["bars"].data["moon_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo[rows], hi[rows])]
+    # arcseconds to one decimal, as the nominal diameter beside them (tens of thousands for the star)
+    lo, hi = app.derived.intervals["skies"]["max_angular_diameter_arcsec"]
+    assert skies.sources["cells"].data["arcsec_range"][0] == f"{lo[0]:.1f}\u2013{hi[0]:.1f}"
     table = app.views["Observability"].table.value
     for column in ("depth", "T14", "TSM", "K"):
         assert f"{column} err (16\u201384%)" in table.columns

@@ -234,9 +234,12 @@ def range_texts(values, lo, hi, digits: int = 3) -> list[str]:
     return out
 
 
-def span_texts(lo, hi, digits: int = 4) -> list[str]:
-    """"lo\u2013hi" of each interval; a dash where missing."""
-    return ["\u2014" if not (math.isfinite(a) and math.isfinite(b)) else f"{fmt(a, digits)}\u2013{fmt(b, digits)}"
+def span_texts(lo, hi, digits: int = 4, decimals: int | None = None) -> list[str]:
+    """"lo\u2013hi" of each interval, to ``digits`` significant digits or, if given, ``decimals``
+    places (as a nominal value beside it is shown); a dash where missing."""
+    def text(x):
+        return fmt(x, digits) if decimals is None else f"{x:.{decimals}f}"
+    return ["\u2014" if not (math.isfinite(a) and math.isfinite(b)) else f"{text(a)}\u2013{text(b)}"
             for a, b in zip(as_floats(lo), as_floats(hi))]
 
 

@@ -145,7 +145,7 @@ class SkiesView:
         moon, arcsec = interval(d, "skies", "moon_ratio"), interval(d, "skies", "max_angular_diameter_arcsec")
         count = len(np.asarray(d.skies["observer"])[rows])
         return {"moon_range": span_texts(moon[0][rows], moon[1][rows], 3) if moon else [""] * count,
-                "arcsec_range": span_texts(arcsec[0][rows], arcsec[1][rows], 4) if arcsec else [""] * count}
+                "arcsec_range": span_texts(arcsec[0][rows], arcsec[1][rows], decimals=1) if arcsec else [""] * count}
 
     def panel(self):
         return pn.Column(pn.pane.Bokeh(self.matrix, sizing_mode="stretch_width"),
