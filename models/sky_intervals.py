@@ -42,9 +42,9 @@ def _diameters(ratio_percentiles: np.ndarray) -> np.ndarray:
 
     The diameter grows with R / d, so both have the same order statistics;
     only the interpolation between two neighbouring ones is taken linear in
-    R / d instead of in the angle, a relative difference of order
-    (R/d)^2 (delta / (R/d))^2 for neighbours delta apart, far below single
-    precision.
+    R / d instead of in the angle: for R / d well below 1, a relative
+    difference of at most delta^2 / 8 for neighbours delta apart in R / d,
+    far below single precision.
     """
     return angular_diameter_of_ratio(ratio_percentiles)
 

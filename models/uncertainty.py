@@ -15,6 +15,7 @@ quantities (one stellar-mass draw feeds a, S and Teq alike) are kept.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import fields, replace
 
@@ -56,7 +57,7 @@ def standard_normals(rng: np.random.Generator, size) -> np.ndarray:
     -------
     ndarray of float64, shape ``size``
     """
-    count = int(np.prod(size))
+    count = math.prod(size) if isinstance(size, tuple) else int(size)
     half = (count + 1) // 2
     radius = rng.random(half)
     np.subtract(1.0, radius, out=radius)   # in (0, 1]: never log(0)
