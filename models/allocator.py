@@ -5,7 +5,9 @@ fly up to the largest block freed) with fresh mappings, and trims the top of
 its heap whenever more than twice that lies free there. A Monte Carlo
 derivation works on numpy temporaries of a few hundred KiB to a few MiB,
 allocated and freed in turn, so each was paged in afresh (a zero-filled page
-fault every 4 KiB), which made it 1.5 to 3 times slower.
+fault every 4 KiB), which made it 1.5 to 3 times slower; so does the nominal
+derivation of a system of more than about 128 planets (its sky table has
+N(N-1) rows: a quarter slower at 1000 planets).
 :func:`keep_freed_memory` raises both thresholds once per process (mappings
 only above 32 MiB, trimming only above 256 MiB free) with ``mallopt``:
 freed memory stays with the process for reuse, and ``malloc_trim`` (which

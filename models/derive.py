@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import composition, dynamics, irradiation
+from .allocator import keep_freed_memory
 from .compute import compute, sky_rows
 from .constants import AU, R_SUN
 from .inputs import nominal_inputs
@@ -27,6 +28,9 @@ TRIPLE_KEYS = ("planets", "p", "q", "residual_deg_per_day")
 SKY_KEYS = ("observer", "body", "closest_distance_au", "max_angular_diameter_arcsec", "moon_ratio")
 #: crossing pairs named one by one in the warnings; more are counted in one line
 MAX_LISTED_CROSSINGS = 20
+#: sky-table rows (N(N-1), about 128 planets) from which a nominal derivation's arrays outgrow
+#: glibc malloc's first mmap threshold (128 KiB of doubles): see :mod:`orbitdeck.models.allocator`
+LARGE_SKY_ROWS = 16_384
 
 
 @dataclass
@@ -206,6 +210,9 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     -------
     Derived
     """
+    planets = len(system.planets)
+    if planets * (planets - 1) >= LARGE_SKY_ROWS:
+        keep_freed_memory()   # arrays of this size are otherwise paged in afresh each time
     nominal = nominal_inputs(system)
     columns = compute(nominal)
     star, planets, pairs, triples, skies, extra = tables_from_columns(system, columns)
