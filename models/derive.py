@@ -29,7 +29,8 @@ SKY_KEYS = ("observer", "body", "closest_distance_au", "max_angular_diameter_arc
 #: crossing pairs named one by one in the warnings; more are counted in one line
 MAX_LISTED_CROSSINGS = 20
 #: sky-table rows (N(N-1), about 128 planets) from which a nominal derivation's arrays outgrow
-#: glibc malloc's first mmap threshold (128 KiB of doubles): see :mod:`orbitdeck.models.allocator`
+#: glibc malloc's first mmap threshold (128 KiB of doubles), as a Monte Carlo's always do: see
+#: :mod:`orbitdeck.models.allocator`
 LARGE_SKY_ROWS = 16_384
 
 
@@ -210,8 +211,8 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     -------
     Derived
     """
-    planets = len(system.planets)
-    if planets * (planets - 1) >= LARGE_SKY_ROWS:
+    count = len(system.planets)
+    if samples or count * (count - 1) >= LARGE_SKY_ROWS:
         keep_freed_memory()   # arrays of this size are otherwise paged in afresh each time
     nominal = nominal_inputs(system)
     columns = compute(nominal)

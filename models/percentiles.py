@@ -46,9 +46,9 @@ def _ranks(n: int, percentiles: tuple) -> tuple[np.ndarray, np.ndarray]:
     return lower, weight
 
 
-def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Each row scaled onto 0..255 and truncated to 8 bits (a map that never reverses the
-    order of two values); also each row's least value, its span, and which rows could not
+    order of two values); also each row's span, and which rows could not
     be scaled (constant, overflowing or not finite)."""
     low = values.min(axis=1)
     span = values.max(axis=1) - low
@@ -57,7 +57,7 @@ def _levels(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.
     scale[bad] = 0.0
     levels = np.empty(values.shape, dtype=np.uint8)
     np.multiply(np.subtract(values, low[:, None]), scale[:, None], out=levels, casting="unsafe")   # truncates
-    return levels, low, span, bad
+    return levels, span, bad
 
 
 def _order_statistics(values, levels, ordered, lower, bad):
@@ -111,7 +111,7 @@ def _selected(values: np.ndarray, keys: np.ndarray, lower, weight) -> tuple[np.n
     """Percentiles of each row of ``values`` by the 8-bit levels of ``keys`` (``values`` itself or
     any map of it that never reverses the order of two values), which rows are left unsure, and
     each row's span of ``keys`` (not finite where a row holds NaN or infinities)."""
-    levels, _, span, bad = _levels(keys)
+    levels, span, bad = _levels(keys)
     ordered = np.sort(levels, axis=1, kind="stable")   # a counting sort, for 8-bit integers
     low_stat, high_stat, redo = _order_statistics(values, levels, ordered, lower, bad)
     result = (low_stat + weight * (high_stat.astype(float) - low_stat)).T

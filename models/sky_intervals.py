@@ -6,8 +6,14 @@ worked out pair by pair in groups small enough for the CPU cache: for each
 group the closest distances of its pairs in every draw
 (:func:`orbits.closest_distance_of_draws`), the diameter of each planet of a
 pair seen from the other, and at once the percentiles of those rows, so no
-draw of the sky table is ever kept in memory. The groups run on the worker
-threads (:mod:`orbitdeck.models.parallel`).
+draw of the sky table is ever kept in memory. The groups are tasks that two
+threads can share (:mod:`orbitdeck.models.parallel`).
+
+The diameters' percentiles come from those of R / d: the diameter grows with
+R / d, so both have the same order statistics, and only the interpolation
+between two neighbouring ones is taken linear in R / d instead of in the
+angle. For R / d well below 1 that is a relative difference of at most
+delta^2 / 8 for neighbours delta apart in R / d, far below single precision.
 
 Everything here is single precision (~1e-7 relative, far under the spread
 of the draws) with one Newton step for the closest approaches, unless the
@@ -35,18 +41,6 @@ _GROUP_VALUES = 131_072
 def _orbit_major(array, samples: int, dtype) -> np.ndarray:
     """(samples or 1, planets) -> (planets, samples), contiguous."""
     return np.ascontiguousarray(np.broadcast_to(array, (samples, array.shape[1])).T, dtype=dtype)
-
-
-def _diameters(ratio_percentiles: np.ndarray) -> np.ndarray:
-    """Percentiles of angular diameters [rad] from the same percentiles of R / d.
-
-    The diameter grows with R / d, so both have the same order statistics;
-    only the interpolation between two neighbouring ones is taken linear in
-    R / d instead of in the angle: for R / d well below 1, a relative
-    difference of at most delta^2 / 8 for neighbours delta apart in R / d,
-    far below single precision.
-    """
-    return angular_diameter_of_ratio(ratio_percentiles)
 
 
 class SkyIntervals:
@@ -85,18 +79,19 @@ class SkyIntervals:
         else:   # double precision: the full search of the nominal sky table
             distance = closest_distance_of_pairs(self.a.T, self.e.T, self.omega.T, inner, outer).T
         # rows: the closest distances, then R / d of the outer planet seen from the inner one and
-        # of the inner seen from the outer one, whose percentiles give the diameters' (see _diameters)
+        # of the inner seen from the outer one, whose percentiles give the diameters'
         count = inner.size
         rows = np.empty((3 * count, distance.shape[1]), dtype=distance.dtype)
         rows[:count] = distance
         size_ratio(np.take(self.radius_au, outer, axis=0), distance, out=rows[count:2 * count])
         size_ratio(np.take(self.radius_au, inner, axis=0), distance, out=rows[2 * count:])
         bounds = row_percentiles(rows, self.percentiles).reshape(len(self.percentiles), 3, count)
-        bounds[:, 1:] = _diameters(bounds[:, 1:])
+        bounds[:, 1:] = angular_diameter_of_ratio(bounds[:, 1:])
         self._pairs[:, :, group] = bounds
 
     def _star_rows(self) -> None:
-        self._star[:] = _diameters(row_percentiles(size_ratio(self.star_radius_au, self.a), self.percentiles))
+        self._star[:] = angular_diameter_of_ratio(row_percentiles(size_ratio(self.star_radius_au, self.a),
+                                                                   self.percentiles))
 
     def result(self, semi_major_axis_bounds) -> dict[str, tuple]:
         """(low, high) per row of the sky table of ``"skies.closest_distance_au"``,

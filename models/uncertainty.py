@@ -21,7 +21,6 @@ from dataclasses import fields, replace
 
 import numpy as np
 
-from .allocator import keep_freed_memory
 from .compute import Anchor, orbit_of, pair_columns, star_and_planet_columns, triple_columns
 from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 from .parallel import SharedWork
@@ -347,7 +346,6 @@ def attach_intervals(derived, system: System, samples: int, seed: int | None, no
     draw's period ratio falls nearest to another commensurability than the
     nominal one, per pair. ``nominal`` is ``nominal_inputs(system)``, if the caller has it already.
     """
-    keep_freed_memory()   # numpy temporaries of this size are otherwise paged in afresh each time
     draws = sampled_inputs(system, samples, seed, compact=True, nominal=nominal)
     single = _single_precision_suffices(system)
     single_draws = _single_precision(draws) if single else draws
