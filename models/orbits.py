@@ -295,6 +295,7 @@ class DrawOrbits:
     ae_cos: np.ndarray      # a e cos omega
     ae_sin: np.ndarray      # a e sin omega
     wide: np.ndarray        # e > 0.1: the first-order seed may miss a second minimum
+    circular: np.ndarray    # per orbit: e = 0 in every draw
 
     @classmethod
     def of(cls, a, e, omega) -> "DrawOrbits":
@@ -302,7 +303,8 @@ class DrawOrbits:
         periastron ``omega`` [rad], each (orbits, samples) or broadcasting to it."""
         a, e, omega = np.broadcast_arrays(*(np.asarray(x, dtype=np.float32) for x in (a, e, omega)))
         e_cos, e_sin = e * np.cos(omega), e * np.sin(omega)
-        return cls(a, e, omega, a * (1.0 - e * e), e_cos, e_sin, a * e_cos, a * e_sin, e > _FIRST_ORDER_E_MAX)
+        return cls(a, e, omega, a * (1.0 - e * e), e_cos, e_sin, a * e_cos, a * e_sin, e > _FIRST_ORDER_E_MAX,
+                   ~e.any(axis=1))
 
 
 def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
@@ -317,7 +319,10 @@ def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
     (a poor seed), where either orbit has e > 0.1 or whose gap is not
     positive (crossing or nested orbits) are searched again in full, so the
     error stays below ~5e-6 of the larger semi-major axis (checked against
-    the full search); the spread of Monte Carlo draws is far larger.
+    the full search); the spread of Monte Carlo draws is far larger. Pairs
+    of orbits circular in every draw (no eccentricity given, the common
+    case of compact transiting systems) take |a_out - a_in| directly, the
+    value the search arrives at for them.
 
     Parameters
     ----------
@@ -334,6 +339,14 @@ def closest_distance_of_draws(orbits: DrawOrbits, inner_index, outer_index):
     def pick(array, index):
         return np.take(array, index, axis=0)
 
+    circular = orbits.circular[inner_index] & orbits.circular[outer_index]
+    if circular.any():
+        distance = np.empty((circular.size, orbits.a.shape[1]), dtype=orbits.a.dtype)
+        distance[circular] = np.abs(pick(orbits.a, outer_index[circular]) - pick(orbits.a, inner_index[circular]))
+        if not circular.all():
+            rest = ~circular
+            distance[rest] = closest_distance_of_draws(orbits, inner_index[rest], outer_index[rest])
+        return distance
     cx = pick(orbits.ae_cos, outer_index) - pick(orbits.ae_cos, inner_index)   # C = a_out e_out e^(i w_out) - ...
     cy = pick(orbits.ae_sin, outer_index) - pick(orbits.ae_sin, inner_index)
     norm = cx * cx

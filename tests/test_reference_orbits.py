@@ -115,6 +115,7 @@ def test_draw_search_matches_the_full_search_and_scipy():
     e = np.abs(rng.normal(0.04, 0.04, (orbits_count, samples)))
     e[2] = rng.uniform(0.1, 0.6, samples)          # an eccentric orbit that crosses its neighbours
     e[:, :50] = 0.0                                # circular draws
+    e[5:7] = 0.0                                   # two orbits circular in every draw, beside eccentric ones
     w = rng.uniform(0.0, 2 * np.pi, (orbits_count, 1)) + rng.normal(0.0, 0.3, (orbits_count, samples))
     inner, outer = np.triu_indices(orbits_count, 1)
     fast = orbits.closest_distance_of_draws(orbits.DrawOrbits.of(a, e, w), inner, outer)
@@ -126,6 +127,10 @@ def test_draw_search_matches_the_full_search_and_scipy():
     circular = (slice(None), slice(0, 50))
     # circular: |a_out - a_in|, to single precision in a
     assert np.all(np.abs(fast[circular] - np.abs(a[outer] - a[inner])[circular]) <= 3e-7 * scale[circular])
+    # a pair circular in every draw is |a_out - a_in| of the single-precision a, exactly
+    both = int(np.flatnonzero((inner == 5) & (outer == 6))[0])
+    a32 = a.astype(np.float32)
+    np.testing.assert_array_equal(fast[both], np.abs(a32[6] - a32[5]))
     for row, sample in zip(rng.integers(0, inner.size, 12), rng.integers(0, samples, 12)):
         i, j = inner[row], outer[row]
         expected = _scipy_closest(a[i, sample], e[i, sample], w[i, sample], a[j, sample], e[j, sample], w[j, sample])
