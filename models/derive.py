@@ -147,10 +147,11 @@ def tables_from_columns(system: System, columns: dict, row: int = 0) -> tuple[di
     triples = {"planets": np.array([list(names[i:i + 3]) for i in range(max(n - 2, 0))] or np.empty((0, 3)),
                                    dtype=object).reshape(-1, 3), **triple_cols}
 
-    observer, body, _ = sky_rows(n)
-    # fixed-width text, not objects: the sky table has N(N-1) rows; body -1 picks the trailing "star"
+    _, body, _ = sky_rows(n)
+    # fixed-width text, not objects: the sky table has N(N-1) rows; body -1 takes the trailing "star"
+    # (each observer has N rows; repeat and take copy text faster than fancy indexing)
     with_star = np.array([*names, "star"], dtype=str)
-    skies = {"observer": with_star[observer], "body": with_star[body], **pick("skies")}
+    skies = {"observer": np.repeat(with_star[:-1], n), "body": np.take(with_star, body), **pick("skies")}
     return star, planets, pairs, triples, skies, extra
 
 
