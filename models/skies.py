@@ -21,8 +21,7 @@ def angular_diameter(radius, distance):
         Angular diameter [rad].
     """
     ratio = size_ratio(radius, distance)
-    np.arcsin(ratio, out=ratio)
-    ratio *= 2.0
+    angular_diameter_of_ratio(ratio, out=ratio)   # in place: the nominal sky table has N(N-1) rows
     return ratio if ratio.ndim else ratio[()]
 
 
@@ -35,9 +34,12 @@ def size_ratio(radius, distance, out=None):
     return ratio
 
 
-def angular_diameter_of_ratio(ratio):
-    """Angular diameter [rad], 2 arcsin(R / d), of a sphere whose :func:`size_ratio` is ``ratio``."""
-    return 2.0 * np.arcsin(ratio)
+def angular_diameter_of_ratio(ratio, out=None):
+    """Angular diameter [rad], 2 arcsin(R / d), of a sphere whose :func:`size_ratio` is ``ratio``
+    (into ``out`` if given)."""
+    diameter = np.arcsin(ratio, out=out)
+    diameter *= 2.0
+    return diameter
 
 
 def moon_ratio(angular_diameter_rad):
