@@ -33,7 +33,7 @@ def cmd_table(args) -> int:
 
     derived = _derive(args)
     if args.ecsv:
-        from orbitdeck.models.export import planet_table
+        from orbitdeck.models.engine.export import planet_table
         from orbitdeck.models.files import atomic_write
 
         buffer = io.StringIO()

@@ -4,28 +4,25 @@ from __future__ import annotations
 
 import math
 
-#: (document key, heading with unit) of each planet column, in groups that fit a terminal
-PLANET_GROUPS = (
-    ("Orbits and irradiation", (
-        ("name", "planet"), ("period_d", "P [d]"), ("semi_major_axis_au", "a [au]"),
-        ("insolation_earth", "S [S_earth]"), ("teq_k", "Teq [K]"), ("hz_region", "HZ region"))),
-    ("Bulk properties", (
-        ("name", "planet"), ("radius_rearth", "R [R_earth]"), ("mass_mearth", "M [M_earth]"),
-        ("density_gcc", "rho [g/cm3]"), ("surface_gravity_ms2", "g [m/s2]"),
-        ("escape_speed_kms", "v_esc [km/s]"), ("hill_radius_au", "r_Hill [au]"),
-        ("tidal_lock_gyr", "t_lock [Gyr]"))),
-    ("Observability", (
-        ("name", "planet"), ("transit_probability", "P_transit"), ("transit_depth_ppm", "depth [ppm]"),
-        ("transit_duration_h", "T14 [h]"), ("impact_parameter", "b"), ("rv_semi_amplitude_ms", "K [m/s]"),
-        ("tsm", "TSM"), ("esm", "ESM"))),
-)
-PAIR_COLUMNS = (("inner", "inner"), ("outer", "outer"), ("period_ratio", "P2/P1"), ("nearest", "nearest"),
-                ("order", "order"), ("delta", "Delta"), ("super_period_d", "P_super [d]"),
-                ("mutual_hill_spacing", "spacing [R_H,m]"))
-TRIPLE_COLUMNS = (("planets", "planets"), ("p", "p"), ("q", "q"),
-                  ("residual_deg_per_day", "p/P1-(p+q)/P2+q/P3 [deg/d]"))
-SKY_COLUMNS = (("observer", "observer"), ("body", "body"), ("closest_distance_au", "closest [au]"),
-               ("max_angular_diameter_arcsec", "max diameter [arcsec]"), ("moon_ratio", "x Moon from Earth"))
+from orbitdeck.models.engine.registry import declared
+
+def planet_groups() -> list[tuple[str, tuple]]:
+    """(title, ((document key, heading), ...)) of each block of planet columns, from the registry."""
+    groups: dict[str, list] = {}
+    for quantity in declared("planets"):
+        if quantity.group:
+            groups.setdefault(quantity.group, [("name", "planet")]).append((quantity.key, quantity.heading))
+    return [(title, tuple(columns)) for title, columns in groups.items()]
+
+
+def table_columns(table: str, labels) -> tuple:
+    """((document key, heading), ...) of a table: its row labels, then its listed quantities."""
+    return tuple(labels) + tuple((q.key, q.heading) for q in declared(table) if q.group)
+
+
+PAIR_LABELS = (("inner", "inner"), ("outer", "outer"), ("nearest", "nearest"))
+TRIPLE_LABELS = (("planets", "planets"),)
+SKY_LABELS = (("observer", "observer"), ("body", "body"))
 
 
 def format_number(value) -> str:
@@ -84,10 +81,11 @@ def document_text(doc: dict) -> str:
     if "samples" in doc:
         lines.append(f"intervals: 16th-84th percentiles of {doc['samples']} Monte Carlo samples (seed {doc['seed']})")
     blocks = ["\n".join(lines)]
-    blocks += [table_block(title, cols, doc["planets"]) for title, cols in PLANET_GROUPS]
-    blocks.append(table_block("Adjacent pairs", PAIR_COLUMNS, doc["pairs"]))
-    blocks.append(table_block("Three-body relations (consecutive triples)", TRIPLE_COLUMNS, doc["triples"]))
-    blocks.append(table_block("Skies: largest apparent size of each body", SKY_COLUMNS, doc["skies"]))
+    blocks += [table_block(title, cols, doc["planets"]) for title, cols in planet_groups()]
+    for table, title, labels in (("pairs", "Adjacent pairs", PAIR_LABELS),
+                                 ("triples", "Three-body relations (consecutive triples)", TRIPLE_LABELS),
+                                 ("skies", "Skies: largest apparent size of each body", SKY_LABELS)):
+        blocks.append(table_block(title, table_columns(table, labels), doc[table]))
     notes = ["Results are model estimates under the stated assumptions "
              "(albedo, heat redistribution, mass-radius relation)."]
     notes += [f"warning: {w}" for w in doc["warnings"]]

@@ -3,7 +3,7 @@
 Nothing here imports a user-interface library.
 """
 
-from .derive import Derived, derive
+from .engine.derive import Derived, derive
 from .files import SystemFileError, dumps_system, load_system, loads_system, save_system
 from .quantity import Uncertainty
 from .system import Assumptions, Planet, Star, System

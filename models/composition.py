@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G, M_EARTH, M_JUP, M_SUN, R_EARTH, as_float_array
+from .constants import G, M_EARTH, M_JUP, M_SUN, R_EARTH
 
 # Chen & Kipping 2017 (ApJ 834, 17), Table 1, mean posterior values:
 # R = C M^S piecewise in Earth units, continuous at the transitions.
@@ -40,7 +40,7 @@ def mass_from_radius(radius_rearth):
     ndarray
         Estimated mass [Mearth].
     """
-    r = as_float_array(radius_rearth)
+    r = np.asarray(radius_rearth)
     terran = (r / _TERRAN_C) ** (1.0 / _TERRAN_S)
     neptunian = (np.minimum(r, R_NEPTUNIAN_MAX) / _NEPTUNIAN_C) ** (1.0 / _NEPTUNIAN_S)
     return np.where(r < _R_TERRAN_MAX, terran, neptunian)
@@ -59,7 +59,7 @@ def bulk_density(mass_kg, radius_m):
     ndarray
         Density [kg m^-3].
     """
-    return mass_kg / (4.0 / 3.0 * np.pi * radius_m * radius_m * radius_m)   # not **3: a slow power loop
+    return mass_kg / (4.0 / 3.0 * np.pi * radius_m**3)
 
 
 def surface_gravity(mass_kg, radius_m):

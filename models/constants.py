@@ -1,9 +1,5 @@
 """Physical constants as plain SI floats, taken once from astropy.
 
-Plain Python floats, not numpy scalars: numpy (NEP 50) lets a Python float
-take the precision of the array it multiplies, so single-precision draws
-stay single, where a numpy float64 scalar would turn them double.
-
 astropy.constants carries the IAU 2015 nominal solar and planetary values
 (Prsa et al. 2016) and CODATA 2018; nothing here is retyped by hand except
 the lunar reference values, whose sources are given beside them.
@@ -42,8 +38,3 @@ MOON_ANGULAR_DIAMETER = float(2.0 * np.arcsin(R_MOON / D_MOON))
 
 RAD_TO_ARCSEC = float((1.0 * u.rad).to_value(u.arcsec))
 
-
-def as_float_array(values) -> np.ndarray:
-    """``values`` as a floating-point array that keeps single precision (anything else: double)."""
-    values = np.asarray(values)
-    return values if values.dtype == np.float32 else values.astype(float, copy=False)

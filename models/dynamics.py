@@ -80,10 +80,6 @@ def tidal_locking_time(a_m, planet_mass_kg, planet_radius_m, star_mass_kg,
     ndarray
         Locking time [s].
     """
-    # grouped as (m / M*) (a / R)^6 R^3 / (G M*), whose factors all stay within single-precision
-    # range (a^6 and M*^2 in SI overflow it); products, not **6, which numpy evaluates slowly
-    x = a_m / planet_radius_m
-    x3 = x * x * x
-    planet_radius_cubed = planet_radius_m * planet_radius_m * planet_radius_m
-    spin_factor = initial_spin_rad_s * inertia_factor * q / (3.0 * k2)
-    return spin_factor * (planet_mass_kg / star_mass_kg) * x3 * x3 * (planet_radius_cubed / (G * star_mass_kg))
+    moment_of_inertia = inertia_factor * planet_mass_kg * planet_radius_m**2
+    return (initial_spin_rad_s * a_m**6 * moment_of_inertia * q
+            / (3.0 * G * star_mass_kg**2 * k2 * planet_radius_m**5))

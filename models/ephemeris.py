@@ -19,20 +19,13 @@ Sources
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import NamedTuple
 
-import astropy.constants as const
-import astropy.units as u
 import numpy as np
 
 from . import kepler
 
-#: G M_sun in au^3 / day^2, from astropy's G and (IAU 2015 nominal) M_sun
-GM_SUN_AU3_D2 = float((const.G * const.M_sun).to_value(u.au ** 3 / u.day ** 2))
-#: Earth-to-Sun mass ratio, from astropy's M_earth and M_sun
-EARTH_TO_SUN_MASS = float((const.M_earth / const.M_sun).decompose())
 
 
 @dataclass(frozen=True)
@@ -106,25 +99,6 @@ class Positions(NamedTuple):
     true_anomaly_rad: np.ndarray
 
 
-def semi_major_axis_au(period_d, total_mass_msun) -> np.ndarray:
-    """Kepler's third law, a^3 = G (M* + Mp) P^2 / (4 pi^2) (M&D 1999, eq. 2.26).
-
-    Parameters
-    ----------
-    period_d : array_like
-        Orbital period P [d].
-    total_mass_msun : array_like
-        M* + Mp [Msun].
-
-    Returns
-    -------
-    numpy.ndarray
-        Semi-major axis a [au].
-    """
-    P = np.asarray(period_d, dtype=float)
-    return np.cbrt(GM_SUN_AU3_D2 * np.asarray(total_mass_msun, dtype=float) * P * P / (4.0 * math.pi ** 2))
-
-
 def _checked_a_au(a_au, n: int) -> np.ndarray:
     a = np.asarray(a_au, dtype=float)
     if a.shape != (n,):
@@ -143,10 +117,9 @@ def orbital_elements(system, a_au=None) -> OrbitalElements:
         The system; its planets are taken in period order.
     a_au : array_like, optional
         Semi-major axes [au], one per planet, e.g. those derived with
-        estimated masses elsewhere. When omitted, Kepler's third law
-        (:func:`semi_major_axis_au`) is applied with M* + Mp, taking Mp = 0
-        for a planet without a mass (a relative error of Mp / (3 M*) in a,
-        1e-5 for an Earth-mass planet around a 0.1 Msun star).
+        estimated masses elsewhere. When omitted, they are the derived
+        ones (Kepler's third law with M* + Mp, masses estimated from radii
+        where not given).
 
     Returns
     -------
@@ -164,8 +137,9 @@ def orbital_elements(system, a_au=None) -> OrbitalElements:
     n = len(planets)
     period = np.array([p.period for p in planets], dtype=float)
     if a_au is None:
-        mp = np.array([0.0 if p.mass is None else p.mass for p in planets], dtype=float)
-        a = semi_major_axis_au(period, system.star.mass + mp * EARTH_TO_SUN_MASS)
+        from .engine.derive import nominal_semi_major_axes_au   # the engine imports this module's package
+
+        a = nominal_semi_major_axes_au(system)
     else:
         a = _checked_a_au(a_au, n)
     has_transit = np.array([p.transit_time is not None for p in planets], dtype=bool)

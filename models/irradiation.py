@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import SIGMA_SB, as_float_array
+from .constants import SIGMA_SB
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
 #: S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K.
@@ -110,11 +110,9 @@ def hz_effective_flux(teff_k):
         S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
         runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
     """
-    t = as_float_array(teff_k) - 5780.0
-    flat = t.reshape(1, -1)
-    c = HZ_COEFFICIENTS.astype(t.dtype)[:, :, None]   # the limits along the first axis: long inner loops
-    flux = c[:, 0] + flat * (c[:, 1] + flat * (c[:, 2] + flat * (c[:, 3] + flat * c[:, 4])))
-    return np.moveaxis(flux.reshape(len(c), *t.shape), 0, -1)
+    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
+    s_sun, a, b, c, d = HZ_COEFFICIENTS.T
+    return s_sun + a * t + b * t**2 + c * t**3 + d * t**4
 
 
 def hz_distance(luminosity_lsun, effective_flux):

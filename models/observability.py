@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN, as_float_array
+from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN
 
 # Kempton et al. 2018 (PASP 130, 114401), Table 1: TSM scale factors by radius bin [Rearth]
 TSM_RADIUS_EDGES = np.array([0.0, 1.5, 2.75, 4.0, 10.0])
@@ -103,16 +103,15 @@ def rv_semi_amplitude(period_s, planet_mass_kg, star_mass_kg, inclination, eccen
     ndarray
         K [m s^-1].
     """
-    return (np.cbrt(2.0 * np.pi * G / period_s) * planet_mass_kg * np.sin(inclination)
-            / np.square(np.cbrt(star_mass_kg + planet_mass_kg)) / np.sqrt(1.0 - eccentricity**2))
+    return ((2.0 * np.pi * G / period_s) ** (1.0 / 3.0) * planet_mass_kg * np.sin(inclination)
+            / (star_mass_kg + planet_mass_kg) ** (2.0 / 3.0) / np.sqrt(1.0 - eccentricity**2))
 
 
 def tsm_scale_factor(radius_rearth):
     """Kempton et al. 2018 TSM scale factor for each radius; NaN beyond 10 Rearth."""
-    r = as_float_array(radius_rearth)
-    # the bin of each radius by comparisons with the inner edges (cheaper than searchsorted)
-    index = sum((r >= edge).astype(np.intp) for edge in TSM_RADIUS_EDGES[1:-1])
-    return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS.astype(r.dtype)[index], np.nan)
+    r = np.asarray(radius_rearth)
+    index = np.clip(np.searchsorted(TSM_RADIUS_EDGES, r, side="right") - 1, 0, len(TSM_SCALE_FACTORS) - 1)
+    return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS[index], np.nan)
 
 
 def transmission_spectroscopy_metric(radius_rearth, mass_mearth, star_radius_rsun, teq_k, j_mag):

@@ -20,7 +20,9 @@ from cli_harness import ForkedCli, console_script, run_installed
 from orbitdeck.dashboard.cli import DEFAULT_SAMPLES, build_parser
 from orbitdeck.demo_systems import DEFAULT_DEMO, demo_names, demo_path
 from orbitdeck.models import derive, load_system
-from orbitdeck.models.derive import PAIR_KEYS, PLANET_KEYS, SKY_KEYS, TRIPLE_KEYS
+from orbitdeck.models.engine.derive import document_keys
+
+PLANET_KEYS, PAIR_KEYS, TRIPLE_KEYS, SKY_KEYS = (document_keys(t) for t in ("planets", "pairs", "triples", "skies"))
 
 DEMOS = demo_names()
 DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies"}

@@ -73,7 +73,8 @@ def test_eccentric_orbit_against_numerical_integration(e, omega_deg, inc_deg):
     s = _system(Planet(name="b", period=P, mass=mp, eccentricity=e, omega=omega_deg, inclination=inc_deg,
                        transit_time=1000.0), mass=mstar)
     el = ephemeris.orbital_elements(s)
-    gm = ephemeris.GM_SUN_AU3_D2 * (mstar + mp * ephemeris.EARTH_TO_SUN_MASS)
+    # G (M* + Mp) in au^3 / d^2 from astropy's constants
+    gm = float((const.G * (mstar * const.M_sun + mp * const.M_earth)).to_value(u.au**3 / u.day**2))
     # time of periastron: where the mean anomaly is zero
     m_tr = float(ephemeris.mean_anomaly_at(el, 1000.0)[0])
     t_peri = 1000.0 - m_tr / (2 * np.pi / P)

@@ -96,56 +96,13 @@ def test_closest_distance_matches_scipy_at_every_eccentricity(e_max):
     model = orbits.closest_orbit_distance(a1, e1, w1, a2, e2, w2)
     error = np.abs(model - expected) / np.maximum(a1, a2)
     assert error.max() <= 1e-12, error.max()
-    # thousands of pairs at once take the single-precision Newton steps: the same accuracy
+    # thousands of pairs at once, searched in blocks: the same accuracy
     many = orbits.closest_orbit_distance(*(np.tile(x, 50) for x in (a1, e1, w1, a2, e2, w2)))
     assert (np.abs(many - np.tile(expected, 50)) / np.tile(np.maximum(a1, a2), 50)).max() <= 1e-12
     # one Newton step, as used for Monte Carlo draws, is within 2e-6 a for e <= 0.1 (checked against scipy too)
     if e_max <= 0.1:
         one_step = orbits.closest_orbit_distance(a1, e1, w1, a2, e2, w2, steps=1)
         assert np.all(np.abs(one_step - expected) <= 2e-6 * np.maximum(a1, a2))
-
-
-def test_draw_search_matches_the_full_search_and_scipy():
-    # the single-precision, one-step search of Monte Carlo draws: within 5e-6 of the larger a of
-    # the full search (itself checked against scipy above), including the draws it hands back to
-    # the full search (e > 0.1, crossing or nested orbits, a poor seed) and circular pairs
-    rng = np.random.default_rng(21)
-    orbits_count, samples = 8, 1500
-    a = np.sort(rng.uniform(0.02, 0.3, (orbits_count, 1)), axis=0) * rng.normal(1.0, 0.01, (1, samples))
-    e = np.abs(rng.normal(0.04, 0.04, (orbits_count, samples)))
-    e[2] = rng.uniform(0.1, 0.6, samples)          # an eccentric orbit that crosses its neighbours
-    e[:, :50] = 0.0                                # circular draws
-    e[5:7] = 0.0                                   # two orbits circular in every draw, beside eccentric ones
-    w = rng.uniform(0.0, 2 * np.pi, (orbits_count, 1)) + rng.normal(0.0, 0.3, (orbits_count, samples))
-    inner, outer = np.triu_indices(orbits_count, 1)
-    fast = orbits.closest_distance_of_draws(orbits.DrawOrbits.of(a, e, w), inner, outer)
-    assert fast.shape == (inner.size, samples) and fast.dtype == np.float32
-    full = orbits.closest_orbit_distance(a[inner], e[inner], w[inner], a[outer], e[outer], w[outer])
-    scale = np.maximum(a[inner], a[outer])
-    assert np.max(np.abs(fast - full) / scale) <= 5e-6
-    assert (full == 0.0).any() and np.all(fast[full == 0.0] == 0.0)   # crossing draws stay exactly 0
-    circular = (slice(None), slice(0, 50))
-    # circular: |a_out - a_in|, to single precision in a
-    assert np.all(np.abs(fast[circular] - np.abs(a[outer] - a[inner])[circular]) <= 3e-7 * scale[circular])
-    # a pair circular in every draw is |a_out - a_in| of the single-precision a, exactly
-    both = int(np.flatnonzero((inner == 5) & (outer == 6))[0])
-    a32 = a.astype(np.float32)
-    np.testing.assert_array_equal(fast[both], np.abs(a32[6] - a32[5]))
-    for row, sample in zip(rng.integers(0, inner.size, 12), rng.integers(0, samples, 12)):
-        i, j = inner[row], outer[row]
-        expected = _scipy_closest(a[i, sample], e[i, sample], w[i, sample], a[j, sample], e[j, sample], w[j, sample])
-        assert abs(fast[row, sample] - expected) <= 5e-6 * scale[row, sample]
-
-
-def test_pairs_from_per_orbit_arrays_match_pairwise_calls():
-    rng = np.random.default_rng(4)
-    a = np.sort(rng.uniform(0.02, 0.2, (3, 6)), axis=1)
-    e, w = rng.uniform(0, 0.3, (3, 6)), rng.uniform(0, 2 * np.pi, (3, 6))
-    inner, outer = np.triu_indices(6, 1)
-    by_pairs = orbits.closest_distance_of_pairs(a, e, w, inner, outer)
-    direct = orbits.closest_orbit_distance(a[:, inner], e[:, inner], w[:, inner], a[:, outer], e[:, outer], w[:, outer])
-    assert by_pairs.shape == (3, inner.size)
-    np.testing.assert_array_equal(by_pairs, direct)
 
 
 def test_closest_distance_is_vectorised_and_matches_scalar_calls():

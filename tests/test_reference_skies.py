@@ -119,21 +119,19 @@ def test_ordinary_system_has_no_warnings(solar_system):
     assert derive(solar_system).to_dict()["warnings"] == []
 
 
-def test_sky_rows_pair_index_follows_triu_indices():
-    # independent construction of the same index: numpy's triu_indices numbering of unordered pairs
-    from orbitdeck.models.compute import sky_rows
+def test_sky_rows_list_the_star_then_every_other_planet_for_each_observer():
+    from orbitdeck.models.engine.quantities.skies import all_sky_rows
 
     for n in (1, 2, 5, 9):
-        observer, body, pair = sky_rows(n)
-        inner, outer = np.triu_indices(n, 1)
-        lookup = {(int(i), int(j)): k for k, (i, j) in enumerate(zip(inner, outer))}
-        expected = [-1 if b < 0 else lookup[(min(o, b), max(o, b))] for o, b in zip(observer, body)]
-        assert pair.tolist() == expected
+        observer, body = all_sky_rows(n)
+        # built independently: for each observer, -1 (the star), then the other planets in order
+        expected = [(o, b) for o in range(n) for b in [-1, *(k for k in range(n) if k != o)]]
+        assert list(zip(observer.tolist(), body.tolist())) == expected
 
 
 def test_many_crossing_pairs_are_summarised(make_system):
     # a crowded eccentric system: every pair crosses; the warnings name a few and count the rest
-    from orbitdeck.models.derive import MAX_LISTED_CROSSINGS
+    from orbitdeck.models.engine.checks import MAX_LISTED_CROSSINGS
 
     # period ratios of 1.01 put the orbits 0.7 % apart in a, far inside e = 0.3 (Kepler III by hand)
     system = make_system([dict(name=f"p{k}", period=10.0 * 1.01**k, radius=1.0, mass=1.0, eccentricity=0.3,

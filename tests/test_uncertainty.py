@@ -9,7 +9,8 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from orbitdeck.models import Planet, Star, System, Uncertainty, derive
-from orbitdeck.models.uncertainty import sampled_inputs, standard_normals
+from orbitdeck.models.engine.draws import sampled_inputs
+from orbitdeck.models.engine.registry import Context
 
 N = 20000
 
@@ -176,23 +177,6 @@ def test_draws_stay_in_their_domains(e, e_sigma, mass, plus, minus, albedo, a_si
     assert np.all((draws.bond_albedo >= 0.0) & (draws.bond_albedo < 1.0))
 
 
-def test_box_muller_normals_are_independent_unit_normals():
-    # Box & Muller (1958): r cos(theta) and r sin(theta) are two independent N(0, 1) draws;
-    # scipy.stats.norm as the reference distribution, tail fraction and correlations within
-    # their sampling noise (binomial, and 1/sqrt(n) for a correlation of independent draws)
-    n = 200_000
-    z = standard_normals(np.random.default_rng(21), n)
-    assert z.shape == (n,) and z.dtype == np.float64
-    assert stats.kstest(z, stats.norm.cdf).pvalue > 1e-3
-    beyond = 2.0 * stats.norm.sf(3.0)
-    assert abs(np.mean(np.abs(z) > 3.0) - beyond) < 5.0 * np.sqrt(beyond / n)
-    first, second = z[: n // 2], z[n // 2:]   # the cosine and the sine of the same angles and radii
-    for x, y in ((first, second), (first**2, second**2)):
-        assert abs(np.corrcoef(x, y)[0, 1]) < 5.0 / np.sqrt(n // 2)
-    odd = standard_normals(np.random.default_rng(21), (3, 7))
-    assert odd.shape == (3, 7) and np.all(np.isfinite(odd))
-
-
 def test_symmetric_draws_are_normal():
     # with a sigma far from any bound the draws are N(value, sigma) (scipy.stats.norm as reference)
     system = System(star=_star(teff=Uncertainty.from_sigma(100.0)), planets=[_planet()])
@@ -236,57 +220,33 @@ def test_delta_interval_stays_on_the_nominal_rung():
     assert 0.0 < d.extra["other_nearest_fraction"][0] < 0.5
 
 
-@pytest.mark.parametrize("sharing", ["one thread", "after the columns", "from the start"])
-def test_grouped_threaded_draws_give_numpy_percentiles_of_one_whole_computation(monkeypatch, sharing):
-    # numpy's nanpercentile over one computation of all the draws at once is the reference for
-    # the grouped paths, on one thread or two: every interval must be the same numbers.
-    import warnings
+def test_sky_intervals_by_chunks_are_numpy_percentiles_of_one_whole_computation(monkeypatch):
+    # numpy's percentile over one computation of every draw at once is the reference for the sky
+    # table's intervals, worked out a few rows at a time when first read
+    from orbitdeck.models.engine import derive as engine
 
-    from orbitdeck.models import orbits, sky_intervals, uncertainty
-    from orbitdeck.models.compute import compute, sky_rows
-    from orbitdeck.models.constants import AU, R_EARTH, R_SUN, RAD_TO_ARCSEC
-    from orbitdeck.models.skies import angular_diameter
-
-    monkeypatch.setattr(sky_intervals, "_GROUP_VALUES", 500)   # one planet pair per group
-    # whichever arrangement of threads is asked for, even for four planets
-    monkeypatch.setattr(uncertainty, "SHARED_MIN_PAIR_DRAWS", 10**12 if sharing == "one thread" else 0)
-    monkeypatch.setattr(uncertainty, "EARLY_SHARING_MIN_PAIR_DRAWS", 0 if sharing == "from the start" else 10**12)
+    monkeypatch.setattr(engine, "SKY_ROWS_PER_CHUNK", 3)
     planets = [_planet(name, value=period, radius_value=1.2, mass_value=None,
                        period=Uncertainty.from_sigma(1e-4), radius=Uncertainty(0.08, 0.05),
                        eccentricity=Uncertainty.from_sigma(0.02))
                for name, period in zip("bcde", (3.1, 4.9, 7.6, 11.8))]
-    system = System(name="groups", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
+    system = System(name="chunks", star=_star(mass=Uncertainty.from_sigma(0.02)), planets=planets)
     derived = derive(system, samples=3000, seed=5)
-    draws = sampled_inputs(system, 3000, 5)
-    # the star, planet and sky columns of the draws are worked out in single precision (periods double)
-    whole = compute(uncertainty._single_precision(draws), uncertainty._anchor(derived))
+    whole = Context(sampled_inputs(system, 3000, 5))
+    for key in ("closest_distance_au", "max_angular_diameter_arcsec", "moon_ratio"):
+        expected = np.percentile(getattr(whole, key), [16, 84], axis=0)
+        np.testing.assert_allclose(derived.intervals["skies"][key], expected, rtol=1e-12, err_msg=key)
+    for key in ("teq_k", "semi_major_axis_au", "hill_radius_au"):
+        expected = np.percentile(np.broadcast_to(getattr(whole, key), (3000, 4)), [16, 84], axis=0)
+        np.testing.assert_allclose(derived.intervals["planets"][key], expected, rtol=1e-12, err_msg=key)
 
-    def percentiles(values, axis):
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", RuntimeWarning)
-            return np.nanpercentile(values, [16, 84], axis=axis)
 
-    for table in ("planets", "pairs", "triples"):
-        for key, (low, high) in derived.intervals[table].items():
-            np.testing.assert_allclose([low, high], percentiles(whole[f"{table}.{key}"].astype(float), 0),
-                                       rtol=1e-12, err_msg=f"{table}.{key}")
-    np.testing.assert_allclose(derived.extra["other_nearest_fraction"], whole["pairs.other_nearest"].mean(axis=0))
-    # the sky table: every draw's distances and diameters in single precision at once
-    a = whole["planets.semi_major_axis_au"].T.astype(np.float32)
-    e, w = draws.eccentricity.T.astype(np.float32), np.radians(draws.omega.T).astype(np.float32)
-    inner, outer = np.triu_indices(4, 1)
-    distance = orbits.closest_distance_of_draws(orbits.DrawOrbits.of(a, e, w), inner, outer)
-    observer, body, pair = sky_rows(4)
-    radius = np.where(body[:, None] < 0, draws.star_radius.T * (R_SUN / AU), draws.radius.T[body] * (R_EARTH / AU))
-    rows = np.where(body[:, None] < 0, a[observer], distance[np.maximum(pair, 0)])
-    diameter = angular_diameter(radius.astype(np.float32), rows) * RAD_TO_ARCSEC
-    expected = percentiles(diameter, 1)
-    got = derived.intervals["skies"]["max_angular_diameter_arcsec"]
-    np.testing.assert_allclose(got, expected, rtol=2e-6)
-    np.testing.assert_allclose(derived.intervals["skies"]["closest_distance_au"][0][body >= 0],
-                               percentiles(distance, 1)[0][pair[body >= 0]], rtol=2e-6)
-    # and the single-precision, one-step sky agrees with the full double-precision search
-    np.testing.assert_allclose(got, percentiles(whole["skies.max_angular_diameter_arcsec"], 0), rtol=1e-4)
+def test_sky_intervals_are_worked_out_only_when_read():
+    planets = [_planet(name, value=period, radius=Uncertainty(0.08, 0.05)) for name, period in zip("bc", (3.1, 4.9))]
+    derived = derive(System(name="lazy", star=_star(), planets=planets), samples=500, seed=1)
+    assert "skies" in derived.intervals._pending
+    assert derived.intervals["skies"]["moon_ratio"][0].shape == (4,)
+    assert "skies" not in derived.intervals._pending
 
 
 def test_draws_where_orbits_cross_fill_at_most_half_the_sky():
@@ -304,38 +264,27 @@ def test_draws_where_orbits_cross_fill_at_most_half_the_sky():
     assert np.all(derived.intervals["skies"]["closest_distance_au"][0][crossing] == 0.0)
 
 
-def test_intervals_far_narrower_than_single_precision_are_worked_out_in_double():
+def test_intervals_far_narrower_than_the_values_are_resolved():
     # only the periods carry errors, of 1e-7 of their value (common practice for long transit
-    # baselines): a, S, Teq and the skies then spread by ~1e-7 relative, near single precision's
-    # 6e-8, so the draws are worked out in double precision throughout
-    from orbitdeck.models.compute import compute
-
+    # baselines): a, S, Teq and the skies then spread by ~1e-7 relative, which double precision
+    # resolves; every interval is numpy's percentiles of the same draws
     planets = [_planet(name, value=period, period=Uncertainty.from_sigma(1e-7 * period))
                for name, period in zip("bc", (12.0, 19.0))]
     system = System(name="precise", star=_star(), planets=planets)
     derived = derive(system, samples=3000, seed=9)
-    exact = compute(sampled_inputs(system, 3000, 9))
+    exact = Context(sampled_inputs(system, 3000, 9))
     for key in ("semi_major_axis_au", "insolation_earth", "teq_k", "period_d"):
         low, high = derived.intervals["planets"][key]
-        expected = np.percentile(exact[f"planets.{key}"], [16, 84], axis=0)
+        expected = np.percentile(getattr(exact, key), [16, 84], axis=0)
         assert np.all(high > low)
         np.testing.assert_allclose([low, high], expected, rtol=1e-12, err_msg=key)
-    expected = np.percentile(exact["skies.max_angular_diameter_arcsec"], [16, 84], axis=0)
     low, high = derived.intervals["skies"]["max_angular_diameter_arcsec"]
     assert np.all(high > low)
-    np.testing.assert_allclose([low, high], expected, rtol=1e-12)
 
 
-def test_single_precision_intervals_agree_with_double_precision_ones(monkeypatch):
-    # The draws of a system whose inputs spread widely are worked out in single precision. The
-    # same draws in double precision are the reference: an order statistic moves by at most the
-    # largest error of one draw (it is 1-Lipschitz in the draws), so every interval must agree to
-    # a small part of its width. The system reaches far: periods up to 4e6 d around a 2 Msun star
-    # (a^6, M*^2 and G M P^2 in SI overflow single precision; a / R* up to 7e4, where an edge-on
-    # orbit's impact parameter needs cos i to far better than single precision's 1e-7), a planet
-    # cold enough for the emission metric to vanish (about 15 K), and nearly edge-on orbits.
-    from orbitdeck.models import uncertainty
-
+def test_far_reaching_systems_give_finite_intervals():
+    # periods up to 4e6 d around a 2 Msun star: a^6, M*^2 and G M P^2 in SI need double precision,
+    # and a / R* up to 7e4, where an edge-on orbit's impact parameter needs cos i to ~1e-10
     sigma = Uncertainty.from_sigma
     star = _star(mass=sigma(0.05), radius=Uncertainty(0.04, 0.03), teff=sigma(80.0))
     star.mass, star.radius, star.teff, star.j_mag, star.k_mag = 2.0, 1.8, 7000.0, 8.0, 7.6
@@ -345,22 +294,8 @@ def test_single_precision_intervals_agree_with_double_precision_ones(monkeypatch
                          radius=Uncertainty(0.1, 0.08), eccentricity=sigma(0.02), inclination=sigma(0.05))
         planet.eccentricity, planet.inclination = 0.05, 89.9
         planets.append(planet)
-    system = System(name="far", star=star, planets=planets)
-    assert uncertainty._single_precision_suffices(system)
-    single = derive(system, samples=2000, seed=3)
-    monkeypatch.setattr(uncertainty, "_single_precision_suffices", lambda _: False)
-    double = derive(system, samples=2000, seed=3)
-    assert double.intervals["planets"]["esm"][1][3] < 1e-30    # the cold planet
-    assert np.isfinite(double.intervals["planets"]["transit_duration_h"][1][3])   # some draws transit
-    for table in ("planets", "pairs", "triples", "skies"):
-        for key, (low, high) in double.intervals[table].items():
-            got_low, got_high = single.intervals[table][key]
-            assert np.all(np.isfinite(got_low) == np.isfinite(low)), f"{table}.{key}"
-            tolerance = 1e-3 * np.nan_to_num(high - low) + 1e-5 * np.abs(np.nan_to_num(low)) + 1e-30
-            for got, want in ((got_low, low), (got_high, high)):
-                np.testing.assert_array_less(np.abs(np.nan_to_num(got - want)), tolerance, err_msg=f"{table}.{key}")
-    star_single, star_double = single.intervals["star"], double.intervals["star"]
-    assert set(star_double["hz_au"]) == set(star_single["hz_au"]) and star_double["hz_au"]
-    for got, want in [(star_single["luminosity_lsun"], star_double["luminosity_lsun"])] + [
-            (star_single["hz_au"][key], star_double["hz_au"][key]) for key in star_double["hz_au"]]:
-        np.testing.assert_allclose(got, want, rtol=1e-5)
+    derived = derive(System(name="far", star=star, planets=planets), samples=2000, seed=3)
+    for key in ("tidal_lock_gyr", "semi_major_axis_au", "rv_semi_amplitude_ms", "hill_radius_au", "esm"):
+        low, high = derived.intervals["planets"][key]
+        assert np.all(np.isfinite(low) & np.isfinite(high) & (high > low)), key
+    assert np.isfinite(derived.intervals["planets"]["transit_duration_h"][1][3])   # some draws transit

@@ -1,0 +1,53 @@
+"""Notes on doubtful but valid systems, and on estimates the reader should know of."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .. import composition, dynamics, irradiation
+from ..constants import AU, R_SUN
+from ..system import System
+from .quantities.skies import all_sky_rows
+
+#: crossing pairs named one by one in the warnings; more are counted in one line
+MAX_LISTED_CROSSINGS = 20
+
+
+def collect_warnings(system: System, derived) -> list[str]:
+    """The warnings of ``derived``, the nominal derivation of ``system``."""
+    warnings = []
+    teff = system.star.teff
+    lo, hi = irradiation.HZ_TEFF_RANGE
+    if not lo <= teff <= hi:
+        warnings.append(f"Teff = {teff:g} K is outside {lo:g}-{hi:g} K, the range of the Kopparapu et al. 2014 "
+                        "habitable-zone fit; no habitable-zone limits or regions are given.")
+    pl = derived.planets
+    star_radius_au = system.star.radius * R_SUN / AU
+    for name, peri in zip(pl["name"], derived.extra["periastron_au"]):
+        if peri <= star_radius_au:
+            warnings.append(f"planet {name}: periastron {peri:.4g} au is inside the star ({star_radius_au:.4g} au).")
+    for name, r, est in zip(pl["name"], pl["radius_rearth"], pl["mass_estimated"]):
+        if est and r >= composition.R_NEPTUNIAN_MAX:
+            warnings.append(f"planet {name}: radius {r:g} Rearth is in the giant regime, where mass cannot be "
+                            "estimated from radius; the mass shown is a placeholder (0.414 Mjup).")
+    if system.star.j_mag is not None:
+        for name, r in zip(pl["name"], pl["radius_rearth"]):
+            if r >= 10.0:
+                warnings.append(f"planet {name}: TSM is defined for radii below 10 Rearth (Kempton et al. 2018).")
+    sk = derived.skies
+    observer, body = all_sky_rows(len(pl["name"]))
+    crossed = np.flatnonzero((body > observer) & (sk["closest_distance_au"] == 0.0))
+    for a, b in zip(sk["observer"][crossed[:MAX_LISTED_CROSSINGS]], sk["body"][crossed[:MAX_LISTED_CROSSINGS]]):
+        warnings.append(f"planets {a} and {b}: their orbits cross.")
+    if crossed.size > MAX_LISTED_CROSSINGS:
+        warnings.append(f"... and {crossed.size - MAX_LISTED_CROSSINGS} more pairs of planets whose orbits cross.")
+    pr = derived.pairs
+    for a, b, spacing in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"]):
+        if spacing < dynamics.HILL_STABLE_SPACING:
+            warnings.append(f"planets {a} and {b}: spacing {spacing:.2f} mutual Hill radii is below "
+                            "2 sqrt(3), the Hill-stability limit for circular orbits (Gladman 1993).")
+    estimated = [str(n) for n, est in zip(pl["name"], pl["mass_estimated"]) if est]
+    if estimated:
+        warnings.append("masses of " + ", ".join(estimated) + " are estimated from radius "
+                        "(Chen & Kipping 2017), not measured.")
+    return warnings

@@ -1,0 +1,268 @@
+"""The derived picture of a system: :func:`derive` and its :class:`Derived` result.
+
+Nominal values and Monte Carlo draws go through the same registered
+quantities (:mod:`orbitdeck.models.engine.registry`) in double precision:
+the nominal values are one draw. The intervals of the sky table, N^2 rows,
+are worked out only when something reads them, once per derivation.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import irradiation
+from ..system import System
+from .draws import percentile_bounds, sampled_inputs
+from .inputs import nominal_inputs
+from .registry import Context, declared
+from .quantities.skies import all_sky_rows
+from .checks import collect_warnings
+
+FORMAT = "orbitdeck-derived/1"
+#: the columns that label rows, ahead of the registered quantities in each table
+ROW_LABELS = {"planets": ("name",), "pairs": ("inner", "outer", "nearest"), "triples": ("planets",),
+              "skies": ("observer", "body")}
+#: sky rows whose draws are held at once while their intervals are worked out (bounds the memory)
+SKY_ROWS_PER_CHUNK = 64
+
+
+def document_keys(table: str) -> tuple[str, ...]:
+    """The keys of ``table``'s rows in the document, in order."""
+    return ROW_LABELS.get(table, ()) + tuple(q.key for q in declared(table))
+
+
+@dataclass(frozen=True)
+class Anchor:
+    """Nominal choices that Monte Carlo draws are measured against: each adjacent pair's nearest
+    commensurability p:q and each consecutive triple's three-body relation, shaped (1, rows)."""
+
+    pair_p: np.ndarray
+    pair_q: np.ndarray
+    triple_p: np.ndarray
+    triple_q: np.ndarray
+
+
+class Intervals(Mapping):
+    """(16th, 84th) percentile arrays by table and key; the sky table's are worked out on first read."""
+
+    def __init__(self, tables: dict, pending: dict | None = None):
+        self._tables = dict(tables)
+        self._pending = dict(pending or {})
+
+    def __getitem__(self, table: str):
+        if table in self._pending:
+            self._tables[table] = self._pending.pop(table)()
+        return self._tables[table]
+
+    def __iter__(self):
+        return iter([*self._tables, *self._pending])
+
+    def __len__(self) -> int:
+        return len(self._tables) + len(self._pending)
+
+
+@dataclass
+class Derived:
+    """Everything derived from one state of a system.
+
+    ``star`` is a dictionary of values; ``planets``, ``pairs``, ``triples``
+    and ``skies`` are dictionaries of columns (numpy arrays, one entry per
+    row) keyed as in the ``orbitdeck-derived/1`` document, plus the integer
+    rungs ``p`` and ``q`` of each pair. ``extra`` holds the nominal values
+    of the intermediate arrays the views use (orbital elements in SI and
+    au, periastron and apoastron distances, the habitable-zone limit
+    fluxes). Missing values are NaN in float columns and None in object
+    columns. ``intervals`` is empty without Monte Carlo draws.
+    """
+
+    system_name: str
+    star: dict
+    planets: dict
+    pairs: dict
+    triples: dict
+    skies: dict
+    warnings: list[str] = field(default_factory=list)
+    hz_valid: bool = True
+    samples: int = 0
+    seed: int | None = None
+    intervals: Mapping = field(default_factory=dict)
+    extra: dict = field(default_factory=dict)
+
+    @property
+    def planet_names(self) -> list[str]:
+        return list(self.planets["name"])
+
+    def to_dict(self) -> dict:
+        """The ``orbitdeck-derived/1`` document as plain Python values."""
+        doc = {"format": FORMAT, "system": {"name": self.system_name}, "warnings": list(self.warnings),
+               "star": {k: _plain(v) for k, v in self.star.items()}}
+        for table in ("planets", "pairs", "triples", "skies"):
+            doc[table] = _rows(getattr(self, table), document_keys(table),
+                               self.intervals.get(table) if self.intervals else None)
+        if self.samples:
+            doc["star"]["interval"] = _plain(self.intervals["star"])
+            doc["samples"] = self.samples
+            doc["seed"] = self.seed
+        return doc
+
+
+def _plain(value):
+    """A JSON-ready Python value: NaN and infinities become None."""
+    if isinstance(value, dict):
+        return {k: _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_plain(v) for v in value.tolist()]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        value = float(value)
+        return value if math.isfinite(value) else None
+    return value
+
+
+def _rows(columns: dict, keys, intervals: dict | None) -> list[dict]:
+    count = len(columns[keys[0]])
+    plain = {k: _plain(columns[k]) for k in keys}
+    rows = [{k: plain[k][i] for k in keys} for i in range(count)]
+    if intervals is not None:
+        bounds = {k: (_plain(lo), _plain(hi)) for k, (lo, hi) in intervals.items()}
+        for i, row in enumerate(rows):
+            row["interval"] = {k: [lo[i], hi[i]] for k, (lo, hi) in bounds.items()}
+    return rows
+
+
+def _nominal_column(quantity, value: np.ndarray, hz_valid: bool) -> np.ndarray:
+    """Row 0 of a computed array, as the document shows it (labels as text)."""
+    column = np.asarray(value)[0]
+    if quantity.kind == "label":
+        return np.array([quantity.labels[i] if hz_valid else None for i in column], dtype=object)
+    return column
+
+
+def _star_table(system: System, context: Context, hz_valid: bool) -> dict:
+    star = {"name": system.star.name, "mass_msun": system.star.mass, "radius_rsun": system.star.radius,
+            "teff_k": system.star.teff}
+    hz = {}
+    for quantity in declared("star"):
+        value = float(getattr(context, quantity.name)[0, 0])
+        if quantity.key.startswith("hz_au."):
+            hz[quantity.key.partition(".")[2]] = value
+        else:
+            star[quantity.key] = value
+    star["hz_au"] = hz if hz_valid else None
+    return star
+
+
+def _row_labels(names: np.ndarray, p: np.ndarray, q: np.ndarray) -> dict:
+    n = len(names)
+    observer, body = all_sky_rows(n)
+    # fixed-width text, not objects: the sky table has N^2 rows; body -1 takes the trailing "star"
+    with_star = np.array([*names, "star"], dtype=str)
+    return {
+        "planets": {"name": names},
+        "pairs": {"inner": names[:-1], "outer": names[1:],
+                  "nearest": np.array([f"{a}:{b}" for a, b in zip(p, q)], dtype=object)},
+        "triples": {"planets": np.array([list(names[i:i + 3]) for i in range(max(n - 2, 0))],
+                                        dtype=object).reshape(-1, 3)},
+        "skies": {"observer": with_star[observer], "body": with_star[body]},
+    }
+
+
+def nominal_tables(system: System, context: Context, hz_valid: bool) -> dict:
+    """The document's tables of one nominal :class:`Context`, plus the intermediates in ``"extra"``."""
+    names = np.array(system.planet_names, dtype=object)
+    p, q = (np.asarray(x)[0] for x in context.pair_rung)
+    tables = _row_labels(names, p, q)
+    for table in ("planets", "pairs", "triples", "skies"):
+        for quantity in declared(table):
+            tables[table][quantity.key] = _nominal_column(quantity, getattr(context, quantity.name), hz_valid)
+    tables["pairs"].update(p=p, q=q)
+    tables["star"] = _star_table(system, context, hz_valid)
+    tables["extra"] = {quantity.name: np.asarray(getattr(context, quantity.name))[0]
+                       for quantity in declared("planets", document=False)}
+    tables["extra"]["hz_limit_flux"] = context.hz_limit_flux[0]
+    return tables
+
+
+def _intervals(draws: Context, samples: int, hz_valid: bool) -> Intervals:
+    """Percentile intervals of every sampled quantity of ``draws``; the sky table's when first read."""
+    tables = {}
+    for table in ("planets", "pairs", "triples", "star"):
+        sampled = [q for q in declared(table) if q.sampled and (hz_valid or not q.key.startswith("hz_au."))]
+        arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
+        rows = max((a.shape[1] for a in arrays), default=0)
+        stacked = np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays else np.empty((0, samples))
+        low, high = percentile_bounds(stacked)
+        tables[table] = {q.key: (low[i * rows:(i + 1) * rows], high[i * rows:(i + 1) * rows])
+                         for i, q in enumerate(sampled)}
+    star = tables.pop("star")
+    tables["star"] = {"luminosity_lsun": [float(x[0]) for x in star.pop("luminosity_lsun")]}
+    if hz_valid:
+        tables["star"]["hz_au"] = {key.partition(".")[2]: [float(x[0]) for x in bound]
+                                   for key, bound in star.items()}
+    return Intervals(tables, {"skies": lambda: _sky_intervals(draws, samples)})
+
+
+def _sky_intervals(draws: Context, samples: int) -> dict:
+    """The sky table's intervals, a chunk of rows at a time, so no more than one chunk's draws is held."""
+    sampled = [q for q in declared("skies") if q.sampled]
+    observer, body = draws.sky_rows
+    low = {q.key: np.empty(observer.size) for q in sampled}
+    high = {q.key: np.empty(observer.size) for q in sampled}
+    for start in range(0, observer.size, SKY_ROWS_PER_CHUNK):
+        chunk = slice(start, start + SKY_ROWS_PER_CHUNK)
+        part = draws.restricted("skies", sky_rows=(observer[chunk], body[chunk]))
+        for q in sampled:
+            rows = np.broadcast_to(getattr(part, q.name), (samples, observer[chunk].size)).T
+            low[q.key][chunk], high[q.key][chunk] = percentile_bounds(rows)
+    return {key: (low[key], high[key]) for key in low}
+
+
+def nominal_semi_major_axes_au(system: System) -> np.ndarray:
+    """The semi-major axis [au] of each planet, as :func:`derive` gives it."""
+    return Context(nominal_inputs(system)).semi_major_axis_au[0]
+
+
+def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived:
+    """Derive every registered quantity of ``system``.
+
+    Parameters
+    ----------
+    system : System
+        The inputs.
+    samples : int
+        Monte Carlo draws for the 16th-84th percentile intervals; 0 for
+        nominal values only.
+    seed : int, optional
+        Seed of the random generator (same seed, same result).
+
+    Returns
+    -------
+    Derived
+    """
+    nominal = nominal_inputs(system)
+    lo, hi = irradiation.HZ_TEFF_RANGE
+    hz_valid = lo <= system.star.teff <= hi
+    tables = nominal_tables(system, Context(nominal), hz_valid)
+    derived = Derived(system_name=system.name, star=tables["star"], planets=tables["planets"],
+                      pairs=tables["pairs"], triples=tables["triples"], skies=tables["skies"],
+                      extra=tables["extra"], hz_valid=hz_valid)
+    derived.warnings = collect_warnings(system, derived)
+    if samples:
+        anchor = Anchor(pair_p=derived.pairs["p"][None, :], pair_q=derived.pairs["q"][None, :],
+                        triple_p=np.asarray(derived.triples["p"], dtype=int)[None, :],
+                        triple_q=np.asarray(derived.triples["q"], dtype=int)[None, :])
+        draws = Context(sampled_inputs(system, samples, seed, nominal), anchor)
+        derived.intervals = _intervals(draws, samples, hz_valid)
+        other = np.broadcast_to(draws.other_nearest, (samples, len(derived.pairs["p"])))
+        derived.extra["other_nearest_fraction"] = other.mean(axis=0)
+        derived.samples, derived.seed = samples, seed
+    return derived

@@ -1,0 +1,113 @@
+"""Monte Carlo draws of every uncertain input, and the percentile intervals they give.
+
+Inputs with a ``sigma`` are drawn from normals, inputs with ``plus``/``minus``
+from split normals whose halves each hold half the probability, so that the
+nominal value is the median and value - minus, value + plus are the 16th and
+84th percentiles, the way asymmetric errors are quoted (a two-piece normal,
+Wallis 2014, Stat. Sci. 29, 106, with equal half masses). All draws come
+from one seeded numpy Generator in a fixed order: the same seed gives the
+same numbers. Draws outside a parameter's physical domain (its param
+bounds: masses and radii > 0, 0 <= e < 1, 0 <= A < 1 ...) are drawn again,
+which truncates the distribution instead of piling draws on the boundary.
+The draws feed the same quantities as the nominal values, so correlations
+(one stellar-mass draw feeds a, S and Teq alike) are kept.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from ..system import System
+from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
+
+#: percentiles that bound the reported interval (one sigma for a normal)
+PERCENTILES = (16.0, 84.0)
+#: rounds of fresh draws for those outside the domain before the nominal value stands in
+_REDRAW_ROUNDS = 50
+
+
+def split_normal(z, value, plus, minus) -> np.ndarray:
+    """Draws of a split normal with median ``value`` and widths ``plus`` above, ``minus`` below.
+
+    Each half of the unit normal draws ``z`` is scaled by its own width, so
+    each side keeps half the probability (Wallis 2014, Stat. Sci. 29, 106);
+    for plus == minus it is a normal.
+    """
+    return value + z * np.where(z >= 0.0, plus, minus)
+
+
+def _outside(values, bounds, inclusive) -> np.ndarray:
+    """Where ``values`` fall outside ``bounds`` (low, high; either may be None)."""
+    low, high = bounds if bounds is not None else (None, None)
+    outside = np.zeros(np.shape(values), dtype=bool)
+    if low is not None:
+        outside |= values < low if inclusive[0] else values <= low
+    if high is not None:
+        outside |= values > high if inclusive[1] else values >= high
+    return outside
+
+
+def truncated_split_normal(rng: np.random.Generator, shape, value, plus, minus, bounds,
+                           inclusive=(True, True)) -> np.ndarray:
+    """Split-normal draws of ``shape`` restricted to ``bounds`` by drawing again those outside.
+
+    Rejection sampling truncates the distribution exactly. A domain so far
+    in a tail that 50 rounds find nothing keeps the nominal value there.
+    """
+    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), shape) for x in (value, plus, minus))
+    draws = split_normal(rng.standard_normal(shape), value, plus, minus)
+    bad = _outside(draws, bounds, inclusive)
+    for _ in range(_REDRAW_ROUNDS):
+        if not bad.any():
+            return draws
+        draws[bad] = split_normal(rng.standard_normal(int(bad.sum())), value[bad], plus[bad], minus[bad])
+        bad[bad] = _outside(draws[bad], bounds, inclusive)
+    draws[bad] = value[bad]
+    return draws
+
+
+def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inputs | None = None) -> Inputs:
+    """``samples`` joint draws of every uncertain input of ``system``.
+
+    An input that no body gives an uncertainty stays one row (1, bodies),
+    which broadcasts against the draws of the others.
+    """
+    rng = np.random.default_rng(seed)
+    nominal = nominal_inputs(system) if nominal is None else nominal
+    planets, star, assumptions = list(system.planets), [system.star], [system.assumptions]
+    # (the Inputs field, the bodies it holds a column of, their parameter)
+    inputs = [(field, planets, field) for field in PLANET_FIELDS]
+    inputs += [(f"star_{field}", star, field) for field in STAR_FIELDS]
+    inputs += [("j_mag", star, "j_mag"), ("k_mag", star, "k_mag"), ("bond_albedo", assumptions, "bond_albedo")]
+    drawn = {}
+    for name, bodies, parameter in inputs:
+        values = getattr(nominal, name)
+        spreads = [body.uncertainty(parameter) for body in bodies]
+        if not any(spreads) or np.isnan(values).all():
+            continue
+        plus = np.array([s.plus if s else 0.0 for s in spreads])
+        minus = np.array([s.minus if s else 0.0 for s in spreads])
+        declared = type(bodies[0]).param[parameter]   # its bounds are the physical domain
+        drawn[name] = truncated_split_normal(rng, (samples, len(bodies)), values, plus, minus,
+                                             declared.bounds, declared.inclusive_bounds)
+    return replace(nominal, **drawn)
+
+
+def percentile_bounds(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The 16th and 84th percentiles of each row of ``rows`` (rows, draws), numpy's 'linear' definition.
+
+    NaN draws (a quantity undefined in some draws) are left out; a row of
+    nothing but NaN gives NaN.
+    """
+    rows = np.asarray(rows, dtype=float)
+    bounds = np.full((len(PERCENTILES), rows.shape[0]), np.nan)
+    nan = np.isnan(rows)
+    partly, complete = nan.any(axis=1) & ~nan.all(axis=1), ~nan.any(axis=1)
+    with np.errstate(invalid="ignore"):   # an infinite draw (an exact commensurability's super-period)
+        if complete.any():
+            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1)
+        if partly.any():   # nanpercentile loops over rows in Python: only the rows that need it
+            bounds[:, partly] = np.nanpercentile(rows[partly], PERCENTILES, axis=1)
+    return bounds[0], bounds[1]
