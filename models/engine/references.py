@@ -1,0 +1,79 @@
+"""The published methods behind the registered quantities, as citations and BibTeX entries.
+
+Each quantity's ``source`` names one entry here. Bibliographic details are
+as the journals give them (typed from the papers' title pages); entries for
+textbook definitions cite the standard reference a reader would use.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class Reference:
+    """One published method: a short citation for tables and a BibTeX entry."""
+
+    key: str
+    citation: str
+    bibtex: str
+
+
+def _article(key, authors, title, journal, year, volume, pages, citation):
+    bibtex = (f"@article{{{key},\n  author = {{{authors}}},\n  title = {{{title}}},\n  journal = {{{journal}}},\n"
+              f"  year = {{{year}}},\n  volume = {{{volume}}},\n  pages = {{{pages}}}\n}}")
+    return Reference(key, citation, bibtex)
+
+
+def _book(key, authors, title, publisher, year, citation):
+    bibtex = (f"@book{{{key},\n  author = {{{authors}}},\n  title = {{{title}}},\n  publisher = {{{publisher}}},\n"
+              f"  year = {{{year}}}\n}}")
+    return Reference(key, citation, bibtex)
+
+
+_ENTRIES = [
+    _book("murray_dermott1999", "Murray, C. D. and Dermott, S. F.", "Solar System Dynamics",
+          "Cambridge University Press", 1999, "Murray & Dermott 1999"),
+    _article("winn2010", "Winn, J. N.", "Transits and Occultations", "Exoplanets (ed. S. Seager), University of "
+             "Arizona Press", 2010, "", "55-77", "Winn 2010"),
+    _article("kopparapu2014", "Kopparapu, R. K. and Ramirez, R. M. and SchottelKotte, J. and Kasting, J. F. and "
+             "Domagal-Goldman, S. and Eymet, V.", "Habitable Zones around Main-sequence Stars: Dependence on "
+             "Planetary Mass", "The Astrophysical Journal Letters", 2014, 787, "L29", "Kopparapu et al. 2014"),
+    _article("chen_kipping2017", "Chen, J. and Kipping, D.", "Probabilistic Forecasting of the Masses and Radii of "
+             "Other Worlds", "The Astrophysical Journal", 2017, 834, "17", "Chen & Kipping 2017"),
+    _article("kempton2018", "Kempton, E. M.-R. and others", "A Framework for Prioritizing the TESS Planetary "
+             "Candidates Most Amenable to Atmospheric Characterization", "Publications of the Astronomical Society "
+             "of the Pacific", 2018, 130, "114401", "Kempton et al. 2018"),
+    _article("lithwick2012", "Lithwick, Y. and Xie, J. and Wu, Y.", "Extracting Planet Mass and Eccentricity from "
+             "TTV Data", "The Astrophysical Journal", 2012, 761, "122", "Lithwick, Xie & Wu 2012"),
+    _article("gladman1996", "Gladman, B. and Quinn, D. D. and Nicholson, P. and Rand, R.", "Synchronous Locking of "
+             "Tidally Evolving Satellites", "Icarus", 1996, 122, "166-192", "Gladman et al. 1996"),
+    _article("chambers1996", "Chambers, J. E. and Wetherill, G. W. and Boss, A. P.", "The Stability of "
+             "Multi-Planet Systems", "Icarus", 1996, 119, "261-268", "Chambers et al. 1996"),
+    _article("hamilton_burns1992", "Hamilton, D. P. and Burns, J. A.", "Orbital Stability Zones about Asteroids. "
+             "II. The Destabilizing Effects of Eccentric Orbits and of Solar Radiation", "Icarus", 1992, 96,
+             "43-64", "Hamilton & Burns 1992"),
+    _article("williams_pollard2002", "Williams, D. M. and Pollard, D.", "Earth-like Worlds on Eccentric Orbits: "
+             "Excursions beyond the Habitable Zone", "International Journal of Astrobiology", 2002, 1, "61-69",
+             "Williams & Pollard 2002"),
+    _article("mendez_rivera2017", "M\\'endez, A. and Rivera-Valent\\'in, E. G.", "The Equilibrium Temperature of "
+             "Planets in Elliptical Orbits", "The Astrophysical Journal Letters", 2017, 837, "L1",
+             "Méndez & Rivera-Valentín 2017"),
+    _book("kepler_third_law", "Murray, C. D. and Dermott, S. F.", "Solar System Dynamics (Kepler's third law, "
+          "eq. 2.26)", "Cambridge University Press", 1999, "Kepler's third law (Murray & Dermott 1999)"),
+    _book("stefan_boltzmann", "Carroll, B. W. and Ostlie, D. A.", "An Introduction to Modern Astrophysics "
+          "(Stefan-Boltzmann law)", "Cambridge University Press", 2017, "Stefan-Boltzmann law"),
+    _book("equilibrium_temperature", "Seager, S.", "Exoplanet Atmospheres: Physical Processes (equilibrium "
+          "temperature)", "Princeton University Press", 2010, "equilibrium temperature (Seager 2010)"),
+    _book("rv_semi_amplitude", "Perryman, M.", "The Exoplanet Handbook (radial-velocity semi-amplitude)",
+          "Cambridge University Press", 2018, "RV semi-amplitude (Perryman 2018)"),
+    _article("laplace_relation", "Lithwick, Y. and Wu, Y.", "Resonant Repulsion of Kepler Planet Pairs",
+             "The Astrophysical Journal Letters", 2012, 756, "L11", "three-body (Laplace-type) relation"),
+]
+
+REFERENCES: dict[str, Reference] = {entry.key: entry for entry in _ENTRIES}
+
+
+def references_of(keys) -> list[Reference]:
+    """The references named by ``keys`` (each once, in a stable order); unknown keys raise KeyError."""
+    return [REFERENCES[key] for key in sorted(set(keys))]
