@@ -155,7 +155,8 @@ def _assert_document_shape(doc, system, sampled):
                               ("triples", TRIPLE_KEYS, max(n - 2, 0)), ("skies", SKY_KEYS, n * n)):
         assert len(doc[table]) == rows, table
         for row in doc[table]:
-            assert list(row) == list(keys) + (["interval"] if sampled and "interval" in row else []), table
+            extra = [k for k in ("interval", "fraction") if sampled and k in row]
+            assert list(row) == list(keys) + extra, table
     assert [row["name"] for row in doc["planets"]] == system.planet_names
     assert all(isinstance(w, str) for w in doc["warnings"])
 

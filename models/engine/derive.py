@@ -18,7 +18,7 @@ from .. import irradiation
 from ..system import System
 from .draws import percentile_bounds, sampled_inputs
 from .inputs import nominal_inputs
-from .registry import Context, declared
+from .registry import ONE_ROW_TABLES, Context, declared
 from .quantities.skies import all_sky_rows
 from .checks import collect_warnings
 
@@ -69,17 +69,21 @@ class Intervals(Mapping):
 class Derived:
     """Everything derived from one state of a system.
 
-    ``star`` is a dictionary of values; ``planets``, ``pairs``, ``triples``
+    ``system`` and ``star`` are dictionaries of values (nested where a key
+    is dotted: ``star["hz_au"]["early_mars"]``); ``planets``, ``pairs``, ``triples``
     and ``skies`` are dictionaries of columns (numpy arrays, one entry per
     row) keyed as in the ``orbitdeck-derived/1`` document, plus the integer
     rungs ``p`` and ``q`` of each pair. ``extra`` holds the nominal values
     of the intermediate arrays the views use (orbital elements in SI and
     au, periastron and apoastron distances, the habitable-zone limit
     fluxes). Missing values are NaN in float columns and None in object
-    columns. ``intervals`` is empty without Monte Carlo draws.
+    columns. ``intervals`` is empty without Monte Carlo draws; with them,
+    ``fractions`` holds the fraction of draws in which each yes/no quantity
+    holds, by table and key.
     """
 
     system_name: str
+    system: dict
     star: dict
     planets: dict
     pairs: dict
@@ -90,6 +94,7 @@ class Derived:
     samples: int = 0
     seed: int | None = None
     intervals: Mapping = field(default_factory=dict)
+    fractions: dict = field(default_factory=dict)
     extra: dict = field(default_factory=dict)
 
     @property
@@ -98,13 +103,17 @@ class Derived:
 
     def to_dict(self) -> dict:
         """The ``orbitdeck-derived/1`` document as plain Python values."""
-        doc = {"format": FORMAT, "system": {"name": self.system_name}, "warnings": list(self.warnings),
-               "star": {k: _plain(v) for k, v in self.star.items()}}
+        doc = {"format": FORMAT, "system": {"name": self.system_name, **_plain(self.system)},
+               "warnings": list(self.warnings), "star": _plain(self.star)}
         for table in ("planets", "pairs", "triples", "skies"):
             doc[table] = _rows(getattr(self, table), document_keys(table),
-                               self.intervals.get(table) if self.intervals else None)
+                               self.intervals.get(table) if self.intervals else None, self.fractions.get(table))
         if self.samples:
-            doc["star"]["interval"] = _plain(self.intervals["star"])
+            for table in ONE_ROW_TABLES:
+                if self.intervals[table]:
+                    doc[table]["interval"] = _plain(self.intervals[table])
+                if self.fractions.get(table):
+                    doc[table]["fraction"] = _plain(self.fractions[table])
             doc["samples"] = self.samples
             doc["seed"] = self.seed
         return doc
@@ -128,7 +137,7 @@ def _plain(value):
     return value
 
 
-def _rows(columns: dict, keys, intervals: dict | None) -> list[dict]:
+def _rows(columns: dict, keys, intervals: dict | None, fractions: dict | None = None) -> list[dict]:
     count = len(columns[keys[0]])
     plain = {k: _plain(columns[k]) for k in keys}
     rows = [{k: plain[k][i] for k in keys} for i in range(count)]
@@ -136,7 +145,23 @@ def _rows(columns: dict, keys, intervals: dict | None) -> list[dict]:
         bounds = {k: (_plain(lo), _plain(hi)) for k, (lo, hi) in intervals.items()}
         for i, row in enumerate(rows):
             row["interval"] = {k: [lo[i], hi[i]] for k, (lo, hi) in bounds.items()}
+    if fractions:
+        shares = {k: _plain(v) for k, v in fractions.items()}
+        for i, row in enumerate(rows):
+            row["fraction"] = {k: v[i] for k, v in shares.items()}
     return rows
+
+
+def _nest(flat: dict) -> dict:
+    """Dotted keys made nested dictionaries: {"hz_au.early_mars": x} -> {"hz_au": {"early_mars": x}}."""
+    nested: dict = {}
+    for key, value in flat.items():
+        head, dot, rest = key.partition(".")
+        if dot:
+            nested.setdefault(head, {})[rest] = value
+        else:
+            nested[key] = value
+    return nested
 
 
 def _nominal_column(quantity, value: np.ndarray, hz_valid: bool) -> np.ndarray:
@@ -147,18 +172,11 @@ def _nominal_column(quantity, value: np.ndarray, hz_valid: bool) -> np.ndarray:
     return column
 
 
-def _star_table(system: System, context: Context, hz_valid: bool) -> dict:
-    star = {"name": system.star.name, "mass_msun": system.star.mass, "radius_rsun": system.star.radius,
-            "teff_k": system.star.teff}
-    hz = {}
-    for quantity in declared("star"):
-        value = float(getattr(context, quantity.name)[0, 0])
-        if quantity.key.startswith("hz_au."):
-            hz[quantity.key.partition(".")[2]] = value
-        else:
-            star[quantity.key] = value
-    star["hz_au"] = hz if hz_valid else None
-    return star
+def _one_row_table(table: str, context: Context, hz_valid: bool) -> dict:
+    """The values of a one-row table (the system's or the star's), dotted keys nested."""
+    values = {q.key: _nominal_column(q, getattr(context, q.name), hz_valid)[0] for q in declared(table)
+              if hz_valid or not q.key.startswith("hz_au.")}
+    return _nest(values)
 
 
 def _row_labels(names: np.ndarray, p: np.ndarray, q: np.ndarray) -> dict:
@@ -185,30 +203,37 @@ def nominal_tables(system: System, context: Context, hz_valid: bool) -> dict:
         for quantity in declared(table):
             tables[table][quantity.key] = _nominal_column(quantity, getattr(context, quantity.name), hz_valid)
     tables["pairs"].update(p=p, q=q)
-    tables["star"] = _star_table(system, context, hz_valid)
+    tables["system"] = _one_row_table("system", context, hz_valid)
+    star = {"name": system.star.name, "mass_msun": system.star.mass, "radius_rsun": system.star.radius,
+            "teff_k": system.star.teff}
+    tables["star"] = {**star, "hz_au": None, **_one_row_table("star", context, hz_valid)}
     tables["extra"] = {quantity.name: np.asarray(getattr(context, quantity.name))[0]
                        for quantity in declared("planets", document=False)}
     tables["extra"]["hz_limit_flux"] = context.hz_limit_flux[0]
     return tables
 
 
-def _intervals(draws: Context, samples: int, hz_valid: bool) -> Intervals:
-    """Percentile intervals of every sampled quantity of ``draws``; the sky table's when first read."""
-    tables = {}
-    for table in ("planets", "pairs", "triples", "star"):
-        sampled = [q for q in declared(table) if q.sampled and (hz_valid or not q.key.startswith("hz_au."))]
+def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals, dict]:
+    """Percentile intervals of every sampled quantity of ``draws`` (the sky table's when first read),
+    and the fraction of draws in which each yes/no quantity holds."""
+    tables, fractions = {}, {}
+    for table in ("system", "star", "planets", "pairs", "triples"):
+        wanted = [q for q in declared(table) if hz_valid or not q.key.startswith("hz_au.")]
+        sampled = [q for q in wanted if q.sampled]
         arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
         rows = max((a.shape[1] for a in arrays), default=0)
-        stacked = np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays else np.empty((0, samples))
+        stacked = (np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays
+                   else np.empty((0, samples)))
         low, high = percentile_bounds(stacked)
         tables[table] = {q.key: (low[i * rows:(i + 1) * rows], high[i * rows:(i + 1) * rows])
                          for i, q in enumerate(sampled)}
-    star = tables.pop("star")
-    tables["star"] = {"luminosity_lsun": [float(x[0]) for x in star.pop("luminosity_lsun")]}
-    if hz_valid:
-        tables["star"]["hz_au"] = {key.partition(".")[2]: [float(x[0]) for x in bound]
-                                   for key, bound in star.items()}
-    return Intervals(tables, {"skies": lambda: _sky_intervals(draws, samples)})
+        fractions[table] = {q.key: np.broadcast_to(getattr(draws, q.name), (samples, 1)).mean(axis=0)
+                            if table in ONE_ROW_TABLES else np.mean(getattr(draws, q.name), axis=0)
+                            for q in wanted if q.kind == "bool"}
+    for table in ONE_ROW_TABLES:
+        tables[table] = _nest({key: [float(lo[0]), float(hi[0])] for key, (lo, hi) in tables[table].items()})
+        fractions[table] = {key: float(share[0]) for key, share in fractions[table].items()}
+    return Intervals(tables, {"skies": lambda: _sky_intervals(draws, samples)}), fractions
 
 
 def _sky_intervals(draws: Context, samples: int) -> dict:
@@ -252,7 +277,7 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     lo, hi = irradiation.HZ_TEFF_RANGE
     hz_valid = lo <= system.star.teff <= hi
     tables = nominal_tables(system, Context(nominal), hz_valid)
-    derived = Derived(system_name=system.name, star=tables["star"], planets=tables["planets"],
+    derived = Derived(system_name=system.name, system=tables["system"], star=tables["star"], planets=tables["planets"],
                       pairs=tables["pairs"], triples=tables["triples"], skies=tables["skies"],
                       extra=tables["extra"], hz_valid=hz_valid)
     derived.warnings = collect_warnings(system, derived)
@@ -261,7 +286,7 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
                         triple_p=np.asarray(derived.triples["p"], dtype=int)[None, :],
                         triple_q=np.asarray(derived.triples["q"], dtype=int)[None, :])
         draws = Context(sampled_inputs(system, samples, seed, nominal), anchor)
-        derived.intervals = _intervals(draws, samples, hz_valid)
+        derived.intervals, derived.fractions = _intervals(draws, samples, hz_valid)
         other = np.broadcast_to(draws.other_nearest, (samples, len(derived.pairs["p"])))
         derived.extra["other_nearest_fraction"] = other.mean(axis=0)
         derived.samples, derived.seed = samples, seed

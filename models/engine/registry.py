@@ -19,8 +19,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-#: the tables of the derived document, and the shape of their columns: (draws, rows)
-TABLES = ("star", "planets", "pairs", "triples", "skies")
+#: the tables of the derived document, and the shape of their columns: (draws, rows); the system
+#: and the star are tables of one row
+TABLES = ("system", "star", "planets", "pairs", "triples", "skies")
+ONE_ROW_TABLES = ("system", "star")
 KINDS = ("float", "int", "bool", "label")
 
 
@@ -37,7 +39,7 @@ class Quantity:
         One of :data:`TABLES`.
     function : callable
         ``function(context) -> ndarray`` shaped (draws, rows) of its table
-        (the star's: (draws, 1)).
+        (the system's and the star's: (draws, 1)).
     unit : str
         An astropy unit string ("" for dimensionless numbers).
     unit_label : str
@@ -57,8 +59,9 @@ class Quantity:
     views : tuple of str
         Names of the dashboard tables that show it.
     kind : str
-        "float" (sampled for an interval), "int", "bool", or "label" (an
-        index into ``labels``, shown as text).
+        "float" (sampled for an interval), "int", "bool" (Monte Carlo draws
+        give the fraction of draws where it holds), or "label" (an index
+        into ``labels``, shown as text).
     labels : tuple of str
         Texts of a "label" quantity.
     key : str
