@@ -5,8 +5,13 @@ its ``revision`` and derives it once per change into ``derived`` (and the
 Keplerian elements used for positions into ``elements``); every view reads
 from those two parameters and patches its plots in place. ``selected`` is
 the planet chosen anywhere (a click on a point or a bar, a table row, the
-planet selector) and every view highlights it. An app object belongs to one
-browser session or one notebook cell; nothing mutable is shared.
+planet selector) and every view highlights it; ``colours`` gives each
+planet its colour for the session. An app object belongs to one browser
+session or one notebook cell; nothing mutable is shared.
+
+A view is a class in :data:`VIEW_CLASSES` built as ``cls(app)``, with a
+``title`` (its tab), ``panel()`` (its Panel object) and, for HoloViews
+views, ``figure(backend)`` (its plots as plain HoloViews objects).
 """
 
 from __future__ import annotations
@@ -19,14 +24,19 @@ import param
 from orbitdeck.models import Derived, System, derive, ephemeris
 
 from .cli import DEFAULT_SEED
-from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
+from .views import look
 from .views.common import escape
 from .views.controls import Controls
-from .views.layout import REFERENCE_ORBITS
+from .views.flux import FluxView
+from .views.ladder import LadderView
+from .views.layout import REFERENCE_ORBITS, LayoutView
+from .views.observability import ObservabilityView
+from .views.palette import ColourBook
+from .views.skies import SkiesView
 
 #: view classes in the order of the tabs
 VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView)
-SIDEBAR_WIDTH = 350
+SIDEBAR_WIDTH = 330
 #: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
 #: opened most; every other view is built when its tab is first opened or the view is read from code
 BUILT_AT_ONCE = (VIEW_CLASSES[0].title, FluxView.title)
@@ -55,6 +65,8 @@ class OrbitDeckApp(param.Parameterized):
         derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
         names = derived.planet_names
         params.setdefault("selected", names[0] if names else None)
+        #: each planet's colour for the session, by first appearance (see palette.ColourBook)
+        self.colours = ColourBook(names)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
@@ -68,18 +80,19 @@ class OrbitDeckApp(param.Parameterized):
         for title in BUILT_AT_ONCE:
             self.views[title]
         self.controls = Controls(self)
-        self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
-        self.header_name = pn.pane.HTML("", styles={"color": "white", "font-size": "18px"}, margin=(0, 10))
+        self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=0, stylesheets=[look.HEADER_CSS])
         # the browser's document.title follows this hidden widget (set as text, never parsed as HTML)
         self._title_holder = pn.widgets.TextInput(value=self._document_title(), visible=False)
         self._title_holder.jscallback(value="document.title = cb_obj.value")
-        self.alerts = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
-        self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
+        self.alerts = pn.pane.HTML("", sizing_mode="stretch_width", margin=(4, 12), stylesheets=[look.ALERT_CSS])
+        self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 12), stylesheets=[look.ALERT_CSS])
         self.tabs = ViewTabs(*self._tab_bodies.items(), sizing_mode="stretch_width", dynamic=True,
-                             before_show=self._catch_up)
-        self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
+                             before_show=self._catch_up, stylesheets=[look.TABS_CSS], margin=(4, 8))
+        self.main = pn.Column(self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = self.controls.panel()
-        self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
+        self.layout = pn.Column(self.header, self._title_holder, pn.Row(self.sidebar, self.main,
+                                                                       sizing_mode="stretch_width"),
+                                sizing_mode="stretch_width", styles=look.ROOT_STYLES)
         self.param.watch(self._texts, ["derived", "problem", "elements"])
         self._texts()
 
@@ -103,7 +116,8 @@ class OrbitDeckApp(param.Parameterized):
             return
         names = derived.planet_names
         selected = self.selected if self.selected in names else (names[0] if names else None)
-        with pn.io.hold():
+        self.colours.note(names)
+        with pn.io.hold(freeze=True):
             self.param.update(derived=derived, elements=elements, selected=selected, problem="")
 
     def replace_system(self, system: System) -> None:
@@ -115,7 +129,8 @@ class OrbitDeckApp(param.Parameterized):
             return
         self.system.param.unwatch(self._revision_watcher)
         names = derived.planet_names
-        with pn.io.hold():
+        self.colours.note(names)
+        with pn.io.hold(freeze=True):
             self.param.update(system=system, derived=derived, elements=elements, time=system.epoch,
                               selected=names[0] if names else None, problem="")
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
@@ -127,14 +142,11 @@ class OrbitDeckApp(param.Parameterized):
         lum = (d.intervals or {}).get("star", {}).get("luminosity_lsun")
         luminosity_range = (f" (16th\u201384th percentiles {lum[0]:.4g}\u2013{lum[1]:.4g} of {d.samples} "
                             "Monte Carlo draws)" if lum else "")
-        self.header_name.object = escape(system.name)
         self._title_holder.value = self._document_title()
-        self.header.object = (
-            f'<h2 style="margin:4px 0">{escape(system.name)}</h2>'
-            f'<div style="font-size:13px;color:#333">star {escape(star["name"])}: '
-            f'M = {star["mass_msun"]:.4g} Msun, R = {star["radius_rsun"]:.4g} Rsun, Teff = {star["teff_k"]:.0f} K, '
-            f'L = {star["luminosity_lsun"]:.4g} Lsun{luminosity_range}; {len(d.planet_names)} planets'
-            + (f'; {escape(system.notes)}' if system.notes else "") + "</div>")
+        self.header.object = look.header_html(escape(system.name), (
+            f'star {escape(star["name"])}: M = {star["mass_msun"]:.4g} Msun, R = {star["radius_rsun"]:.4g} Rsun, '
+            f'Teff = {star["teff_k"]:.0f} K, L = {star["luminosity_lsun"]:.4g} Lsun{luminosity_range}; '
+            f'{len(d.planet_names)} planets' + (f'; {escape(system.notes)}' if system.notes else "")))
         notes = list(d.warnings)
         phaseless = [n for n, given in zip(self.elements.names, self.elements.tref_is_transit) if not given]
         if phaseless:
@@ -143,13 +155,11 @@ class OrbitDeckApp(param.Parameterized):
         if self.problem:
             notes.insert(0, f"the last change could not be derived and was not applied to the views: {self.problem}")
         self.alerts.object = ("" if not notes else
-                              '<div role="alert" style="background:#fff3cd;border:1px solid #e6c65c;color:#5c4400;'
-                              'padding:6px 10px;border-radius:4px;font-size:13px;max-height:9.5em;overflow-y:auto">'
-                              '<b>Warnings</b><ul style="margin:2px 0 0 0;padding-left:18px">'
+                              '<div role="alert" class="od-alert"><b>Warnings</b><ul>'
                               + "".join(f"<li>{escape(n)}</li>" for n in notes) + "</ul></div>")
         a = system.assumptions
         self.caution.object = (
-            '<div style="font-size:12px;color:#555;margin:4px 0">All values are model estimates under the stated '
+            '<div class="od-caution">All values are model estimates under the stated '
             f'assumptions (Bond albedo A = {a.bond_albedo:.2f}, heat redistribution "{escape(a.heat_redistribution)}", '
             "masses from Chen &amp; Kipping 2017 where none is measured, fixed Keplerian orbits for positions), "
             "not measurements.</div>")
@@ -190,7 +200,7 @@ class OrbitDeckApp(param.Parameterized):
             self.views[titles[index]]  # built from the current state when first shown
         calls = self._stale.pop(titles[index], {})
         if calls:
-            with pn.io.hold():
+            with pn.io.hold(freeze=True):
                 for call in calls.values():
                     call()
 
@@ -204,19 +214,17 @@ class OrbitDeckApp(param.Parameterized):
             self.defer_hidden_tabs = deferring
 
     # -- pages -------------------------------------------------------------------
-    def page(self) -> pn.template.BaseTemplate:
-        """The served page: a plain template whose resources all come from the local server.
+    def page(self) -> pn.viewable.Viewable:
+        """The served page: the app's own layout (header band, side cards, tabs), every resource local.
 
         Only the shown tab's views follow each change at once; the views of the
         other tabs catch up when their tab is opened (:class:`ViewTabs`), which
         keeps a change cheap on a server holding many sessions.
         """
         self.defer_hidden_tabs = True
-        template = PlainTemplate(title=self._document_title(), header=[self.header_name, self._title_holder],
-                                 sidebar=[self.sidebar], main=[self.main], sidebar_width=SIDEBAR_WIDTH,
-                                 header_background="#2d3a4a", busy_indicator=None)
-        template.orbitdeck_app = self  # the session's state, for tests and benchmarks
-        return template
+        page = self.layout
+        page.orbitdeck_app = self  # the session's state, for tests and benchmarks
+        return page
 
 
 class LazyViews(Mapping):
@@ -278,33 +286,20 @@ class ViewTabs(pn.Tabs):
         super()._update_active(*events)
 
 
-class PlainTemplate(pn.template.VanillaTemplate):
-    """Panel's vanilla template without its web font, so that the page needs no network.
-
-    ``title`` (free text) is used only for the document's ``<title>``, which the
-    page template escapes; the header shows a fixed name and the system's name
-    comes from an escaped header item.
-
-    Pages are made with ``busy_indicator=None``: Panel drives every template's
-    busy indicator from one process-wide flag, so each event of any session
-    would update (and send a message to) every open session.
-    """
-
-    _resources = {"css": {}}
-
-    def _update_vars(self, *args) -> None:
-        super()._update_vars(*args)
-        self._render_variables["app_title"] = "orbitdeck"
-        self._render_variables["meta_name"] = "orbitdeck"
-
-
 def _derive(system: System, samples: int = 0, seed: int | None = None):
     derived = derive(system, samples=samples, seed=seed) if samples else derive(system)
     elements = ephemeris.orbital_elements(system, a_au=derived.planets["semi_major_axis_au"])
     return derived, elements
 
 
-def build_app(system: System) -> pn.layout.Row:
+def load_plotting() -> None:
+    """Load HoloViews' Bokeh plotting classes (done by the first view otherwise; a server does it at start)."""
+    from .views.plotting import load_backend
+
+    load_backend("bokeh")
+
+
+def build_app(system: System) -> pn.layout.Column:
     """The dashboard of ``system`` as a plain Panel layout (for a notebook cell or ``.servable()``).
 
     The dashboard edits ``system`` in place; pass ``system.copy()`` to keep

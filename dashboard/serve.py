@@ -81,6 +81,7 @@ def warm_up() -> None:
     from . import app  # noqa: F401  (the views and models it imports)
 
     pn.extension("tabulator")
+    app.load_plotting()
 
 
 def session_factory(system):
@@ -89,8 +90,10 @@ def session_factory(system):
         import panel as pn
 
         from .app import OrbitDeckApp
+        from .views.look import PAGE_CSS
 
-        pn.extension("tabulator")
+        # inside a session Panel keeps this configuration for the session alone
+        pn.extension("tabulator", raw_css=[PAGE_CSS])
         return OrbitDeckApp(system.copy()).page()
 
     return make_app

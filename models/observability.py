@@ -9,6 +9,10 @@ from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN
 # Kempton et al. 2018 (PASP 130, 114401), Table 1: TSM scale factors by radius bin [Rearth]
 TSM_RADIUS_EDGES = np.array([0.0, 1.5, 2.75, 4.0, 10.0])
 TSM_SCALE_FACTORS = np.array([0.190, 1.26, 1.28, 1.15])
+#: Kempton et al. 2018 (PASP 130, 114401): the TSM thresholds they suggest for follow-up, below and above
+#: 1.5 Rearth (to 10 Rearth, the metric's range)
+TSM_FOLLOW_UP_EDGES = np.array([0.0, 1.5, 10.0])
+TSM_FOLLOW_UP_THRESHOLDS = np.array([10.0, 90.0])
 #: ESM wavelength [m] and normalisation (Kempton et al. 2018, eq. 4)
 ESM_WAVELENGTH = 7.5e-6
 ESM_SCALE = 4.29e6
@@ -112,6 +116,29 @@ def tsm_scale_factor(radius_rearth):
     r = np.asarray(radius_rearth)
     index = np.clip(np.searchsorted(TSM_RADIUS_EDGES, r, side="right") - 1, 0, len(TSM_SCALE_FACTORS) - 1)
     return np.where(r < TSM_RADIUS_EDGES[-1], TSM_SCALE_FACTORS[index], np.nan)
+
+
+def tsm_follow_up_threshold(radius_rearth):
+    """The TSM above which Kempton et al. 2018 suggest a planet for follow-up.
+
+    TSM > 10 for Rp < 1.5 Rearth and TSM > 90 for 1.5 <= Rp < 10 Rearth: the
+    thresholds Kempton et al. 2018 (PASP 130, 114401) suggest for selecting
+    targets for follow-up. NaN from 10 Rearth, where the metric is not
+    defined.
+
+    Parameters
+    ----------
+    radius_rearth : array_like
+        Planet radius [Rearth].
+
+    Returns
+    -------
+    ndarray
+        The threshold (dimensionless, like the TSM).
+    """
+    r = np.asarray(radius_rearth, dtype=float)
+    index = np.clip(np.searchsorted(TSM_FOLLOW_UP_EDGES, r, side="right") - 1, 0, len(TSM_FOLLOW_UP_THRESHOLDS) - 1)
+    return np.where((r >= 0.0) & (r < TSM_FOLLOW_UP_EDGES[-1]), TSM_FOLLOW_UP_THRESHOLDS[index], np.nan)
 
 
 def transmission_spectroscopy_metric(radius_rearth, mass_mearth, star_radius_rsun, teq_k, j_mag):

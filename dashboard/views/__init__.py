@@ -1,9 +1,5 @@
-"""The five views of the dashboard, one module each, plus the palette and the controls."""
+"""The views of the dashboard, one module each, with the palette, the controls and the shared plotting pieces.
 
-from .flux import FluxView
-from .ladder import LadderView
-from .layout import LayoutView
-from .observability import ObservabilityView
-from .skies import SkiesView
-
-__all__ = ["FluxView", "LadderView", "LayoutView", "ObservabilityView", "SkiesView"]
+Import a view from its module (``from orbitdeck.dashboard.views.flux import FluxView``); the app lists
+the tabs in ``orbitdeck.dashboard.app.VIEW_CLASSES``.
+"""

@@ -1,9 +1,11 @@
-"""Pieces shared by the views: figures, tables, tap-to-select and text helpers.
+"""Pieces shared by the views: the view base class, waiting while hidden, selection, text helpers.
 
-Every view builds its Bokeh figures and data sources once per session and
-afterwards only replaces the data of those sources (and ranges or tick
-labels), so an edit patches the page in place instead of rebuilding a
-figure; tables are Panel ``Tabulator`` widgets whose ``value`` is replaced.
+Every view is a small ``param.Parameterized`` object holding its app; its
+methods depend on the app's state (``@param.depends("app.derived", ...,
+watch=True)``), compute plain data from it and send that data to the
+layers of its HoloViews plots (:mod:`.plotting`) and to its tables, which
+patch the page in place. In a served page a view whose tab is hidden waits
+(:func:`while_shown`) and catches up when its tab is opened.
 """
 
 from __future__ import annotations
@@ -12,30 +14,31 @@ import functools
 import html
 import math
 
+import holoviews as hv
 import numpy as np
-import pandas as pd
 import panel as pn
-from bokeh.models import ColumnDataSource, HoverTool, NumberFormatter
-from bokeh.plotting import figure
+import param
 
-#: tools of every plot; "tap" picks a planet where the view allows it
-TOOLS = "pan,wheel_zoom,box_zoom,reset,save"
-#: shared look of plot titles and axis labels
-TITLE_FONT_SIZE = "13px"
-AXIS_LABEL_FONT_SIZE = "12px"
+#: tools of every live plot
+TOOLS = ["pan", "wheel_zoom", "box_zoom", "reset", "save"]
+#: a note beneath a plot (never drawn over the data)
+NOTE_STYLE = {"font-size": "12px", "color": "#5a6270", "line-height": "1.35"}
 
 
 def batched(method):
-    """Run a method that changes Bokeh models inside ``pn.io.hold()``.
+    """Run a method that changes Bokeh models inside ``pn.io.hold(freeze=True)``.
 
     In a served session this sends the changes as one message and makes them
     safe when the call comes from a Panel event handler that does not hold
     the document lock (a table's selection, for instance); elsewhere it only
-    calls the method.
+    calls the method. Freezing the document's model graph matters for
+    HoloViews plots: each plot update freezes it and, on leaving, Bokeh walks
+    every model of the document again; inside an outer freeze that walk
+    happens once, when the outermost hold ends.
     """
     @functools.wraps(method)
     def wrapper(*args, **kwargs):
-        with pn.io.hold():
+        with pn.io.hold(freeze=True):
             return method(*args, **kwargs)
 
     return wrapper
@@ -61,94 +64,50 @@ def while_shown(method):
     return wrapper
 
 
-def follow(app, update, on_select, inputs=("derived",)) -> None:
-    """Wire a view to its app: ``update`` on every change of ``inputs``, ``on_select``
-    when the selected planet changes, and one ``update`` now."""
-    app.param.watch(update, list(inputs))
-    app.param.watch(on_select, "selected")
-    update()
+class View(param.Parameterized):
+    """A view of one app (one browser session or notebook cell), shown in the tab named ``title``.
 
-
-def _same_column(old, new) -> bool:
-    """True when two columns hold the same values (NaN equal to NaN); False when unsure."""
-    if old is new:
-        return True
-    try:
-        a, b = np.asarray(old), np.asarray(new)
-        if a.shape != b.shape or a.dtype.kind != b.dtype.kind:
-            return False
-        return bool(np.array_equal(a, b, equal_nan=a.dtype.kind in "fc"))
-    except (TypeError, ValueError):
-        return False
-
-
-def replace_data(source: ColumnDataSource, data: dict) -> None:
-    """Give ``source`` the columns of ``data``, sending the browser only the columns that changed.
-
-    When the column names or the row count change, the whole data is
-    replaced; otherwise only the columns whose values differ are updated (in
-    one change), and nothing is sent when none does.
+    Subclasses build their plots and tables in ``__init__`` and follow the
+    app through ``@param.depends("app.<parameter>", watch=True)`` methods;
+    ``panel()`` gives the live Panel object and ``figure(backend)`` the plain
+    HoloViews objects of the current state (for snapshots and static figures).
     """
-    old = source.data
-    lengths = {len(v) for v in data.values()}
-    if set(old) != set(data) or len(lengths) > 1 or {len(v) for v in old.values()} != lengths:
-        source.data = data
-        return
-    changed = {k: v for k, v in data.items() if not _same_column(old[k], v)}
-    if changed:
-        old.update(changed)
+
+    title = "View"
+    app = param.Parameter(default=None, precedence=-1, doc="The app (one session) this view shows")
+
+    def __init__(self, app, **params):
+        super().__init__(app=app, **params)
+
+    @property
+    def tab(self) -> str:
+        return self.title
+
+    def colours(self, names) -> list[str]:
+        """The session's colours of planets ``names``."""
+        return self.app.colours.colours(names)
+
+    def panel(self):
+        raise NotImplementedError
+
+    def figure(self, backend: str | None = None):
+        """The view's plots as plain HoloViews objects of the current state (styled for ``backend`` if given)."""
+        raise NotImplementedError
 
 
-def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **options) -> figure:
-    """A Bokeh figure with the dashboard's tools, fonts and axis labels (labels carry units)."""
-    options.setdefault("height", 420)
-    if "width" not in options and "frame_width" not in options:
-        options.setdefault("sizing_mode", "stretch_width")
-    fig = figure(title=title, tools=TOOLS + (",tap" if tap else ""), toolbar_location="above", **options)
-    fig.title.text_font_size = TITLE_FONT_SIZE
-    fig.xaxis.axis_label = x_label
-    fig.yaxis.axis_label = y_label
-    for axis in (*fig.xaxis, *fig.yaxis):
-        axis.axis_label_text_font_size = AXIS_LABEL_FONT_SIZE
-        axis.axis_label_text_font_style = "normal"
-    fig.toolbar.logo = None
-    return fig
+def select_on_tap(app, dynamic_map, names_of) -> hv.streams.Selection1D:
+    """Select the planet of the glyph tapped in ``dynamic_map`` (``names_of()``: the planet of each row)."""
+    stream = hv.streams.Selection1D(source=dynamic_map)
 
-
-def add_hover(fig, renderers, tooltips) -> HoverTool:
-    """Attach a hover tool showing ``tooltips`` (label, "@column{format}") for ``renderers``."""
-    tool = HoverTool(renderers=list(renderers), tooltips=list(tooltips))
-    fig.add_tools(tool)
-    return tool
-
-
-def empty_source(*columns: str) -> ColumnDataSource:
-    """A data source with the named, empty columns."""
-    return ColumnDataSource({c: [] for c in columns})
-
-
-def calm_selection(renderer) -> None:
-    """Keep a glyph's look when Bokeh marks it selected; the app draws its own highlight."""
-    renderer.selection_glyph = None
-    renderer.nonselection_glyph = None
-    renderer.muted_glyph = None
-
-
-def watch_taps(source: ColumnDataSource, app, column: str = "name") -> None:
-    """Select the planet named in ``column`` of the glyph of ``source`` the user taps.
-
-    The selection is cleared again right away so that tapping the same glyph
-    a second time (after choosing another planet elsewhere) still counts.
-    """
-    def changed(attr, old, new):
-        if new:
-            row = int(new[0])
-            source.selected.indices = []
-            names = source.data[column]
-            if row < len(names):
+    def tapped(index):
+        if index:
+            names = list(names_of())
+            row = int(index[0])
+            if 0 <= row < len(names) and names[row] in app.derived.planet_names:
                 app.selected = str(names[row])
 
-    source.selected.on_change("indices", changed)
+    stream.add_subscriber(tapped)
+    return stream
 
 
 def escape(text) -> str:
@@ -171,44 +130,9 @@ def as_floats(values) -> np.ndarray:
     return np.array([np.nan if v is None else v for v in np.asarray(values, dtype=object).ravel()], dtype=float)
 
 
-def table_widget(columns: dict, formats: dict | None = None, height: int = 280, **options) -> pn.widgets.Tabulator:
-    """A read-only, single-selection table; ``formats`` maps a column to a Bokeh number format."""
-    formatters = {name: NumberFormatter(format=f, nan_format="\u2014") for name, f in (formats or {}).items()}
-    options.setdefault("selectable", 1)
-    return pn.widgets.Tabulator(pd.DataFrame(columns), disabled=True, show_index=False,
-                                formatters=formatters, layout="fit_data_table", height=height,
-                                sizing_mode="stretch_width", **options)
-
-
-def link_table_selection(table: pn.widgets.Tabulator, app, names_of):
-    """Two-way link between a table's selected row and ``app.selected``.
-
-    ``names_of()`` returns the planet name of every row, in row order.
-    Returns the function that puts ``app.selected`` into the table; the view
-    calls it again after it has replaced the table's rows.
-    """
-    def from_table(event):
-        if event.new:
-            names = names_of()
-            row = event.new[0]
-            if 0 <= row < len(names):
-                app.selected = str(names[row])
-
-    def to_table(*_):
-        names = list(names_of())
-        wanted = [names.index(app.selected)] if app.selected in names else []
-        if table.selection != wanted:
-            table.selection = wanted
-
-    table.param.watch(from_table, "selection")
-    app.param.watch(to_table, "selected")
-    return to_table
-
-
-# -- Monte Carlo intervals ------------------------------------------------------------
 def interval(derived, table: str, key: str):
     """The (16th, 84th) percentile arrays of ``derived.<table>[key]``; None without Monte Carlo draws."""
-    found = (derived.intervals or {}).get(table, {}).get(key) if derived is not None else None
+    found = (derived.intervals or {}).get(table, {}).get(key) if derived is not None and derived.intervals else None
     if found is None:
         return None
     lo, hi = found
@@ -220,18 +144,7 @@ def interval_caption(derived) -> str:
     if derived is None or not derived.intervals:
         return ""
     return (f"16th\u201384th percentiles of {derived.samples} Monte Carlo draws "
-            f"\n(seed {derived.seed}; model estimates, not measurements)")
-
-
-def range_texts(values, lo, hi, digits: int = 3) -> list[str]:
-    """"+err \u2212err" of each value from its interval, ``digits`` significant digits; a dash where missing."""
-    out = []
-    for v, a, b in zip(as_floats(values), as_floats(lo), as_floats(hi)):
-        if not all(math.isfinite(x) for x in (v, a, b)):
-            out.append("\u2014")
-        else:
-            out.append(f"+{fmt(max(b - v, 0.0), digits)} \u2212{fmt(max(v - a, 0.0), digits)}")
-    return out
+            f"(seed {derived.seed}; model estimates, not measurements)")
 
 
 def span_texts(lo, hi, digits: int = 4, decimals: int | None = None) -> list[str]:
@@ -243,12 +156,19 @@ def span_texts(lo, hi, digits: int = 4, decimals: int | None = None) -> list[str
             for a, b in zip(as_floats(lo), as_floats(hi))]
 
 
-def planet_table(app, formats: dict, height: int = 300):
-    """A table with one row per planet (column "planet"), its selection linked to ``app.selected``.
+def note(text: str = "", **options) -> pn.pane.HTML:
+    """A note pane beneath a plot (notes are never drawn over data)."""
+    return pn.pane.HTML(text, styles=NOTE_STYLE, sizing_mode="stretch_width", margin=(2, 12), **options)
 
-    Returns the table and the function that re-applies the selection after
-    the view has replaced the rows.
-    """
-    table = table_widget({}, formats=formats, height=height)
-    sync = link_table_selection(table, app, lambda: list(table.value["planet"]) if "planet" in table.value else [])
-    return table, sync
+
+def section(text: str = "") -> pn.pane.HTML:
+    """A title above a table or plot; ``text`` is already escaped (free text must be)."""
+    from .look import SECTION_CSS
+
+    return pn.pane.HTML(f"<h3 class='od-table-title'>{text}</h3>" if text else "", stylesheets=[SECTION_CSS],
+                        sizing_mode="stretch_width", margin=(6, 12, 0, 12))
+
+
+def set_section(pane: pn.pane.HTML, text: str) -> None:
+    """Change the title of a :func:`section` pane (``text`` already escaped)."""
+    pane.object = f"<h3 class='od-table-title'>{text}</h3>"

@@ -4,13 +4,15 @@ Entries are text boxes that apply on Enter (or leaving the box) only after
 their text has been checked against the parameter's own bounds; an invalid
 entry shows an inline message and leaves the system unchanged. Sliders
 apply on release (``value_throttled``). After every change the widgets are
-refreshed from the model, so they always show what the views show.
+refreshed from the model, so they always show what the views show, and the
+messages of earlier actions are cleared: their cause (a refused text, a
+name already taken, a file not loaded) is gone once the model has moved on.
+Every switch and button carries an accessible name.
 """
 
 from __future__ import annotations
 
 import io
-import math
 import re
 from functools import partial
 
@@ -18,7 +20,9 @@ import panel as pn
 
 from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
 
+from . import look
 from .common import escape
+from .entries import Entry, Rejected, entry_text, parse_entry  # noqa: F401  (parse_entry, Rejected: part of the API)
 from .sky_from import TimePlayer
 
 #: star entries: field, label, unit, optional (blank allowed)
@@ -35,56 +39,18 @@ MAX_NAME_LENGTH = 40
 WIDGET_WIDTH = 290
 
 
-class Entry(pn.widgets.TextInput):
-    """A text box whose value (sent on Enter or on leaving the box) is applied at once.
+def switch(owner, name: str, label: str) -> pn.widgets.CheckBoxGroup:
+    """A checkbox bound both ways to the boolean parameter ``name`` of ``owner``.
 
-    Panel holds back a change from the browser for 50 ms (``_debounce``) so
-    that a burst of changes (a dragged slider) is handled once; an entry sends
-    one value per Enter, so the wait would only add to every edit's latency.
+    Made as a group of one so that the input sits inside its ``<label>`` and
+    carries the label as its accessible name (a single Bokeh checkbox draws
+    its label beside the input, where assistive technology does not find it).
     """
-
-    _debounce = 0
-
-
-class Rejected(ValueError):
-    """An entry that cannot be applied; the message is shown to the user."""
-
-
-#: a decimal number as people type it: digits with an optional point and exponent, ASCII only
-_PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
-
-
-def parse_entry(text: str, parameter, label: str, unit: str, optional: bool = False):
-    """The value of an entry's ``text`` for ``parameter``, checked against its bounds.
-
-    Returns None for a blank optional entry. Raises :class:`Rejected` with a
-    message naming the field and the reason.
-    """
-    text = (text or "").strip()
-    if not text:
-        if optional:
-            return None
-        raise Rejected(f"{label}: a value is needed")
-    if not _PLAIN_NUMBER.fullmatch(text):   # float() also takes "1_0", "infinity" and non-ASCII digits
-        if text.lower().lstrip("+-") not in ("nan", "inf", "infinity"):
-            raise Rejected(f"{label}: {text!r} is not a number")
-    value = float(text)
-    if not math.isfinite(value):
-        raise Rejected(f"{label}: must be a finite number, not {text!r}")
-    lo, hi = getattr(parameter, "bounds", None) or (None, None)
-    lo_in, hi_in = getattr(parameter, "inclusive_bounds", (True, True))
-    if lo is not None and (value < lo or (value == lo and not lo_in)):
-        raise Rejected(f"{label}: must be {'>=' if lo_in else '>'} {lo:g} {unit}, not {value:g}")
-    if hi is not None and (value > hi or (value == hi and not hi_in)):
-        raise Rejected(f"{label}: must be {'<=' if hi_in else '<'} {hi:g} {unit}, not {value:g}")
-    return value
-
-
-def entry_text(value) -> str:
-    """How a model value is shown in an entry."""
-    if value is None:
-        return ""
-    return f"{value:.10g}" if isinstance(value, (int, float)) else str(value)
+    box = pn.widgets.CheckBoxGroup(options=[label], value=[label] if getattr(owner, name) else [],
+                                   width=WIDGET_WIDTH, margin=(4, 10))
+    box.param.watch(lambda event: setattr(owner, name, label in event.new), "value")
+    owner.param.watch(lambda event: setattr(box, "value", [label] if event.new else []), name)
+    return box
 
 
 def file_name_for(system_name: str) -> str:
@@ -95,7 +61,10 @@ def file_name_for(system_name: str) -> str:
 
 def _message(pane, text: str = "", ok: bool = False) -> None:
     colour = "#1d6b1d" if ok else "#a11a1a"
-    pane.object = f'<div style="color:{colour};font-size:12px">{escape(text)}</div>' if text else ""
+    role = "status" if ok else "alert"
+    pane.object = (f'<div role="{role}" style="color:{colour};font-size:12px">{escape(text)}</div>'
+                   if text else "")
+
 
 
 class Controls:
@@ -105,7 +74,8 @@ class Controls:
         self.app = app
         self._quiet = False
         entry = partial(Entry, width=WIDGET_WIDTH)
-        self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
+        self.file_input = pn.widgets.FileInput(label="Load a system file (orbitdeck-system/1 TOML)", accept=".toml",
+                                               multiple=False, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",
                                                 label="Download the edited system file", color="primary",
@@ -137,14 +107,14 @@ class Controls:
                                                   width=WIDGET_WIDTH)
         self.epoch_button = pn.widgets.Button(label="Back to the system epoch", width=WIDGET_WIDTH)
         self.time_message = pn.pane.HTML("", width=WIDGET_WIDTH)
-        self.hill = pn.widgets.Checkbox.from_param(app.param.show_hill, label="Show Hill spheres (Layout)")
+        self.hill = switch(app, "show_hill", "Show Hill spheres (Layout)")
         self.reference = pn.widgets.Select.from_param(app.param.reference, label="Scale reference (Layout)",
                                                       width=WIDGET_WIDTH)
-        self.uncertainty = pn.widgets.Checkbox.from_param(app.param.uncertainty,
-                                                          label="Show Monte Carlo uncertainties (all views)")
-        self.samples = pn.widgets.IntInput.from_param(app.param.samples, label="Monte Carlo draws (100 to 20000)",
-                                                      step=1000, width=WIDGET_WIDTH)
+        self.uncertainty = switch(app, "uncertainty", "Show Monte Carlo uncertainties (all views)")
+        lo, hi = app.param.samples.bounds
+        self.samples = entry(label=f"Monte Carlo draws ({lo} to {hi})")
         self.uncertainty_message = pn.pane.HTML("", width=WIDGET_WIDTH)
+        self.samples_message = pn.pane.HTML("", width=WIDGET_WIDTH)
 
         self.file_input.param.watch(self._load, "value")
         for field, widget in self.star_entries.items():
@@ -158,15 +128,26 @@ class Controls:
         self.remove_button.on_click(self._remove)
         self.add_button.on_click(self._add)
         self.time_entry.param.watch(self._time_entry, "value")
+        self.samples.param.watch(self._samples, "value")
         self.time_slider.param.watch(self._time_slider, "value_throttled")
         self.epoch_button.on_click(lambda _: self._set_time(self.app.system.epoch))
         self.player = TimePlayer(app)
-        app.param.watch(self.sync, ["derived", "selected", "time"])
+        #: the panes that show the outcome of an action (cleared when the model changes again)
+        self.messages = (self.file_message, self.star_message, self.assumption_message, self.planet_message,
+                         self.add_message, self.time_message, self.samples_message)
+        app.param.watch(self._changed, ["derived", "selected", "time"])
         app.param.watch(self._uncertainty_note, "derived")
         self._uncertainty_note()
         self.sync()
 
     # -- model -> widgets ------------------------------------------------------
+    def _changed(self, *_):
+        """The model moved on: earlier messages lost their cause (an action sets its own afterwards)."""
+        for pane in self.messages:
+            if pane.object:
+                pane.object = ""
+        self.sync()
+
     def sync(self, *_):
         """Show the model's current values in every widget (without applying them back)."""
         app, system = self.app, self.app.system
@@ -188,6 +169,7 @@ class Controls:
             self.time_slider.end = round(max(longest, 1.0), 2)
             self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
             self.time_entry.value = entry_text(app.time)
+            self.samples.value = str(app.samples)
             self.download.filename = file_name_for(system.name)
             self.snapshot.filename = file_name_for(system.name)[:-5] + "_snapshot.html"
         finally:
@@ -215,8 +197,8 @@ class Controls:
         if self.app.problem:
             problem = self.app.problem
             setattr(obj, field, old)
-            _message(pane, f"{label}: {entry_text(value) or 'blank'} cannot be used: {problem}")
             self.sync()
+            _message(pane, f"{label}: {entry_text(value) or 'blank'} cannot be used: {problem}")
             return False
         _message(pane)
         return True
@@ -321,6 +303,19 @@ class Controls:
             return
         self._set_time(value)
 
+    def _samples(self, event):
+        if self._quiet:
+            return
+        label = self.samples.label
+        try:
+            value = parse_entry(event.new, self.app.param.samples, label.split(" (")[0], "draws")
+            if value != int(value):
+                raise Rejected(f"{label.split(' (')[0]}: a whole number is needed, not {event.new.strip()!r}")
+        except Rejected as error:
+            _message(self.samples_message, str(error))
+            return
+        self.app.samples = int(value)
+
     def _time_slider(self, event):
         if not self._quiet and event.new is not None:
             self._set_time(self.app.system.epoch + float(event.new))
@@ -358,10 +353,9 @@ class Controls:
 
     # -- layout ------------------------------------------------------------------
     def panel(self):
-        card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
+        card = partial(pn.Card, width=WIDGET_WIDTH + 24, margin=(6, 4), stylesheets=[look.CARD_CSS])
         return pn.Column(
-            card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
-                 self.file_message, self.download, self.snapshot, title="System file"),
+            card(self.file_input, self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
             card(self.planet_select, *self.planet_entries.values(), self.eccentricity, self.planet_message,
@@ -370,5 +364,5 @@ class Controls:
             card(self.time_entry, self.time_slider, self.player.panel(), self.epoch_button, self.time_message,
                  self.hill,
                  self.reference, title="Time and display"),
-            card(self.uncertainty, self.samples, self.uncertainty_message, title="Uncertainties"),
+            card(self.uncertainty, self.samples, self.samples_message, self.uncertainty_message, title="Uncertainties"),
             width=WIDGET_WIDTH + 40)

@@ -2,32 +2,40 @@
 
 Horizontal rungs mark every p:q of order p - q <= 3 (from
 ``orbitdeck.models.resonances.commensurability_table``) across the range of
-the system's ratios. Each adjacent pair is drawn at its ratio P_outer/P_inner
-as a disc split into the colours of its two planets, with a stub to its
-nearest rung and the offset Delta = (P2/P1)/(p/q) - 1 (Lithwick, Xie & Wu
-2012) beside it; consecutive pairs are linked where they form a triple,
-labelled with the best small-integer three-body relation
-p/P1 - (p+q)/P2 + q/P3 and its residual. TTV super-periods of pairs near
-first-order rungs are in the tooltips and in the table beneath.
+the system's ratios, solid for first order, dashed for second, dotted for
+third. Each adjacent pair is drawn at its ratio P_outer/P_inner as two
+discs in the colours of its planets, with a stub to its nearest rung (the
+integers p and q come from ``Derived.pairs``) and the offset
+Delta = (P2/P1)/(p/q) - 1 (Lithwick, Xie & Wu 2012) beside it; consecutive
+pairs are linked where they form a triple, labelled with the best
+small-integer three-body relation p/P1 - (p+q)/P2 + q/P3 and its residual.
+The tables beneath list every quantity the registry shows in this view.
 """
 
 from __future__ import annotations
 
+import holoviews as hv
 import numpy as np
 import panel as pn
-from bokeh.models import FixedTicker, Label, Range1d, TeeHead, Whisker
+import param
 
 from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
-from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, replace_data, span_texts, table_widget, while_shown)
+from .common import View, section, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
+from .plotting import LayeredPlot, Styles, texts
+from .tables import caution_html, quantities_of, table_frame, table_widget
 
-#: rung styles by order: (dash, colour, width)
-RUNG_STYLES = {1: ("solid", "#4d4d4d", 1.4), 2: ("dashed", "#7a7a7a", 1.1), 3: ("dotted", "#9a9a9a", 1.1)}
-PAIR_RADIUS_PX = 9
+VIEW = "ladder"
+#: rung looks by order: colour, width and the legend's words
+RUNG_COLOURS = {1: "#3b3b3b", 2: "#6f6f6f", 3: "#9a9a9a"}
+RUNG_NAMES = {1: "first-order rungs (p \u2212 q = 1)", 2: "second order", 3: "third order"}
+PAIR_SIZE = 15
 #: above this many pairs the offsets and relations are left to the tooltips and tables (labels would overlap)
 MAX_LABELLED_PAIRS = 12
+LINK_COLOUR, LINK_SELECTED = "#8a6fae", "#2b1a40"
+X_DIM = hv.Dimension("position", label="adjacent pair")
+Y_DIM = hv.Dimension("ratio", label="period ratio P_outer / P_inner")
 
 
 def ladder_range(ratios) -> tuple[float, float]:
@@ -48,199 +56,270 @@ def rungs_between(lo: float, hi: float):
     return p[keep], q[keep], order[keep], ratio[keep]
 
 
-class LadderView:
+# -- layers ------------------------------------------------------------------------------------
+def _dims(d):
+    return [X_DIM.clone(range=d["x_range"]), Y_DIM.clone(range=d["y_range"])]
+
+
+def _segments(d, group):
+    dims = _dims(d) + [hv.Dimension("position1", range=d["x_range"]), hv.Dimension("ratio1", range=d["y_range"])]
+    return hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
+                       ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=d.get("label", ""))
+
+
+def _rungs(order):
+    def rungs(d):
+        return _segments(d, f"LadderRung{order}")
+    rungs.__name__ = f"rungs{order}"
+    return rungs
+
+
+def _labels(group):
+    def labels(d):
+        return hv.Labels((d["x"], d["y"], texts(d["text"])), _dims(d), "text", group=group)
+    labels.__name__ = group
+    return labels
+
+
+def stubs(d):
+    return _segments(d, "LadderStub")
+
+
+def links(d):
+    return _segments(d, "LadderLink")
+
+
+def errors(d):
+    return _segments(d, "LadderRange")
+
+
+PAIR_VDIMS = ["colour", "line_colour", "line_width", "pair", "nearest", "order", "delta", "super_period", "spacing",
+              "delta_range", "other_text"]
+
+
+def pairs(d):
+    columns = {"position": d["x"], "ratio": d["y"], **{k: d[k] for k in PAIR_VDIMS}}
+    for k in ("colour", "line_colour", "pair", "nearest", "delta_range", "other_text"):
+        columns[k] = texts(columns[k])
+    return hv.Points(columns,
+                     [X_DIM.clone(range=d["x_range"]), Y_DIM.clone(range=d["y_range"])], PAIR_VDIMS,
+                     group="LadderPair", label="adjacent pairs")
+
+
+LAYERS = {"rungs3": _rungs(3), "rungs2": _rungs(2), "rungs1": _rungs(1), "rung_names": _labels("LadderRungName"),
+          "stubs": stubs, "links": links, "link_names": _labels("LadderLinkName"), "errors": errors,
+          "pairs": pairs, "pair_names": _labels("LadderPairName"), "deltas": _labels("LadderDelta")}
+
+TITLE = "Adjacent period ratios and the commensurabilities near them"
+STYLES = Styles(
+    frame={"bokeh": dict(responsive=True, height=480, legend_position="right", toolbar="above", title=TITLE,
+                         xaxis=None, show_grid=False, fontsize={"title": "13px", "labels": "12px"}),
+           "matplotlib": dict(fig_inches=(9, 5), legend_position="right", title=TITLE, xaxis=None)},
+    bokeh={
+        "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], line_width=1.4),
+        "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], line_width=1.1, line_dash="dashed"),
+        "Segments.LadderRung3": dict(color=RUNG_COLOURS[3], line_width=1.1, line_dash="dotted"),
+        "Labels.LadderRungName": dict(text_font_size="11px", text_align="right", text_baseline="bottom",
+                                      text_color="#4d4d4d"),
+        "Segments.LadderStub": dict(color="#333333", line_width=1.5),
+        "Segments.LadderLink": dict(color=hv.dim("colour"), line_width=hv.dim("width"), line_dash="dashdot"),
+        "Labels.LadderLinkName": dict(text_font_size="10.5px", text_align="center", text_baseline="top",
+                                      text_color="#4a2d6a"),
+        "Segments.LadderRange": dict(color="#111111", line_width=2.0),
+        "Points.LadderPair": dict(color="colour", size=PAIR_SIZE, line_color="line_colour", line_width="line_width",
+                                  tools=["hover"], hover_tooltips=[
+                                      ("pair", "@pair"), ("P2/P1", "@ratio{0.00000}"), ("nearest", "@nearest"),
+                                      ("order", "@order"), ("Delta", "@delta{+0.00000}"),
+                                      ("Delta 16th\u201384th pct", "@delta_range"),
+                                      ("TTV super-period", "@super_period{0.0} d"),
+                                      ("spacing", "@spacing{0.00} mutual Hill radii"), ("", "@other_text")]),
+        "Labels.LadderPairName": dict(text_font_size="12px", text_align="center", text_baseline="bottom",
+                                      text_color=palette.INK),
+        "Labels.LadderDelta": dict(text_font_size="11px", text_align="center", text_baseline="top",
+                                   text_color=palette.INK),
+    },
+    matplotlib={
+        "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], linewidth=1.2),
+        "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], linewidth=1.0, linestyle="--"),
+        "Segments.LadderRung3": dict(color=RUNG_COLOURS[3], linewidth=1.0, linestyle=":"),
+        "Labels.LadderRungName": dict(size=8, horizontalalignment="right", verticalalignment="bottom",
+                                      color="#4d4d4d"),
+        "Segments.LadderStub": dict(color="#333333", linewidth=1.2),
+        "Segments.LadderLink": dict(color=hv.dim("colour"), linewidth=1.4, linestyle="-."),
+        "Labels.LadderLinkName": dict(size=8, horizontalalignment="center", verticalalignment="top",
+                                      color="#4a2d6a"),
+        "Segments.LadderRange": dict(color="#111111", linewidth=1.5),
+        "Points.LadderPair": dict(color=hv.dim("colour"), s=PAIR_SIZE ** 2 * 0.6, edgecolors=hv.dim("line_colour"),
+                                  linewidth=hv.dim("line_width")),
+        "Labels.LadderPairName": dict(size=9, horizontalalignment="center", verticalalignment="bottom",
+                                      color=palette.INK),
+        "Labels.LadderDelta": dict(size=8, horizontalalignment="center", verticalalignment="top", color=palette.INK),
+    })
+
+
+class LadderView(View):
     """The "Period ladder" view of one app."""
 
     title = "Period ladder"
-    tab = title  # the tab the view is shown in
 
-    def __init__(self, app):
-        self.app = app
-        self.y_range, self.x_range = Range1d(1.0, 2.0), Range1d(-0.7, 0.7)
-        fig = new_figure("Adjacent period ratios and the commensurabilities near them", "adjacent pair",
-                         "period ratio P_outer / P_inner", height=480, x_range=self.x_range, y_range=self.y_range)
-        fig.xgrid.grid_line_color = None
-        fig.ygrid.grid_line_alpha = 0.3
-        fig.xaxis.major_label_text_font_size = "12px"
-        self.ticker = FixedTicker(ticks=[])
-        fig.xaxis.ticker = self.ticker
-        self.figure = fig
-        rung_columns = ("x0", "x1", "y", "label", "order")
-        self.sources = {
-            **{f"rungs{k}": empty_source(*rung_columns) for k in RUNG_STYLES},
-            "pairs": empty_source("x", "y", "pair", "inner_colour", "outer_colour", "nearest", "rung", "order",
-                                  "delta", "delta_text", "super_period", "spacing", "outline", "ring",
-                                  "delta_range", "other_fraction", "other_text"),
-            "errors": empty_source("x", "lower", "upper"),
-            "links": empty_source("x0", "y0", "x1", "y1", "xm", "ym", "planets", "p", "q", "residual", "text",
-                                  "width", "colour"),
-        }
-        s = self.sources
-        for k, (dash, colour, width) in RUNG_STYLES.items():
-            fig.segment(x0="x0", y0="y", x1="x1", y1="y", line_dash=dash, line_color=colour, line_width=width,
-                        source=s[f"rungs{k}"])
-            fig.text(x="x1", y="y", text="label", text_align="right", text_baseline="bottom",
-                     text_font_size="11px", text_color=colour, source=s[f"rungs{k}"])
-        fig.segment(x0="x", y0="y", x1="x", y1="rung", line_color="#333333", line_width=1.5, source=s["pairs"])
-        links = fig.segment(x0="x0", y0="y0", x1="x1", y1="y1", line_color="colour", line_width="width",
-                            line_dash="dashdot", source=s["links"])
-        fig.text(x="xm", y="ym", text="text", text_align="center", text_baseline="top", y_offset=8,
-                 text_font_size="10.5px", text_color="#4a2d6a", background_fill_color="white",
-                 background_fill_alpha=0.85, source=s["links"])
-        rings = fig.scatter(x="x", y="y", size="ring", fill_alpha=0, line_color=palette.HIGHLIGHT_COLOUR,
-                            line_width="outline", source=s["pairs"])
-        left = fig.wedge(x="x", y="y", radius=PAIR_RADIUS_PX, radius_units="screen", start_angle=np.pi / 2,
-                         end_angle=3 * np.pi / 2, fill_color="inner_colour", line_color="white", source=s["pairs"])
-        right = fig.wedge(x="x", y="y", radius=PAIR_RADIUS_PX, radius_units="screen", start_angle=-np.pi / 2,
-                          end_angle=np.pi / 2, fill_color="outer_colour", line_color="white", source=s["pairs"])
-        fig.text(x="x", y="y", text="delta_text", y_offset=-(PAIR_RADIUS_PX + 4), text_align="center",
-                 text_baseline="bottom", text_font_size="11.5px", background_fill_color="white",
-                 background_fill_alpha=0.85, source=s["pairs"])
-        for r in (links, rings, left, right):
-            calm_selection(r)
-        self.whiskers = Whisker(base="x", lower="lower", upper="upper", dimension="height", source=s["errors"],
-                                line_color="#111111", line_width=2, level="underlay",
-                                upper_head=TeeHead(size=10, line_width=2, line_color="#111111"),
-                                lower_head=TeeHead(size=10, line_width=2, line_color="#111111"))
-        fig.add_layout(self.whiskers)
-        self.error_note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
-                                text_color="#444444", background_fill_color="white", background_fill_alpha=0.8)
-        fig.add_layout(self.error_note)
-        self.base_tooltips = [
-            ("pair", "@pair"), ("P2/P1", "@y{0.00000}"), ("nearest", "@nearest (order @order)"),
-            ("Delta", "@delta{+0.00000}"), ("TTV super-period", "@super_period{0.0} d"),
-            ("spacing", "@spacing{0.00} mutual Hill radii")]
-        self.range_tooltips = [("Delta 16th\u201384th pct", "@delta_range"), ("other rungs", "@other_text")]
-        self.hover = add_hover(fig, [left, right], self.base_tooltips)
-        add_hover(fig, [links], [("three-body relation", "@planets"), ("p, q", "@p, @q"),
-                                 ("p/P1 - (p+q)/P2 + q/P3", "@residual{0.000000} deg/d")])
-        self.pairs_table = table_widget({}, formats={
-            "P2/P1": "0.00000", "other rung nearer [% of draws]": "0.0", "Delta [%]": "+0.000",
-            "TTV super-period [d]": "0.0", "spacing [mutual Hill radii]": "0.00"}, height=230, selectable=False)
-        self.triples_table = table_widget({}, formats={"residual [deg/d]": "0.000000"}, height=190,
+    def __init__(self, app, **params):
+        super().__init__(app, **params)
+        self.plot = LayeredPlot(LAYERS, STYLES, self._layer_data())
+        self.tap = select_on_tap(app, self.plot.dynamic["pairs"], self._tapped_names)
+        self.caption = note()
+        self.pair_quantities = quantities_of(VIEW, "pairs")
+        self.triple_quantities = quantities_of(VIEW, "triples")
+        self.pairs_table = table_widget(self._pairs_frame(), self.pair_quantities, frozen=("pair",), selectable=False)
+        self.triples_table = table_widget(self._triples_frame(), self.triple_quantities, frozen=("planets",),
                                           selectable=False)
-        follow(app, self.update, self._highlight)
+        self.caution = note()
+        self._refresh()
+
+    def _tapped_names(self):
+        """The planet each drawn disc stands for (a pair's inner disc its inner planet, its outer disc the outer)."""
+        return self.plot.data["pairs"]["planet"]
+
+    @param.depends("app.derived", watch=True)
+    def _on_derived(self):
+        self._refresh()
+
+    @param.depends("app.selected", watch=True)
+    def _on_selected(self):
+        self._highlight()
 
     @while_shown
     @batched
-    def update(self, *_):
+    def _refresh(self):
         d = self.app.derived
-        if d is None:
-            return
-        pr, tr, names = d.pairs, d.triples, d.planet_names
-        colours = palette.planet_colours(len(names))
-        ratio = np.asarray(pr["period_ratio"], dtype=float)
-        n_pairs = ratio.size
-        lo, hi = ladder_range(ratio)
-        x_lo, x_hi = -0.7, max(n_pairs - 1, 0) + 1.4
-        self.y_range.update(start=lo, end=hi)
-        self.x_range.update(start=x_lo, end=x_hi)
-        p, q, order, rung = rungs_between(lo, hi)
-        for k in RUNG_STYLES:
-            keep = order == k
-            replace_data(self.sources[f"rungs{k}"], {
-                "x0": np.full(keep.sum(), x_lo), "x1": np.full(keep.sum(), x_hi - 0.02), "y": rung[keep],
-                "label": [f"{a}:{b}" for a, b in zip(p[keep], q[keep])], "order": order[keep]})
-        nearest = [str(s) for s in pr["nearest"]]
-        near_ratio = np.array([int(s.split(":")[0]) / int(s.split(":")[1]) for s in nearest]) if nearest else ratio
-        pair_names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]
-        self.ticker.ticks = list(range(n_pairs))
-        self.figure.xaxis.major_label_overrides = {i: name for i, name in enumerate(pair_names)}
-        delta = np.asarray(pr["delta"], dtype=float)
-        replace_data(self.sources["pairs"], {
-            "x": np.arange(n_pairs, dtype=float), "y": ratio, "pair": pair_names,
-            "inner_colour": colours[:-1] if n_pairs else [], "outer_colour": colours[1:] if n_pairs else [],
-            "nearest": nearest, "rung": near_ratio, "order": np.asarray(pr["order"]), "delta": delta,
-            "delta_text": [f"{s}  \u0394 = {100 * v:+.2f}%" if n_pairs <= MAX_LABELLED_PAIRS else ""
-                           for v, s in zip(delta, nearest)],
-            "super_period": np.asarray(pr["super_period_d"], dtype=float),
-            "spacing": np.asarray(pr["mutual_hill_spacing"], dtype=float), **self._ring_columns(d),
-            **self._range_columns(d, n_pairs)})
-        self._update_errors(d, n_pairs, hi - lo)
-        n_triples = len(tr["p"])
-        trio = [list(t) for t in tr["planets"]]
-        residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
-        x0 = np.arange(n_triples, dtype=float)
-        replace_data(self.sources["links"], {
-            "x0": x0, "y0": ratio[:n_triples], "x1": x0 + 1, "y1": ratio[1:n_triples + 1], "xm": x0 + 0.5,
-            "ym": 0.5 * (ratio[:n_triples] + ratio[1:n_triples + 1]), "planets": ["\u2013".join(t) for t in trio],
-            "p": np.asarray(tr["p"]), "q": np.asarray(tr["q"]), "residual": residual,
-            "text": [f"p={a} q={b}: {v:.2g}\u00b0/d" if n_pairs <= MAX_LABELLED_PAIRS else ""
-                     for a, b, v in zip(tr["p"], tr["q"], residual)],
-            **self._link_columns(trio)})
-        self.pairs_table.value = _pairs_frame(pr, d)
-        self.triples_table.value = _triples_frame(tr)
+        self.plot.update(**self._layer_data())
+        self.pairs_table.value = self._pairs_frame()
+        self.triples_table.value = self._triples_frame()
+        caption = interval_caption(d)
+        notes = ["Each pair: the inner planet's disc left, the outer's right; the stub runs to the nearest rung."]
+        if caption:
+            notes.append(f"Vertical bars: period ratio, {escape(caption)}; the fraction of draws in which another "
+                         "commensurability is nearer is in the tooltips.")
+            found = interval(d, "pairs", "period_ratio")
+            lo, hi = ladder_range(d.pairs["period_ratio"])
+            if found is not None and np.nanmax(found[1] - found[0], initial=0.0) < 0.01 * (hi - lo):
+                notes.append("(Every bar is shorter than the discs: the ratios are known far more precisely than the "
+                             "rungs are apart.)")
+        self.caption.object = " ".join(notes)
+        self.caution.object = caution_html(self.pair_quantities + self.triple_quantities, d)
 
-    def _range_columns(self, d, n_pairs: int) -> dict:
-        """Tooltip texts of the Monte Carlo intervals of Delta and of how often another rung is nearer."""
+    @while_shown
+    @batched
+    def _highlight(self):
+        data = self.plot.data
+        self.plot.update(pairs={**data["pairs"], **self._pair_marks(data["pairs"]["pair_planets"])},
+                         links={**data["links"], **self._link_marks(data["links"]["trio"])})
+
+    def _pair_marks(self, pair_planets) -> dict:
+        hit = [self.app.selected in planets for planets in pair_planets]
+        return {"line_colour": [palette.HIGHLIGHT_COLOUR if h else "#ffffff" for h in hit],
+                "line_width": np.array([3.0 if h else 1.0 for h in hit])}
+
+    def _link_marks(self, trio) -> dict:
+        hit = [self.app.selected in t for t in trio]
+        return {"width": np.array([3.5 if h else 1.8 for h in hit]),
+                "colour": [LINK_SELECTED if h else LINK_COLOUR for h in hit]}
+
+    def _layer_data(self) -> dict:
+        d = self.app.derived
+        pr, tr = d.pairs, d.triples
+        ratio = np.asarray(pr["period_ratio"], dtype=float)
+        n = ratio.size
+        lo, hi = ladder_range(ratio)
+        x_lo, x_hi = -0.7, max(n - 1, 0) + 1.4
+        xr, yr = (x_lo, x_hi), (lo, hi)
+        p_all, q_all, order_all, rung_all = rungs_between(lo, hi)
+        layers = {}
+        for k in (1, 2, 3):
+            keep = order_all == k
+            count = int(keep.sum())
+            layers[f"rungs{k}"] = {"x0": np.full(count, x_lo), "y0": rung_all[keep], "x1": np.full(count, x_hi),
+                                   "y1": rung_all[keep], "colour": [RUNG_COLOURS[k]] * count,
+                                   "width": np.ones(count), "label": RUNG_NAMES[k] if count else "",
+                                   "x_range": xr, "y_range": yr}
+        layers["rung_names"] = {"x": np.full(rung_all.size, x_hi - 0.02), "y": rung_all,
+                                "text": [f"{a}:{b}" for a, b in zip(p_all, q_all)], "x_range": xr, "y_range": yr}
+        x = np.arange(n, dtype=float)
+        p, q = np.asarray(pr["p"], dtype=int), np.asarray(pr["q"], dtype=int)
+        nearest_ratio = p / np.maximum(q, 1) if n else ratio
+        layers["stubs"] = {"x0": x, "y0": ratio, "x1": x, "y1": nearest_ratio, "colour": ["#333333"] * n,
+                           "width": np.ones(n), "x_range": xr, "y_range": yr}
+        trio = [list(t) for t in tr["planets"]]
+        m = len(trio)
+        residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
+        layers["links"] = {"x0": x[:m], "y0": ratio[:m], "x1": x[:m] + 1, "y1": ratio[1:m + 1], "trio": trio,
+                           "label": "three-body relations" if m else "", "x_range": xr, "y_range": yr,
+                           **self._link_marks(trio)}
+        labelled = n <= MAX_LABELLED_PAIRS
+        layers["link_names"] = {"x": x[:m] + 0.5, "y": 0.5 * (ratio[:m] + ratio[1:m + 1]),
+                                "text": [f"p={a} q={b}: {v:.2g}\u00b0/d" if labelled else ""
+                                         for a, b, v in zip(tr["p"], tr["q"], residual)], "x_range": xr, "y_range": yr}
+        found = interval(d, "pairs", "period_ratio")
+        lo_, hi_ = found if found is not None else (np.zeros(0), np.zeros(0))
+        layers["errors"] = {"x0": x[:lo_.size], "y0": lo_, "x1": x[:hi_.size], "y1": hi_,
+                            "colour": ["#111111"] * lo_.size, "width": np.ones(lo_.size),
+                            "label": "16th\u201384th percentiles" if found is not None else "",
+                            "x_range": xr, "y_range": yr}
+        layers["pairs"] = self._pairs(d, x, ratio, xr, yr)
+        names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]
+        layers["pair_names"] = {"x": x, "y": np.full(n, lo), "text": names, "x_range": xr, "y_range": yr}
+        delta = np.asarray(pr["delta"], dtype=float)
+        layers["deltas"] = {"x": x, "y": np.minimum(ratio, nearest_ratio) - 0.004 * (hi - lo),
+                            "text": [f"{s}  \u0394 = {100 * v:+.2f}%" if labelled else ""
+                                     for v, s in zip(delta, pr["nearest"])], "x_range": xr, "y_range": yr}
+        return layers
+
+    def _pairs(self, d, x, ratio, xr, yr) -> dict:
+        """Two discs a pair, inner planet's left and outer planet's right, with the pair's numbers for hovering."""
+        pr = d.pairs
+        n = ratio.size
+        inner, outer = [str(v) for v in pr["inner"]], [str(v) for v in pr["outer"]]
+        delta = np.asarray(pr["delta"], dtype=float)
         found = interval(d, "pairs", "delta")
         other = np.asarray(d.extra.get("other_nearest_fraction", np.zeros(0)), dtype=float)
-        if found is None or other.size != n_pairs:
-            return {"delta_range": [""] * n_pairs, "other_fraction": np.full(n_pairs, np.nan),
-                    "other_text": [""] * n_pairs}
-        return {"delta_range": span_texts(*found, digits=4), "other_fraction": other,
-                "other_text": [f"in {100 * f:.1f}% of draws another commensurability is nearer" for f in other]}
+        delta_range = span_texts(*found, digits=4) if found is not None else [""] * n
+        other_text = ([f"in {100 * f:.1f}% of draws another commensurability is nearer" for f in other]
+                      if other.size == n and d.intervals else [""] * n)
+        pair = [f"{a}\u2013{b}" for a, b in zip(inner, outer)]
 
-    def _update_errors(self, d, n_pairs: int, shown_span: float) -> None:
-        """Vertical bars between the 16th and 84th percentiles of each period ratio (none without draws)."""
-        found = interval(d, "pairs", "period_ratio")
-        self.hover.tooltips = self.base_tooltips + (self.range_tooltips if found is not None else [])
-        if found is None:
-            replace_data(self.sources["errors"], {k: [] for k in self.sources["errors"].data})
-            self.error_note.text = ""
-            return
-        lo, hi = found
-        replace_data(self.sources["errors"], {"x": np.arange(n_pairs, dtype=float), "lower": lo, "upper": hi})
-        # about 400 px of plot height: say so when every bar is shorter than the pair's disc
-        tallest_px = float(np.nanmax(hi - lo, initial=0.0)) / shown_span * 400.0 if shown_span > 0 else 0.0
-        self.error_note.text = (f"vertical bars: period ratio, {interval_caption(d)}"
-                                + ("\n(every bar is shorter than the discs: the ratios are known far more "
-                                   "precisely than the rungs are apart)" if tallest_px < 2 * PAIR_RADIUS_PX else ""))
+        def both(values) -> list:
+            """One entry for the inner disc of every pair, then one for the outer disc."""
+            values = list(values)
+            return values + values
 
-    def _ring_columns(self, d) -> dict:
-        chosen = self.app.selected
-        hit = [chosen in (a, b) for a, b in zip(d.pairs["inner"], d.pairs["outer"])]
-        return {"outline": [3.0 if h else 0.0 for h in hit], "ring": [2 * PAIR_RADIUS_PX + 9 if h else 1 for h in hit]}
+        pair_planets = both(zip(inner, outer))
+        return {"x": np.concatenate([x - 0.09, x + 0.09]), "y": np.concatenate([ratio, ratio]),
+                "colour": self.colours(inner) + self.colours(outer), "planet": inner + outer,
+                "pair": both(pair), "pair_planets": pair_planets, "nearest": both(str(s) for s in pr["nearest"]),
+                "order": np.concatenate([pr["order"], pr["order"]]).astype(float),
+                "delta": np.concatenate([delta, delta]),
+                "super_period": np.concatenate([pr["super_period_d"], pr["super_period_d"]]).astype(float),
+                "spacing": np.concatenate([pr["mutual_hill_spacing"], pr["mutual_hill_spacing"]]).astype(float),
+                "delta_range": both(delta_range), "other_text": both(other_text), "x_range": xr, "y_range": yr,
+                **self._pair_marks(pair_planets)}
 
-    def _link_columns(self, trio) -> dict:
-        hit = [self.app.selected in t for t in trio]
-        return {"width": [3.5 if h else 1.8 for h in hit], "colour": ["#2b1a40" if h else "#8a6fae" for h in hit]}
-
-    @while_shown
-    @batched
-    def _highlight(self, *_):
+    def _pairs_frame(self):
         d = self.app.derived
-        if d is None:
-            return
-        self.sources["pairs"].data.update(self._ring_columns(d))
-        self.sources["links"].data.update(self._link_columns([list(t) for t in d.triples["planets"]]))
+        labels = {"pair": [f"{a}\u2013{b}" for a, b in zip(d.pairs["inner"], d.pairs["outer"])],
+                  "nearest p:q": d.pairs["nearest"]}
+        return table_frame(d, VIEW, "pairs", labels, self.pair_quantities)
+
+    def _triples_frame(self):
+        d = self.app.derived
+        return table_frame(d, VIEW, "triples", {"planets": ["\u2013".join(t) for t in d.triples["planets"]]},
+                           self.triple_quantities)
 
     def panel(self):
-        return pn.Column(pn.pane.Bokeh(self.figure, sizing_mode="stretch_width"),
-                         pn.pane.HTML("<b>Adjacent pairs</b>"), self.pairs_table,
-                         pn.pane.HTML("<b>Three-body relations of consecutive triples</b>"), self.triples_table,
-                         sizing_mode="stretch_width")
+        return pn.Column(pn.pane.HoloViews(self.plot.live(), sizing_mode="stretch_width", linked_axes=False),
+                         self.caption,
+                         section("Adjacent pairs"),
+                         self.pairs_table,
+                         section("Three-body relations of consecutive triples"),
+                         self.triples_table, self.caution, sizing_mode="stretch_width")
 
-
-def _pairs_frame(pr, d=None) -> dict:
-    import pandas as pd
-
-    frame = pd.DataFrame({
-        "inner": pr["inner"], "outer": pr["outer"], "P2/P1": pr["period_ratio"], "nearest p:q": pr["nearest"],
-        "order": pr["order"], "Delta [%]": 100 * np.asarray(pr["delta"], dtype=float),
-        "TTV super-period [d]": pr["super_period_d"], "spacing [mutual Hill radii]": pr["mutual_hill_spacing"]})
-    found = interval(d, "pairs", "delta") if d is not None else None
-    if found is not None:
-        frame.insert(frame.columns.get_loc("Delta [%]") + 1, "Delta 16\u201384% [%]",
-                     span_texts(100 * found[0], 100 * found[1], digits=4))
-        other = np.asarray(d.extra.get("other_nearest_fraction", []), dtype=float)
-        if other.size == len(frame):
-            frame.insert(frame.columns.get_loc("order") + 1, "other rung nearer [% of draws]", 100 * other)
-    return frame
-
-
-def _triples_frame(tr):
-    import pandas as pd
-
-    return pd.DataFrame({"planets": ["\u2013".join(t) for t in tr["planets"]], "p": tr["p"], "q": tr["q"],
-                         "residual [deg/d]": tr["residual_deg_per_day"]})
+    def figure(self, backend: str | None = None):
+        return self.plot.figure(backend)

@@ -5,35 +5,46 @@ a, e and omega in the orbital plane (longitude of node 0, so the angle of a
 point is omega + f and the observer lies along +y: a planet transits at
 omega + f = 90 deg, Winn 2010). Planets sit where Kepler's equation puts
 them at the chosen time (``orbitdeck.models.ephemeris.positions``), the
-habitable zone is shaded as annuli (conservative: runaway to maximum
-greenhouse; optimistic: recent Venus to runaway and maximum greenhouse to
-early Mars, Kopparapu et al. 2014), the star is a disc of its own radius,
-Hill spheres are drawn on demand and a Solar System orbit can be added for
-scale. Everything is in au on equal axes.
+habitable zone is the project's graded, partly hatched band
+(:mod:`.habitable`, drawn as an image of the annulus), the star is a disc
+of its own radius, Hill spheres are drawn on demand (enlarged by a stated
+factor when they would be smaller than a few pixels) and a Solar System
+orbit can be added for scale. Everything is in au on equal axes; notes sit
+beneath the plot, never over it.
 """
 
 from __future__ import annotations
 
+import holoviews as hv
 import numpy as np
 import panel as pn
-from bokeh.core.properties import value
-from bokeh.models import Label, Legend, LegendItem, Range1d
+import param
 
 from orbitdeck.models import ephemeris
 from orbitdeck.models.constants import AU, R_SUN
 
-from . import palette
-from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, replace_data, watch_taps, while_shown)
+from . import habitable, palette
+from .common import View, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
+from .plotting import LayeredPlot, Styles, texts
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
 REFERENCE_ORBITS = {"none": None, "Mercury (0.387 au)": 0.387, "Venus (0.723 au)": 0.723, "Earth (1 au)": 1.0}
-SIZE_PLAIN, SIZE_SELECTED = 11, 19
+SIZE_PLAIN, SIZE_SELECTED = 11, 18
+#: points along each drawn orbit and circle
+ORBIT_POINTS, CIRCLE_POINTS = 180, 72
+#: pixels of the habitable-zone image across
+HZ_PIXELS = 320
+#: Hill spheres are drawn at least this share of the shown half-width across (about 8 px), enlarged by a
+#: round factor when needed; the factor is stated in the legend
+HILL_MIN_SHARE = 0.014
+HILL_FACTORS = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
+X_DIM = hv.Dimension("x", label="x, in the orbital plane", unit="au")
+Y_DIM = hv.Dimension("y", label="y, towards the observer", unit="au")
 
 
 def orbit_ellipses(a, e, omega_rad) -> dict:
-    """Keplerian orbits about a focus at the origin as ellipse glyphs: centre, axes [unit of a], angle [rad].
+    """Keplerian orbits about a focus at the origin: centre, axes [unit of a], angle [rad].
 
     The ellipse of semi-major axis a and eccentricity e has the semi-minor
     axis b = a sqrt(1 - e^2) and its centre a e from the focus, opposite
@@ -48,6 +59,22 @@ def orbit_ellipses(a, e, omega_rad) -> dict:
             "height": 2.0 * a * np.sqrt(1.0 - e * e), "angle": omega}
 
 
+def ellipse_points(ellipses: dict, count: int = ORBIT_POINTS):
+    """Points around each ellipse of :func:`orbit_ellipses`, shaped (ellipses, count + 1), closed."""
+    t = np.linspace(0.0, 2.0 * np.pi, count + 1)
+    cx, cy, w, h, angle = (np.asarray(ellipses[k], dtype=float)[:, None]
+                           for k in ("x", "y", "width", "height", "angle"))
+    u, v = 0.5 * w * np.cos(t), 0.5 * h * np.sin(t)
+    return cx + u * np.cos(angle) - v * np.sin(angle), cy + u * np.sin(angle) + v * np.cos(angle)
+
+
+def circle_points(x, y, radius, count: int = CIRCLE_POINTS):
+    """Points around circles of ``radius`` about (x, y), shaped (circles, count + 1), closed."""
+    t = np.linspace(0.0, 2.0 * np.pi, count + 1)
+    x, y, radius = (np.atleast_1d(np.asarray(v, dtype=float))[:, None] for v in (x, y, radius))
+    return x + radius * np.cos(t), y + radius * np.sin(t)
+
+
 def in_plane_positions(elements, time: float):
     """Planet positions in the orbital plane at ``time`` [BJD_TDB]: x, y, r [au] and f [rad].
 
@@ -60,182 +87,263 @@ def in_plane_positions(elements, time: float):
     return r * np.cos(angle), r * np.sin(angle), r, pos.true_anomaly_rad
 
 
-class LayoutView:
+def hill_factor(radii, half_width: float) -> int:
+    """The smallest round factor that makes the median Hill radius at least ``HILL_MIN_SHARE`` of the half-width."""
+    radii = np.asarray(radii, dtype=float)
+    radii = radii[np.isfinite(radii) & (radii > 0)]
+    if radii.size == 0 or half_width <= 0:
+        return 1
+    need = HILL_MIN_SHARE * half_width / float(np.median(radii))
+    return next((f for f in HILL_FACTORS if f >= need), HILL_FACTORS[-1])
+
+
+def hz_image(limits: dict, half_width: float, faded: bool, pixels: int = HZ_PIXELS) -> np.ndarray:
+    """The habitable-zone band as an RGBA image over [-half_width, half_width]^2, graded from the warm
+    inner edge to the cool outer edge (evenly in log distance), hatched over the optimistic parts."""
+    edges = np.log([limits[k] for k in habitable.LIMITS])
+    centres = (np.arange(pixels) + 0.5) / pixels * 2.0 * half_width - half_width
+    x, y = np.meshgrid(centres, centres[::-1])
+    with np.errstate(divide="ignore"):
+        log_r = np.log(np.sqrt(x * x + y * y))
+    inside = (log_r >= edges[0]) & (log_r <= edges[3])
+    fraction = np.clip((log_r - edges[0]) / (edges[3] - edges[0]), 0.0, 1.0)
+    warm, mild, cool = (np.array(c) for c in (palette.HZ_WARM, palette.HZ_MILD, palette.HZ_COOL))
+    t = fraction[..., None]
+    rgb = np.where(t < 0.5, warm + (mild - warm) * (2 * t), mild + (cool - mild) * (2 * t - 1))
+    optimistic = inside & ((log_r < edges[1]) | (log_r > edges[2]))
+    alpha = np.where(inside, np.where(optimistic, habitable.OPTIMISTIC_ALPHA, habitable.CONSERVATIVE_ALPHA), 0.0)
+    rows, columns = np.indices((pixels, pixels))
+    stripe = optimistic & (((rows + columns) % 9) < 2)
+    hatch = np.array([int(palette.HZ_HATCH_COLOUR[i:i + 2], 16) / 255.0 for i in (1, 3, 5)])
+    rgb = np.where(stripe[..., None], hatch, rgb)
+    alpha = np.where(stripe, 0.8, alpha) * (habitable.EXTRAPOLATED_FACTOR if faded else 1.0)
+    return (np.dstack([rgb, alpha]) * 255.0 + 0.5).astype(np.uint8)
+
+
+# -- layers: plain data -> elements -----------------------------------------------------------------
+def _dims(d):
+    return [X_DIM.clone(range=d["x_range"]), Y_DIM.clone(range=d["y_range"])]
+
+
+def hz(d):
+    w = d["half_width"]
+    return hv.RGB(d["image"], bounds=(-w, -w, w, w), kdims=_dims(d), group="LayoutHZ")
+
+
+def _lines(d, group):
+    dims = _dims(d) + [hv.Dimension("x1", range=d["x_range"]), hv.Dimension("y1", range=d["y_range"])]
+    return hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
+                       ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=d["label"])
+
+
+def orbits(d):
+    return _lines(d, "LayoutOrbit")
+
+
+def hill(d):
+    return _lines(d, "LayoutHill")
+
+
+def reference(d):
+    return _lines(d, "LayoutReference")
+
+
+def star(d):
+    disc = [{"x": d["x"], "y": d["y"]}] if len(d["x"]) else []
+    return hv.Polygons(disc, _dims(d), group="LayoutStar", label="star (to scale)")
+
+
+PLANET_VDIMS = ["name", "colour", "size", "line_colour", "line_width", "r", "f_deg", "a", "e", "periastron",
+                "apoastron", "a_range"]
+
+
+def planets(d):
+    columns = {k: d[k] for k in ("x", "y", *PLANET_VDIMS)}
+    for k in ("name", "colour", "line_colour", "a_range"):
+        columns[k] = texts(columns[k])
+    return hv.Points(columns, _dims(d), PLANET_VDIMS, group="LayoutPlanet", label="planets")
+
+
+def names(d):
+    return hv.Labels((d["x"], d["y"], texts(f"  {n}" for n in d["name"])), _dims(d), "text",
+                     group="LayoutPlanetName")
+
+
+LAYERS = {"hz": hz, "reference": reference, "orbits": orbits, "star": star, "hill": hill, "planets": planets,
+          "names": names}
+
+FRAME = {
+    "bokeh": dict(frame_width=500, frame_height=500, data_aspect=1, legend_position="right", toolbar="above",
+                  active_tools=["wheel_zoom"], title="Top-down view of the orbits, to scale",
+                  fontsize={"title": "13px", "labels": "12px"}),
+    "matplotlib": dict(fig_inches=(8, 6), aspect="equal", legend_position="right",
+                       title="Top-down view of the orbits, to scale"),
+}
+STYLES = Styles(
+    frame=FRAME,
+    bokeh={
+        "RGB.LayoutHZ": dict(),
+        "Segments.LayoutReference": dict(color=palette.REFERENCE_COLOUR, line_dash="dashed", line_width=1.5),
+        "Segments.LayoutOrbit": dict(color=hv.dim("colour"), line_width=hv.dim("width"), alpha=0.85),
+        "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1),
+        "Segments.LayoutHill": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
+        "Points.LayoutPlanet": dict(color="colour", size="size", line_color="line_colour", line_width="line_width",
+                                    tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
+                                    hover_tooltips=[("planet", "@name"), ("distance now", "@r{0.00000} au"),
+                                                    ("true anomaly f", "@f_deg{0.0} deg"), ("a", "@a{0.00000} au"),
+                                                    ("a 16th\u201384th pct", "@a_range"), ("e", "@e{0.000}"),
+                                                    ("periastron", "@periastron{0.00000} au"),
+                                                    ("apoastron", "@apoastron{0.00000} au")]),
+        "Labels.LayoutPlanetName": dict(text_font_size="12px", text_align="left", text_baseline="top",
+                                        text_color=palette.INK),
+    },
+    matplotlib={
+        "RGB.LayoutHZ": dict(),
+        "Segments.LayoutReference": dict(color=palette.REFERENCE_COLOUR, linestyle="--", linewidth=1.2),
+        "Segments.LayoutOrbit": dict(color=hv.dim("colour"), linewidth=hv.dim("width") * 0.8),
+        "Polygons.LayoutStar": dict(facecolor=palette.STAR_COLOUR, edgecolor=palette.STAR_OUTLINE, linewidth=0.5),
+        "Segments.LayoutHill": dict(color=hv.dim("colour"), linewidth=1.0),
+        "Points.LayoutPlanet": dict(color=hv.dim("colour"), s=hv.dim("size") ** 2 * 0.6,
+                                    edgecolors=hv.dim("line_colour"), linewidth=hv.dim("line_width")),
+        "Labels.LayoutPlanetName": dict(size=9, horizontalalignment="left", verticalalignment="top",
+                                        color=palette.INK),
+    })
+
+
+def _segments(xs, ys, colours, widths, label, x_range, y_range) -> dict:
+    """Closed curves (rows of points) as the columns of a Segments layer, one colour and width per curve."""
+    xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+    per = max(xs.shape[1] - 1, 0) if xs.ndim == 2 else 0
+    return {"x0": xs[:, :-1].ravel() if per else np.zeros(0), "y0": ys[:, :-1].ravel() if per else np.zeros(0),
+            "x1": xs[:, 1:].ravel() if per else np.zeros(0), "y1": ys[:, 1:].ravel() if per else np.zeros(0),
+            "colour": [c for c in colours for _ in range(per)], "width": np.repeat(np.asarray(widths, float), per),
+            "label": label, "x_range": x_range, "y_range": y_range}
+
+
+class LayoutView(View):
     """The "Layout" view of one app (one browser session)."""
 
     title = "Layout"
-    tab = title  # the tab the view is shown in
 
-    def __init__(self, app):
-        self.app = app
-        self.x_range, self.y_range = Range1d(-0.1, 0.1), Range1d(-0.1, 0.1)
-        fig = new_figure("Top-down view of the orbits, to scale", "x, in the orbital plane [au]",
-                         "y, towards the observer [au]", tap=True, frame_width=560, frame_height=560,
-                         x_range=self.x_range, y_range=self.y_range)
-        fig.height = fig.width = None
-        self.figure = fig
-        self.sources = {
-            "hz": empty_source("inner", "outer", "kind", "limits", "colour", "alpha"),
-            "reference": empty_source("radius", "label"),
-            "bands": empty_source("inner", "outer", "name", "colour"),
-            "orbits": empty_source("x", "y", "width", "height", "angle", "name", "colour", "a", "e", "periastron",
-                                   "apoastron", "line_width"),
-            "star": empty_source("radius", "name", "radius_rsun", "teff"),
-            "hill": empty_source("x", "y", "radius", "name", "colour"),
-            "planets": empty_source("x", "y", "name", "colour", "size", "line_colour", "line_width",
-                                    "r", "f_deg", "a", "e", "periastron", "apoastron"),
-        }
-        s = self.sources
-        hz = fig.annulus(x=0, y=0, inner_radius="inner", outer_radius="outer", fill_color="colour",
-                         fill_alpha="alpha", line_alpha=0, source=s["hz"])
-        bands = fig.annulus(x=0, y=0, inner_radius="inner", outer_radius="outer", fill_color="colour",
-                            fill_alpha=0.5, line_color="colour", line_alpha=0.8, line_width=1, source=s["bands"])
-        ref = fig.circle(x=0, y=0, radius="radius", fill_alpha=0, line_color=palette.REFERENCE_COLOUR,
-                         line_dash="dashed", line_width=1.5, source=s["reference"])
-        # an ellipse glyph per orbit: five numbers a planet where a drawn curve would need hundreds of points
-        orbits = fig.ellipse(x="x", y="y", width="width", height="height", angle="angle", fill_color=None,
-                             line_color="colour", line_width="line_width", line_alpha=0.8, source=s["orbits"])
-        star = fig.circle(x=0, y=0, radius="radius", fill_color=palette.STAR_COLOUR, line_color="#8a6500",
-                          source=s["star"])
-        self.hill = fig.circle(x="x", y="y", radius="radius", fill_color="colour", fill_alpha=0.15,
-                               line_color="colour", line_width=1.5, source=s["hill"], visible=False)
-        planets = fig.scatter(x="x", y="y", size="size", fill_color="colour", line_color="line_colour",
-                              line_width="line_width", source=s["planets"])
-        fig.text(x="x", y="y", text="name", x_offset=9, y_offset=-9, text_font_size="12px",
-                 text_color="#222222", source=s["planets"])
-        for r in (hz, bands, ref, orbits, star, self.hill, planets):
-            calm_selection(r)
-        add_hover(fig, [planets], [("planet", "@name"), ("distance now", "@r{0.00000} au"),
-                                   ("true anomaly f", "@f_deg{0.0} deg"), ("a", "@a{0.00000} au"), ("e", "@e{0.000}"),
-                                   ("periastron", "@periastron{0.00000} au"), ("apoastron", "@apoastron{0.00000} au")])
-        add_hover(fig, [star], [("star", "@name"), ("radius", "@radius_rsun{0.000} Rsun = @radius{0.000000} au"),
-                                ("Teff", "@teff{0} K")])
-        add_hover(fig, [self.hill], [("Hill sphere of", "@name"), ("radius", "@radius{0.000000} au")])
-        add_hover(fig, [ref], [("scale reference", "@label")])
-        add_hover(fig, [bands], [("semi-major axis of", "@name"),
-                                 ("16th\u201384th percentiles", "@inner{0.00000}\u2013@outer{0.00000} au")])
-        self.band_item = LegendItem(label=value("a: 16th\u201384th percentiles"), renderers=[bands], visible=False)
-        self.reference_item = LegendItem(label=value("no scale reference"), renderers=[ref])
-        self.hz_items = [LegendItem(label=value("conservative HZ"), renderers=[hz], index=0),
-                         LegendItem(label=value("optimistic HZ"), renderers=[hz], index=1)]
-        legend = Legend(items=[
-            *self.hz_items,
-            LegendItem(label=value("star (to scale)"), renderers=[star]),
-            LegendItem(label=value("Hill spheres"), renderers=[self.hill]),
-            self.reference_item,
-            self.band_item,
-        ], location="top_left", label_text_font_size="11px", border_line_alpha=0)
-        fig.add_layout(legend, "right")
-        self.note = Label(x=8, y=8, x_units="screen", y_units="screen", text="", text_font_size="11px",
-                          text_color="#444444", background_fill_color="white", background_fill_alpha=0.7)
-        fig.add_layout(self.note)
-        watch_taps(s["planets"], app)
-        app.param.watch(self._show_hill, "show_hill")
-        follow(app, self.update, self._highlight, inputs=("derived", "elements", "time", "reference"))
-        self._show_hill()
+    def __init__(self, app, **params):
+        super().__init__(app, **params)
+        self.hill_factor = 1
+        self._hz_cache = None
+        self.plot = LayeredPlot(LAYERS, STYLES, self._layer_data())
+        self.tap = select_on_tap(app, self.plot.dynamic["planets"], lambda: self.plot.data["planets"]["name"])
+        self.caption = note()
+        self._refresh()
 
-    # -- user actions --------------------------------------------------------
-    @batched
-    def _show_hill(self, *_):
-        self.hill.visible = bool(self.app.show_hill)
+    @param.depends("app.derived", "app.elements", "app.time", "app.reference", "app.show_hill", watch=True)
+    def _on_state(self):
+        self._refresh()
 
-    # -- data ----------------------------------------------------------------
+    @param.depends("app.selected", watch=True)
+    def _on_selected(self):
+        self._highlight()
+
     @while_shown
     @batched
-    def update(self, *_):
-        """Redraw from the app's current derived state (data replaced in place)."""
+    def _refresh(self):
         app, d = self.app, self.app.derived
-        if d is None or app.elements is None:
-            return
-        pl, names = d.planets, d.planet_names
-        colours = palette.planet_colours(len(names))
-        a, e = pl["semi_major_axis_au"], app.elements.e
-        omega = app.elements.omega_rad
-        star_radius_au = d.star["radius_rsun"] * R_SUN / AU
-        replace_data(self.sources["orbits"], {
-            **orbit_ellipses(a, e, omega), "name": list(names), "colour": colours, "a": a, "e": e,
-            "periastron": d.extra["periastron_au"], "apoastron": d.extra["apoastron_au"],
-            "line_width": self._widths(names, 1.5, 3.5)})
-        replace_data(self.sources["star"], {"radius": [star_radius_au], "name": [d.star["name"]],
-                                            "radius_rsun": [d.star["radius_rsun"]], "teff": [d.star["teff_k"]]})
-        self._update_hz(d)
-        self._update_bands(d, names, colours)
-        x, y, r, f = in_plane_positions(app.elements, app.time)
-        replace_data(self.sources["planets"], {
-            "x": x, "y": y, "name": list(names), "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a,
-            "e": e, "periastron": d.extra["periastron_au"], "apoastron": d.extra["apoastron_au"],
-            **self._marker_columns(names)})
-        replace_data(self.sources["hill"], {"x": x, "y": y, "radius": pl["hill_radius_au"], "name": list(names),
-                                            "colour": colours})
-        reference = REFERENCE_ORBITS.get(app.reference)
-        body = app.reference.split(" ")[0]
-        self.reference_item.label = value(f"{body}'s orbit\n(a = {reference:g} au), for scale" if reference
-                                          else "no scale reference")
-        replace_data(self.sources["reference"],
-                     {"radius": [reference], "label": [f"circle of radius {reference:g} au, the semi-major axis of "
-                                                       f"{app.reference.split(' ')[0]}'s orbit"]}
-                     if reference else {"radius": [], "label": []})
-        extent = 1.12 * max(float(np.max(d.extra["apoastron_au"], initial=0.0)), 3 * star_radius_au)
-        hz_au = d.star["hz_au"]
-        if hz_au and hz_au["early_mars"] < 3.0 * extent:
-            extent = max(extent, 1.05 * hz_au["early_mars"])
-        if reference:
-            extent = max(extent, 1.06 * reference)
-        if abs(self.x_range.end - extent) > 1e-3 * extent:
-            self.x_range.update(start=-extent, end=extent)
-            self.y_range.update(start=-extent, end=extent)
-        self.figure.title.text = f"Top-down view of the orbits, to scale, at BJD_TDB {app.time:.4f}"
+        self.plot.update(**self._layer_data())
         caption = interval_caption(d)
-        self.note.text = ("observer towards +y (transit at \u03c9 + f = 90\u00b0); positions from Kepler's equation"
-                          + (f"\nbands: semi-major axis, {caption}" if caption else ""))
-
-    def _update_bands(self, d, names, colours) -> None:
-        """Annuli between the 16th and 84th percentiles of each semi-major axis (none without draws)."""
-        found = interval(d, "planets", "semi_major_axis_au")
-        self.band_item.visible = found is not None
-        if found is None:
-            replace_data(self.sources["bands"], {k: [] for k in self.sources["bands"].data})
-            return
-        lo, hi = found
-        self.band_item.label = value(f"a: 16th\u201384th percentiles\nof {d.samples} Monte Carlo draws")
-        replace_data(self.sources["bands"], {"inner": lo, "outer": hi, "name": list(names), "colour": colours})
-
-    def _update_hz(self, d) -> None:
-        hz = d.star["hz_au"]
-        if not hz:
-            replace_data(self.sources["hz"], {k: [] for k in self.sources["hz"].data})
-            self.hz_items[0].label = value("no HZ: Teff outside 2600\u20137200 K")
-            self.hz_items[1].label = value(" ")
-            return
-        rv, rg, mg, em = (hz[k] for k in ("recent_venus", "runaway_greenhouse", "maximum_greenhouse", "early_mars"))
-        self.hz_items[0].label = value(f"conservative HZ\n{rg:.4f}\u2013{mg:.4f} au")
-        self.hz_items[1].label = value(f"optimistic HZ\n{rv:.4f}\u2013{rg:.4f} au\n{mg:.4f}\u2013{em:.4f} au")
-        replace_data(self.sources["hz"], {
-            "inner": [rg, rv, mg], "outer": [mg, rg, em],
-            "kind": ["conservative", "optimistic (inner)", "optimistic (outer)"],
-            "limits": [f"runaway greenhouse {rg:.4g} au and maximum greenhouse {mg:.4g} au",
-                       f"recent Venus {rv:.4g} au and runaway greenhouse {rg:.4g} au",
-                       f"maximum greenhouse {mg:.4g} au and early Mars {em:.4g} au"],
-            "colour": [palette.HZ_CONSERVATIVE_COLOUR, palette.HZ_OPTIMISTIC_COLOUR, palette.HZ_OPTIMISTIC_COLOUR],
-            "alpha": [0.35, 0.35, 0.35]})
-
-    def _marker_columns(self, names) -> dict:
-        chosen = [n == self.app.selected for n in names]
-        return {"size": [SIZE_SELECTED if c else SIZE_PLAIN for c in chosen],
-                "line_colour": [palette.HIGHLIGHT_COLOUR if c else "white" for c in chosen],
-                "line_width": [3.0 if c else 1.0 for c in chosen]}
-
-    def _widths(self, names, plain: float, chosen: float) -> list[float]:
-        return [chosen if n == self.app.selected else plain for n in names]
+        notes = [habitable.key_html(d),
+                 f"Positions at BJD_TDB {app.time:.4f} from Kepler's equation; the observer lies towards +y "
+                 "(a planet transits at \u03c9 + f = 90\u00b0)."]
+        if app.show_hill and self.hill_factor > 1:
+            notes.append(f"Hill spheres are drawn {self.hill_factor}\u00d7 their radius so they show at this "
+                         "scale; the tooltips and the Flux & temperature table give the true radius.")
+        if caption:
+            notes.append(f"Semi-major axis ranges in the tooltips: {escape(caption)}.")
+        self.caption.object = " ".join(n for n in notes if n)
 
     @while_shown
     @batched
-    def _highlight(self, *_):
-        names = list(self.sources["planets"].data["name"])
-        replace_data(self.sources["planets"], {**self.sources["planets"].data, **self._marker_columns(names)})
-        replace_data(self.sources["orbits"], {**self.sources["orbits"].data,
-                                              "line_width": self._widths(names, 1.5, 3.5)})
+    def _highlight(self):
+        data = self.plot.data
+        names_ = data["planets"]["name"]
+        widths = self._orbit_widths(names_)
+        per = len(data["orbits"]["x0"]) // max(len(names_), 1)
+        self.plot.update(planets={**data["planets"], **self._marks(names_)},
+                         orbits={**data["orbits"], "width": np.repeat(widths, per)})
 
+    def _marks(self, names_) -> dict:
+        chosen = [n == self.app.selected for n in names_]
+        return {"size": np.array([SIZE_SELECTED if c else SIZE_PLAIN for c in chosen], dtype=float),
+                "line_colour": [palette.HIGHLIGHT_COLOUR if c else "#ffffff" for c in chosen],
+                "line_width": np.array([3.0 if c else 1.0 for c in chosen])}
+
+    def _orbit_widths(self, names_) -> np.ndarray:
+        return np.array([3.5 if n == self.app.selected else 1.6 for n in names_])
+
+    def _layer_data(self) -> dict:
+        app, d = self.app, self.app.derived
+        names_ = [str(n) for n in d.planet_names]
+        colours = self.colours(names_)
+        pl, elements = d.planets, app.elements
+        a, e, omega = np.asarray(pl["semi_major_axis_au"], float), elements.e, elements.omega_rad
+        star_radius_au = d.star["radius_rsun"] * R_SUN / AU
+        half = 1.12 * max(float(np.max(d.extra["apoastron_au"], initial=0.0)), 3.0 * star_radius_au)
+        limits = habitable.limits_of(d)
+        if limits and limits["early_mars"] < 3.0 * half:
+            half = max(half, 1.05 * limits["early_mars"])
+        reference_au = REFERENCE_ORBITS.get(app.reference)
+        if reference_au:
+            half = max(half, 1.06 * reference_au)
+        view = (-half, half)
+        # layers that an edit of the planets leaves alone carry their own extent, not the view's, so that
+        # they are not sent again when the view's extent follows the orbits
+        layers = {"hz": self._hz(d, limits, half)}
+        rx, ry = circle_points([0.0], [0.0], [reference_au or 0.0], 180)
+        body = app.reference.split(" ")[0]
+        own = (-(reference_au or 0.0), reference_au or 0.0)
+        layers["reference"] = _segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5],
+                                        f"{body}'s orbit (a = {reference_au:g} au), for scale", own, own) \
+            if reference_au else _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], "", own, own)
+        ox, oy = ellipse_points(orbit_ellipses(a, e, omega))
+        layers["orbits"] = _segments(ox, oy, colours, self._orbit_widths(names_), "orbits", view, view)
+        sx, sy = circle_points([0.0], [0.0], [star_radius_au], 64)
+        layers["star"] = {"x": sx[0], "y": sy[0], "x_range": (-star_radius_au, star_radius_au),
+                          "y_range": (-star_radius_au, star_radius_au)}
+        x, y, r, f = in_plane_positions(elements, app.time)
+        self.hill_factor = hill_factor(pl["hill_radius_au"], half)
+        if app.show_hill:
+            hx, hy = circle_points(x, y, np.asarray(pl["hill_radius_au"], float) * self.hill_factor)
+            label = ("Hill spheres" if self.hill_factor == 1 else
+                     f"Hill spheres, radius \u00d7{self.hill_factor} (enlarged)")
+            layers["hill"] = _segments(hx, hy, colours, [1.5] * len(names_), label, view, view)
+        else:
+            layers["hill"] = _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], "", view, view)
+        found = interval(d, "planets", "semi_major_axis_au")
+        layers["planets"] = {
+            "x": x, "y": y, "name": names_, "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a, "e": e,
+            "periastron": np.asarray(d.extra["periastron_au"], float),
+            "apoastron": np.asarray(d.extra["apoastron_au"], float),
+            "a_range": span_texts(*found, digits=5) if found else [""] * len(names_),
+            "x_range": view, "y_range": view, **self._marks(names_)}
+        layers["names"] = {"x": x, "y": y, "name": names_, "x_range": view, "y_range": view}
+        return layers
+
+    def _hz(self, d, limits, half: float) -> dict:
+        """The habitable-zone image over the band, or over the view when the band reaches far beyond it
+        (kept from the last call while the band and its width are the same)."""
+        if limits is None:
+            tiny = (-1e-9, 1e-9)
+            return {"image": np.zeros((1, 1, 4), dtype=np.uint8), "half_width": 1e-9, "x_range": tiny,
+                    "y_range": tiny}
+        width = limits["early_mars"] * 1.01 if limits["early_mars"] < 3.0 * half else half
+        faded = habitable.extrapolated(d)
+        key = (tuple(limits.values()), width, faded)
+        if self._hz_cache is None or self._hz_cache[0] != key:
+            self._hz_cache = (key, {"image": hz_image(limits, width, faded), "half_width": width,
+                                    "x_range": (-width, width), "y_range": (-width, width)})
+        return self._hz_cache[1]
+
+    # -- pages and figures ----------------------------------------------------------------------
     def panel(self):
-        return pn.pane.Bokeh(self.figure, sizing_mode="fixed")
+        return pn.Column(pn.pane.HoloViews(self.plot.live(), linked_axes=False), self.caption,
+                         sizing_mode="stretch_width")
 
+    def figure(self, backend: str | None = None):
+        return self.plot.figure(backend)

@@ -1,100 +1,170 @@
 """Observability: transit and spectroscopy figures of merit.
 
-Transit depth, total duration T14, impact parameter and geometric transit
-probability (Winn 2010), the radial-velocity semi-amplitude K, and the
-transmission and emission spectroscopy metrics TSM and ESM of Kempton et al.
-2018 (which need the star's J and K magnitudes), with a bar chart of TSM.
+A bar chart of the transmission spectroscopy metric TSM of Kempton et al.
+2018 (which needs the star's J magnitude), with the 16th-84th percentiles
+of the Monte Carlo draws as error bars and, on each bar, the threshold
+that paper suggests for follow-up at that planet's radius (10 below
+1.5 Rearth, 90 from 1.5 to 10 Rearth). The table below lists every
+quantity the registry shows in this view (transit probability, depth,
+duration, impact parameter, RV semi-amplitude, TSM, ESM), with their
+ranges when there are draws.
 """
 
 from __future__ import annotations
 
+import holoviews as hv
 import numpy as np
-import pandas as pd
 import panel as pn
-from bokeh.models import FactorRange
+import param
+
+from orbitdeck.models.observability import tsm_follow_up_threshold
 
 from . import palette
-from .common import (add_hover, follow, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     new_figure, planet_table, replace_data, watch_taps, while_shown)
-from .flux import with_ranges
+from .common import View, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, while_shown
+from .plotting import LayeredPlot, Styles, texts
+from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
-TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
-                 "TSM": "0.00", "ESM": "0.000", "K [m/s]": "0.000"}
-
-
-#: table columns that get a "+err \u2212err" column beside them when there are Monte Carlo intervals
-RANGED_COLUMNS = {"depth [ppm]": ("transit_depth_ppm", 3), "T14 [h]": ("transit_duration_h", 3),
-                  "TSM": ("tsm", 3), "ESM": ("esm", 3), "K [m/s]": ("rv_semi_amplitude_ms", 3)}
+VIEW = "observability"
+PLANET_DIM = hv.Dimension("planet")
+THRESHOLD_COLOUR = "#8a2d00"
 
 
-def observability_frame(derived) -> pd.DataFrame:
-    """The rows of the Observability table (with "+err \u2212err" columns when there are intervals)."""
-    pl = derived.planets
-    frame = pd.DataFrame({
-        "planet": [str(n) for n in pl["name"]], "depth [ppm]": pl["transit_depth_ppm"],
-        "T14 [h]": pl["transit_duration_h"], "b": pl["impact_parameter"],
-        "transit probability": pl["transit_probability"], "TSM": pl["tsm"], "ESM": pl["esm"],
-        "K [m/s]": pl["rv_semi_amplitude_ms"]})
-    return with_ranges(frame, derived, "planets", RANGED_COLUMNS)
+def _tsm_dim(d):
+    return hv.Dimension("tsm", label="TSM (relative S/N of a transmission spectrum)", range=d["y_range"])
 
 
-class ObservabilityView:
+def bars(d):
+    columns = {k: d[k] for k in ("planet", "tsm", "colour", "line_colour", "line_width", "esm", "depth", "tsm_range")}
+    for k in ("planet", "colour", "line_colour", "tsm_range"):
+        columns[k] = texts(columns[k])
+    return hv.Bars(columns,
+                   [PLANET_DIM], [_tsm_dim(d), "colour", "line_colour", "line_width", "esm", "depth", "tsm_range"],
+                   group="ObservabilityTSM", label="TSM")
+
+
+def errors(d):
+    return hv.ErrorBars((texts(d["planet"]), d["tsm"], d["minus"], d["plus"]), [PLANET_DIM],
+                        [_tsm_dim(d), "minus", "plus"], group="ObservabilityRange", label=d["label"])
+
+
+def thresholds(d):
+    return hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)],
+                      group="ObservabilityThreshold",
+                      label=d["label"])
+
+
+LAYERS = {"bars": bars, "errors": errors, "thresholds": thresholds}
+TITLE = "Transmission spectroscopy metric (Kempton et al. 2018)"
+STYLES = Styles(
+    frame={"bokeh": dict(responsive=True, height=380, legend_position="right", toolbar="above", title=TITLE,
+                         fontsize={"title": "13px", "labels": "12px"}, show_grid=True),
+           "matplotlib": dict(fig_inches=(8, 4), legend_position="right", title=TITLE)},
+    bokeh={
+        "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), line_color=hv.dim("line_colour"), line_width=hv.dim("line_width"),
+                                      tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
+                                      hover_tooltips=[("planet", "@planet"), ("TSM", "@tsm{0.00}"),
+                                                      ("TSM 16th\u201384th pct", "@tsm_range"), ("ESM", "@esm{0.00}"),
+                                                      ("transit depth", "@depth{0} ppm")]),
+        "ErrorBars.ObservabilityRange": dict(color=palette.INK, line_width=1.5, upper_head=None, lower_head=None),
+        "Scatter.ObservabilityThreshold": dict(marker="dash", size=44, color=THRESHOLD_COLOUR, line_width=3),
+    },
+    matplotlib={
+        "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), edgecolor=hv.dim("line_colour")),
+        "ErrorBars.ObservabilityRange": dict(color=palette.INK, linewidth=1.2, capsize=0),
+        "Scatter.ObservabilityThreshold": dict(marker="_", s=600, color=THRESHOLD_COLOUR, linewidth=2.5),
+    })
+
+
+class ObservabilityView(View):
     """The "Observability" view of one app."""
 
     title = "Observability"
-    tab = title  # the tab the view is shown in
 
-    def __init__(self, app):
-        self.app = app
-        fig = new_figure("Transmission spectroscopy metric (Kempton et al. 2018)", "planet",
-                         "TSM (relative S/N of transmission spectra)", tap=True, height=360, x_range=FactorRange())
-        fig.xgrid.grid_line_color = None
-        fig.y_range.start = 0
-        self.figure = fig
-        self.sources = {"bars": empty_source("name", "tsm", "esm", "depth", "colour", "line_width", "line_colour")}
-        s = self.sources["bars"]
-        bars = fig.vbar(x="name", top="tsm", width=0.7, fill_color="colour", line_color="line_colour",
-                        line_width="line_width", source=s)
-        calm_selection(bars)
-        add_hover(fig, [bars], [("planet", "@name"), ("TSM", "@tsm{0.00}"), ("ESM", "@esm{0.00}"),
-                                ("transit depth", "@depth{0} ppm")])
-        watch_taps(s, app)
-        self.note = pn.pane.HTML("", styles={"color": "#8a2d00"})
-        self.table, self._sync_table = planet_table(app, TABLE_FORMATS)
-        follow(app, self.update, self._highlight)
+    def __init__(self, app, **params):
+        super().__init__(app, **params)
+        self.quantities = quantities_of(VIEW, "planets")
+        self.plot = LayeredPlot(LAYERS, STYLES, self._layer_data())
+        self.tap = select_on_tap(app, self.plot.dynamic["bars"], lambda: self.plot.data["bars"]["planet"])
+        self.caption = note()
+        self.table = table_widget(self._frame(), self.quantities)
+        self._sync_table = link_selection(self.table, app, lambda: list(self.table.value["planet"]))
+        self.caution = note()
+        self._refresh()
+
+    @param.depends("app.derived", watch=True)
+    def _on_derived(self):
+        self._refresh()
+
+    @param.depends("app.selected", watch=True)
+    def _on_selected(self):
+        self._highlight()
 
     @while_shown
     @batched
-    def update(self, *_):
+    def _refresh(self):
         d = self.app.derived
-        if d is None:
-            return
-        pl, names = d.planets, [str(n) for n in d.planet_names]
-        tsm = as_floats(pl["tsm"])
-        self.figure.x_range.factors = names
-        replace_data(self.sources["bars"], {
-            "name": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "esm": as_floats(pl["esm"]),
-            "depth": as_floats(pl["transit_depth_ppm"]), "colour": palette.planet_colours(len(names)),
-            **self._outline(names)})
-        notes = [] if np.isfinite(tsm).any() else [
-            "TSM needs the star's J magnitude and ESM its K magnitude (j_mag, k_mag in the file)."]
+        self.plot.update(**self._layer_data())
+        self.table.value = self._frame()
+        tsm = as_floats(d.planets["tsm"])
+        notes = []
+        if not np.isfinite(tsm).any():
+            notes.append("TSM needs the star's J magnitude and ESM its K magnitude (j_mag, k_mag in the file).")
+        notes.append("Dashes on the bars: the TSM above which Kempton et al. 2018 suggest follow-up at the "
+                     "planet's radius (10 below 1.5 R\u2295, 90 from 1.5 to 10 R\u2295; none from 10 R\u2295).")
         caption = interval_caption(d)
         if caption:
-            notes.append(f'<span style="color:#444">"+err \u2212err" columns: {caption}</span>')
-        self.note.object = "<br>".join(notes)
-        self.table.value = observability_frame(d)
+            notes.append(f"Error bars: {escape(caption)}.")
+        self.caption.object = " ".join(notes)
+        self.caution.object = caution_html(self.quantities, d)
+        self._sync_table()
+
+    @while_shown
+    @batched
+    def _highlight(self):
+        data = self.plot.data["bars"]
+        self.plot.update(bars={**data, **self._outline(data["planet"])})
         self._sync_table()
 
     def _outline(self, names) -> dict:
         chosen = [n == self.app.selected for n in names]
-        return {"line_width": [3.0 if c else 0.5 for c in chosen],
+        return {"line_width": np.array([3.0 if c else 0.6 for c in chosen]),
                 "line_colour": [palette.HIGHLIGHT_COLOUR if c else "#333333" for c in chosen]}
 
-    @while_shown
-    @batched
-    def _highlight(self, *_):
-        self.sources["bars"].data.update(self._outline(list(self.sources["bars"].data["name"])))
+    def _layer_data(self) -> dict:
+        d = self.app.derived
+        names = [str(n) for n in d.planet_names]
+        tsm = as_floats(d.planets["tsm"])
+        found = interval(d, "planets", "tsm")
+        threshold = tsm_follow_up_threshold(as_floats(d.planets["radius_rearth"]))
+        shown = np.concatenate([tsm, found[1] if found else [], threshold])
+        shown = shown[np.isfinite(shown)]
+        y_range = (0.0, 1.15 * float(shown.max()) if shown.size and shown.max() > 0 else 1.0)
+        bars_ = {"planet": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "colour": self.colours(names),
+                 "esm": as_floats(d.planets["esm"]), "depth": as_floats(d.planets["transit_depth_ppm"]),
+                 "tsm_range": [f"{lo:.3g}\u2013{hi:.3g}" if np.isfinite(lo) and np.isfinite(hi) else ""
+                               for lo, hi in zip(*found)] if found else [""] * len(names),
+                 "y_range": y_range, **self._outline(names)}
+        # a bar of no length for every planet without an interval: Bokeh's whiskers must not start out empty
+        # (a Whisker added to a plot with no data has no view in the page when data come later)
+        lo, hi = found if found else (tsm, tsm)
+        keep = np.isfinite(tsm) & np.isfinite(lo) & np.isfinite(hi)
+        errors_ = {"planet": names, "tsm": np.where(keep, tsm, 0.0),
+                   "minus": np.where(keep, np.maximum(tsm - lo, 0.0), 0.0),
+                   "plus": np.where(keep, np.maximum(hi - tsm, 0.0), 0.0),
+                   "label": "16th\u201384th percentiles" if found else "", "y_range": y_range}
+        has = np.isfinite(threshold) & np.isfinite(tsm)
+        thresholds_ = {"planet": [n for n, k in zip(names, has) if k], "threshold": threshold[has],
+                       "label": "follow-up threshold (Kempton et al. 2018)" if has.any() else "",
+                       "y_range": y_range}
+        return {"bars": bars_, "errors": errors_, "thresholds": thresholds_}
+
+    def _frame(self):
+        d = self.app.derived
+        return table_frame(d, VIEW, "planets", {"planet": d.planet_names}, self.quantities)
 
     def panel(self):
-        return pn.Column(pn.pane.Bokeh(self.figure, sizing_mode="stretch_width"), self.note, self.table,
-                         sizing_mode="stretch_width")
+        return pn.Column(pn.pane.HoloViews(self.plot.live(), sizing_mode="stretch_width", linked_axes=False),
+                         self.caption, self.table, self.caution, sizing_mode="stretch_width")
+
+    def figure(self, backend: str | None = None):
+        return self.plot.figure(backend)

@@ -2,152 +2,273 @@
 
 A matrix observer x body of the largest apparent diameter (at the closest
 approach of the two orbits, ``Derived.skies``), in units of the Moon's
-diameter seen from Earth, and for the selected observer a bar chart of the
-same values. These are geometric maxima on fixed Keplerian orbits, not
-predictions of a given night.
+diameter seen from Earth, on a logarithmic colour scale made for
+colour-vision deficiency; for the selected observer a bar chart of the
+same values against the Moon (with the 16th-84th percentiles when there
+are draws) and the registry's sky table. These are geometric maxima on
+fixed Keplerian orbits, not predictions of a given night. Below, the sky
+from the selected planet at the app's time (:mod:`.sky_from`).
 """
 
 from __future__ import annotations
 
+import holoviews as hv
 import numpy as np
 import panel as pn
-from bokeh.models import ColorBar, FactorRange, Label, LogColorMapper, Span, Title
-from bokeh.palettes import Cividis256
+import param
 
 from . import palette
-from .common import (add_hover, follow, batched, calm_selection, empty_source, interval, interval_caption,
-                     new_figure, replace_data, span_texts, watch_taps, while_shown)
+from .common import (View, section, set_section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, span_texts,
+                     while_shown)
+from .plotting import LayeredPlot, Styles, texts
 from .sky_from import SkyFromView
+from .tables import caution_html, quantities_of, table_frame, table_widget
 
+VIEW = "skies"
 #: above this many planets the values are no longer printed inside the cells
 MAX_PLANETS_WITH_CELL_TEXT = 12
 STAR_FACTOR = "star"
+MOON_DIM = hv.Dimension("moon_ratio", label="largest apparent diameter [Moon diameters from Earth]")
 
 
 def _cell_text_colour(values, low: float, high: float) -> list[str]:
-    """Black text on the light (high) end of Cividis, white on the dark end."""
+    """Black text on the light (high) end of the colour scale, white on the dark end."""
     span = np.log(high) - np.log(low) if high > low else 1.0
     t = (np.log(np.maximum(values, low)) - np.log(low)) / span
     return ["#000000" if v > 0.55 else "#ffffff" for v in t]
 
 
-class SkiesView:
+def _grid_dims(d):
+    return [hv.Dimension("body", label="body seen", values=d["bodies"]),
+            hv.Dimension("observer", label="observer (planet)", values=d["observers"])]
+
+
+CELL_VDIMS = ["arcsec", "distance", "moon_range", "arcsec_range"]
+
+
+def cells(d):
+    columns = {k: d[k] for k in ("body", "observer", "moon_ratio", *CELL_VDIMS)}
+    for k in ("body", "observer", "moon_range", "arcsec_range"):
+        columns[k] = texts(columns[k])
+    return hv.HeatMap(columns, _grid_dims(d), [MOON_DIM.clone(range=d["colour_range"]), *CELL_VDIMS],
+                      group="SkiesMatrix", label="")
+
+
+def cell_texts(d):
+    return hv.Labels((texts(d["body"]), texts(d["observer"]), texts(d["text"]), texts(d["text_colour"])), _grid_dims(d),
+                     ["text", "text_colour"],
+                     group="SkiesCellText")
+
+
+def row(d):
+    return hv.HeatMap((texts(d["body"]), texts(d["observer"]), np.ones(len(d["body"]))), _grid_dims(d), ["one"],
+                      group="SkiesRow", label="")
+
+
+def bars(d):
+    columns = {k: d[k] for k in ("body", "moon_ratio", "colour", "arcsec", "distance", "moon_range")}
+    for k in ("body", "colour", "moon_range"):
+        columns[k] = texts(columns[k])
+    return hv.Bars(columns,
+                   [hv.Dimension("body", label="body seen")],
+                   [MOON_DIM.clone(range=d["y_range"]), "colour", "arcsec", "distance", "moon_range"],
+                   group="SkiesBars", label="largest diameter")
+
+
+def bar_errors(d):
+    return hv.ErrorBars((texts(d["body"]), d["moon_ratio"], d["minus"], d["plus"]),
+                        [hv.Dimension("body", label="body seen")],
+                        [MOON_DIM.clone(range=d["y_range"]), "minus", "plus"], group="SkiesBarRange", label=d["label"])
+
+
+def moon_line(d):
+    return hv.HLine(1.0, group="SkiesMoon")
+
+
+MATRIX_LAYERS = {"cells": cells, "texts": cell_texts, "row": row}
+BAR_LAYERS = {"bars": bars, "errors": bar_errors, "moon": moon_line}
+MATRIX_TITLE = "Largest apparent diameter of each body in each planet's sky"
+MATRIX_STYLES = Styles(
+    frame={"bokeh": dict(responsive=True, height=470, toolbar="above", title=MATRIX_TITLE,
+                         fontsize={"title": "13px", "labels": "12px", "xticks": "12px", "yticks": "12px"}),
+           "matplotlib": dict(fig_inches=(8, 6), title=MATRIX_TITLE)},
+    bokeh={
+        "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, line_color="white",
+                                    tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
+                                    colorbar_opts={"title": "\u00d7 Moon's diameter from Earth"},
+                                    hover_tooltips=[("observer", "@observer"), ("body", "@body"),
+                                                    ("largest diameter", "@moon_ratio{0.000} \u00d7 the Moon"),
+                                                    ("16th\u201384th pct", "@moon_range"),
+                                                    ("", "@arcsec{0.0} arcsec"), ("", "@arcsec_range arcsec"),
+                                                    ("closest distance", "@distance{0.00000} au")]),
+        "Labels.SkiesCellText": dict(text_color=hv.dim("text_colour"), text_font_size="11px"),
+        "HeatMap.SkiesRow": dict(fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, cmap=["#000000"]),
+    },
+    matplotlib={
+        "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True),
+        "Labels.SkiesCellText": dict(color=hv.dim("text_colour"), size=8),
+        "HeatMap.SkiesRow": dict(alpha=0.0),
+    })
+BAR_STYLES = Styles(
+    frame={"bokeh": dict(responsive=True, height=330, toolbar="above", legend_position="right",
+                         fontsize={"title": "13px", "labels": "12px"}, show_grid=True),
+           "matplotlib": dict(fig_inches=(8, 3.5), legend_position="right")},
+    bokeh={
+        "Bars.SkiesBars": dict(color=hv.dim("colour"), line_color="#333333", tools=["hover"],
+                               hover_tooltips=[("body", "@body"), ("largest diameter",
+                                                                   "@moon_ratio{0.000} \u00d7 the Moon"),
+                                               ("16th\u201384th pct", "@moon_range"), ("", "@arcsec{0.0} arcsec"),
+                                               ("closest distance", "@distance{0.00000} au")]),
+        "ErrorBars.SkiesBarRange": dict(color=palette.INK, line_width=1.5),
+        "HLine.SkiesMoon": dict(color="#555555", line_dash="dashed", line_width=1.2),
+    },
+    matplotlib={
+        "Bars.SkiesBars": dict(color=hv.dim("colour"), edgecolor="#333333"),
+        "ErrorBars.SkiesBarRange": dict(color=palette.INK, linewidth=1.2),
+        "HLine.SkiesMoon": dict(color="#555555", linestyle="--", linewidth=1.0),
+    })
+
+
+class SkiesView(View):
     """The "Neighbour skies" view of one app."""
 
     title = "Neighbour skies"
-    tab = title  # the tab the view is shown in
 
-    def __init__(self, app):
-        self.app = app
-        self.mapper = LogColorMapper(palette=Cividis256, low=0.01, high=10.0)
-        matrix = new_figure("Largest apparent diameter of each body in each planet's sky",
-                            "body seen", "observer (planet)", tap=True, height=460,
-                            x_range=FactorRange(), y_range=FactorRange())
-        matrix.xgrid.grid_line_color = matrix.ygrid.grid_line_color = None
-        matrix.xaxis.major_label_text_font_size = matrix.yaxis.major_label_text_font_size = "12px"
-        self.matrix = matrix
-        columns = ("observer", "body", "moon_ratio", "arcsec", "distance", "text", "text_colour",
-                   "moon_range", "arcsec_range")
-        self.sources = {"cells": empty_source(*columns), "row": empty_source("observer", "body"),
-                        "bars": empty_source("body", "moon_ratio", "arcsec", "distance", "colour",
-                                             "moon_range", "arcsec_range")}
-        #: tooltip lines added when there are Monte Carlo intervals
-        self.range_tooltips = [("16th\u201384th pct", "@moon_range x the Moon"), ("", "@arcsec_range arcsec")]
-        s = self.sources
-        cells = matrix.rect(x="body", y="observer", width=1, height=1, source=s["cells"], line_color="white",
-                            fill_color={"field": "moon_ratio", "transform": self.mapper})
-        matrix.text(x="body", y="observer", text="text", text_color="text_colour", text_align="center",
-                    text_baseline="middle", text_font_size="11px", source=s["cells"])
-        row = matrix.rect(x="body", y="observer", width=0.94, height=0.9, fill_alpha=0,
-                          line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, source=s["row"])
-        calm_selection(cells)
-        calm_selection(row)
-        self.cell_tooltips = [("observer", "@observer"), ("body", "@body"),
-                              ("largest diameter", "@moon_ratio{0.000} x the Moon from Earth"),
-                              ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")]
-        self.cell_hover = add_hover(matrix, [cells], self.cell_tooltips)
-        matrix.add_layout(ColorBar(color_mapper=self.mapper, title="x Moon's diameter from Earth",
-                                   title_text_font_size="11px", width=12), "right")
-        watch_taps(s["cells"], app, "observer")
-
-        bars = new_figure("", "body seen", "largest apparent diameter [Moon diameters from Earth]",
-                          height=340, x_range=FactorRange())
-        bars.xgrid.grid_line_color = None
-        self.bars = bars
-        bar = bars.vbar(x="body", top="moon_ratio", width=0.7, fill_color="colour", line_color="#333333",
-                        source=s["bars"])
-        calm_selection(bar)
-        bars.y_range.start = 0
-        bars.add_layout(Span(location=1.0, dimension="width", line_color="#555555", line_dash="dashed"))
-        bars.add_layout(Label(x=4, y=1.0, x_units="screen", text="the Moon from Earth", text_font_size="11px",
-                              text_color="#555555", y_offset=3))
-        self.bar_tooltips = [("body", "@body"), ("largest diameter", "@moon_ratio{0.000} x the Moon"),
-                             ("", "@arcsec{0.0} arcsec"), ("closest distance", "@distance{0.00000} au")]
-        self.bar_hover = add_hover(bars, [bar], self.bar_tooltips)
-        # under the axis, where it can cover neither a bar nor the Moon line's label
-        self.error_note = Title(text="", text_font_size="11px", text_font_style="normal", text_color="#444444")
-        bars.add_layout(self.error_note, "below")
+    def __init__(self, app, **params):
+        super().__init__(app, **params)
+        self.quantities = quantities_of(VIEW, "skies")
+        self.matrix = LayeredPlot(MATRIX_LAYERS, MATRIX_STYLES, self._matrix_data())
+        self.bars = LayeredPlot(BAR_LAYERS, BAR_STYLES, self._bar_data())
+        self.tap = select_on_tap(app, self.matrix.dynamic["cells"], self._observer_of_cells)
+        self.bars_title = section()
+        self.table = table_widget(self._frame(), self.quantities, frozen=("body",), selectable=False)
+        self.caption = note()
+        self.caution = note()
         self.sky_from = SkyFromView(app)
-        follow(app, self.update, self._observer)
+        self._refresh()
 
-    @while_shown
-    @batched
-    def update(self, *_):
-        d = self.app.derived
-        if d is None:
-            return
-        sk, names = d.skies, d.planet_names
-        ratio = np.asarray(sk["moon_ratio"], dtype=float)
-        positive = ratio[np.isfinite(ratio) & (ratio > 0)]
-        low, high = (float(positive.min()), float(positive.max())) if positive.size else (0.01, 10.0)
-        if high <= low:
-            low, high = low / 2.0, high * 2.0
-        self.mapper.update(low=low, high=high)
-        show_text = len(names) <= MAX_PLANETS_WITH_CELL_TEXT
-        self.matrix.x_range.factors = [STAR_FACTOR, *names]
-        self.matrix.y_range.factors = list(reversed(names))
-        replace_data(self.sources["cells"], {
-            "observer": list(sk["observer"]), "body": list(sk["body"]), "moon_ratio": ratio,
-            "arcsec": sk["max_angular_diameter_arcsec"], "distance": sk["closest_distance_au"],
-            "text": [f"{v:.2g}" if show_text else "" for v in ratio],
-            "text_colour": _cell_text_colour(ratio, low, high), **self._range_columns(d, slice(None))})
-        ranged = bool(d.intervals)
-        self.cell_hover.tooltips = self.cell_tooltips + (self.range_tooltips if ranged else [])
-        self.bar_hover.tooltips = self.bar_tooltips + (self.range_tooltips if ranged else [])
-        caption = interval_caption(d)
-        self.error_note.text = f"ranges in the tooltips: {caption}" if caption else ""
+    def _observer_of_cells(self):
+        return self.matrix.data["cells"]["observer"]
+
+    @param.depends("app.derived", watch=True)
+    def _on_derived(self):
+        self._refresh()
+
+    @param.depends("app.selected", watch=True)
+    def _on_selected(self):
         self._observer()
 
     @while_shown
     @batched
-    def _observer(self, *_):
+    def _refresh(self):
+        self.matrix.update(**self._matrix_data())
+        d = self.app.derived
+        caption = interval_caption(d)
+        self.caption.object = ("Largest apparent diameters at the closest approach of the two orbits (the star's at "
+                               "the observer's periastron), in units of the Moon's diameter seen from Earth; "
+                               "geometric maxima on fixed Keplerian orbits."
+                               + (f" Ranges: {escape(caption)}." if caption else ""))
+        self._observer()
+
+    @while_shown
+    @batched
+    def _observer(self):
         d, chosen = self.app.derived, self.app.selected
-        if d is None:
-            return
+        self.matrix.update(row=self._row_data())
+        self.bars.update(**self._bar_data())
+        self.table.value = self._frame()
+        set_section(self.bars_title, f"In the sky of planet {escape(chosen)}: largest apparent diameters (dashed "
+                    "line: the Moon seen from Earth)" if chosen in d.planet_names else "Pick a planet to see its sky")
+        self.caution.object = caution_html(self.quantities, d)
+
+    # -- data ---------------------------------------------------------------------------------
+    def _rows_of_selected(self) -> np.ndarray:
+        d, chosen = self.app.derived, self.app.selected
+        observers = np.asarray(d.skies["observer"])
+        return np.flatnonzero(observers == chosen) if chosen in d.planet_names else np.zeros(0, dtype=int)
+
+    def _grid(self) -> dict:
+        names = [str(n) for n in self.app.derived.planet_names]
+        return {"bodies": [STAR_FACTOR, *names], "observers": list(reversed(names))}
+
+    def _matrix_data(self) -> dict:
+        d = self.app.derived
         sk, names = d.skies, d.planet_names
-        rows = np.flatnonzero(np.asarray(sk["observer"]) == chosen) if chosen in names else np.array([], int)
-        bodies = [str(b) for b in np.asarray(sk["body"])[rows]]
-        replace_data(self.sources["row"], {"observer": [chosen] * len(rows), "body": bodies})
-        colours = [palette.STAR_COLOUR if b == STAR_FACTOR and i == 0 else palette.body_colour(b, names)
-                   for i, b in enumerate(bodies)]
-        self.bars.x_range.factors = bodies
-        replace_data(self.sources["bars"], {
-            "body": bodies, "moon_ratio": np.asarray(sk["moon_ratio"], dtype=float)[rows],
-            "arcsec": np.asarray(sk["max_angular_diameter_arcsec"])[rows],
-            "distance": np.asarray(sk["closest_distance_au"])[rows], "colour": colours,
-            **self._range_columns(d, rows)})
-        self.bars.title.text = (f"In the sky of planet {chosen}: largest apparent diameters (closest approach)"
-                                if rows.size else "Pick a planet to see its sky")
-
-    @staticmethod
-    def _range_columns(d, rows) -> dict:
-        """"lo\u2013hi" texts of the moon ratio and the arcseconds for ``rows`` (blank without draws)."""
+        ratio = as_floats(sk["moon_ratio"])
+        positive = ratio[np.isfinite(ratio) & (ratio > 0)]
+        low, high = (float(positive.min()), float(positive.max())) if positive.size else (0.01, 10.0)
+        if high <= low:
+            low, high = low / 2.0, high * 2.0
+        show_text = len(names) <= MAX_PLANETS_WITH_CELL_TEXT
+        grid = self._grid()
         moon, arcsec = interval(d, "skies", "moon_ratio"), interval(d, "skies", "max_angular_diameter_arcsec")
-        count = len(np.asarray(d.skies["observer"])[rows])
-        return {"moon_range": span_texts(moon[0][rows], moon[1][rows], 3) if moon else [""] * count,
-                "arcsec_range": span_texts(arcsec[0][rows], arcsec[1][rows], decimals=1) if arcsec else [""] * count}
+        count = ratio.size
+        cells_ = {"body": [str(b) for b in sk["body"]], "observer": [str(o) for o in sk["observer"]],
+                  "moon_ratio": ratio, "arcsec": as_floats(sk["max_angular_diameter_arcsec"]),
+                  "distance": as_floats(sk["closest_distance_au"]),
+                  "moon_range": _spans(moon, 3) if moon else [""] * count,
+                  "arcsec_range": _spans(arcsec, None, decimals=1) if arcsec else [""] * count,
+                  "colour_range": (low, high), **grid}
+        texts = {"body": cells_["body"], "observer": cells_["observer"],
+                 "text": [f"{v:.2g}" if show_text else "" for v in ratio],
+                 "text_colour": _cell_text_colour(ratio, low, high), **grid}
+        return {"cells": cells_, "texts": texts, "row": self._row_data()}
 
+    def _row_data(self) -> dict:
+        d = self.app.derived
+        rows = self._rows_of_selected()
+        return {"body": [str(b) for b in np.asarray(d.skies["body"])[rows]],
+                "observer": [str(o) for o in np.asarray(d.skies["observer"])[rows]], **self._grid()}
+
+    def _bar_data(self) -> dict:
+        d = self.app.derived
+        rows = self._rows_of_selected()
+        bodies = [str(b) for b in np.asarray(d.skies["body"])[rows]]
+        ratio = as_floats(d.skies["moon_ratio"])[rows]
+        moon = interval(d, "skies", "moon_ratio")
+        top = float(np.nanmax(np.concatenate([ratio, moon[1][rows] if moon else [], [1.0]])))
+        y_range = (0.0, 1.12 * top)
+        bars_ = {"body": bodies, "moon_ratio": ratio, "colour": self.colours(bodies),
+                 "arcsec": as_floats(d.skies["max_angular_diameter_arcsec"])[rows],
+                 "distance": as_floats(d.skies["closest_distance_au"])[rows],
+                 "moon_range": _spans((moon[0][rows], moon[1][rows]), 3) if moon else [""] * len(rows),
+                 "y_range": y_range}
+        # a bar of no length without an interval: Bokeh's whiskers must not start out empty (a Whisker added
+        # to a plot with no data has no view in the page when data come later)
+        lo, hi = (moon[0][rows], moon[1][rows]) if moon else (ratio, ratio)
+        errors = {"body": bodies, "moon_ratio": ratio, "minus": np.maximum(ratio - lo, 0.0),
+                  "plus": np.maximum(hi - ratio, 0.0), "label": "16th\u201384th percentiles" if moon else "",
+                  "y_range": y_range}
+        return {"bars": bars_, "errors": errors, "moon": {"y_range": y_range}}
+
+    def _frame(self):
+        d = self.app.derived
+        rows = self._rows_of_selected()
+        sub = _SkyRows(d, rows)
+        return table_frame(sub, VIEW, "skies", {"body": [str(b) for b in np.asarray(d.skies["body"])[rows]]},
+                           self.quantities)
+
+    # -- pages and figures ----------------------------------------------------------------------
     def panel(self):
-        return pn.Column(pn.pane.Bokeh(self.matrix, sizing_mode="stretch_width"),
-                         pn.pane.Bokeh(self.bars, sizing_mode="stretch_width"), self.sky_from.panel(),
-                         sizing_mode="stretch_width")
+        return pn.Column(pn.pane.HoloViews(self.matrix.live(), sizing_mode="stretch_width", linked_axes=False),
+                         self.caption, self.bars_title,
+                         pn.pane.HoloViews(self.bars.live(), sizing_mode="stretch_width", linked_axes=False),
+                         self.table, self.caution, self.sky_from.panel(), sizing_mode="stretch_width")
+
+    def figure(self, backend: str | None = None):
+        return hv.Layout([self.matrix.figure(backend), self.bars.figure(backend), *self.sky_from.figure(backend)]
+                         ).cols(1)
+
+
+class _SkyRows:
+    """The sky table of a derived state restricted to some rows (the selected observer's), for table_frame."""
+
+    def __init__(self, derived, rows):
+        self.skies = {k: np.asarray(v)[rows] for k, v in derived.skies.items()}
+        found = derived.intervals.get("skies", {}) if derived.intervals else {}
+        self.intervals = {"skies": {k: (np.asarray(lo)[rows], np.asarray(hi)[rows]) for k, (lo, hi) in found.items()}}
+        self.fractions = {}
+
+
+def _spans(found, digits, decimals=None) -> list[str]:
+    return span_texts(found[0], found[1], digits or 4, decimals)

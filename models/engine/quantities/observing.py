@@ -26,8 +26,9 @@ def transit_duration_h(c):
                                                 c.impact_parameter, c.eccentricity, c.omega_rad) / HOUR
 
 
-@quantity("planets", label="impact b", description="impact parameter of the transit, in stellar radii",
-          source="winn2010", group=_OBS, views=("observability",))
+@quantity("planets", label="impact parameter", unit_label="R*",
+          description="impact parameter of the transit, in stellar radii", source="winn2010", group=_OBS,
+          views=("observability",))
 def impact_parameter(c):
     return observability.impact_parameter(c.a_m, c.inclination_rad, c.star_radius_m, c.eccentricity, c.omega_rad)
 

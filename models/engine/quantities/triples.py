@@ -14,12 +14,14 @@ def triple_relation(c):
     return p, q
 
 
-@quantity("triples", key="p", kind="int", label="p", description="p of the relation", group=_TRIPLES)
+@quantity("triples", key="p", kind="int", label="p", description="p of the relation", group=_TRIPLES,
+          views=("ladder",))
 def triple_p(c):
     return c.triple_relation[0]
 
 
-@quantity("triples", key="q", kind="int", label="q", description="q of the relation", group=_TRIPLES)
+@quantity("triples", key="q", kind="int", label="q", description="q of the relation", group=_TRIPLES,
+          views=("ladder",))
 def triple_q(c):
     return c.triple_relation[1]
 
