@@ -11,6 +11,8 @@ from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
 from orbitdeck.models.sky_view import sky_from
 
+pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
+
 
 @pytest.fixture
 def app():
@@ -32,34 +34,42 @@ def test_directions_reproduce_the_elongations(app):
 def test_discs_are_drawn_at_their_angular_size(app):
     app.selected = app.elements.names[1]
     view = SkyFromView(app)
-    data = view.sources["discs"].data
+    marks, discs = view.sky.data["marks"], view.sky.data["discs"]
     sky = sky_from(app.system, app.selected, app.time, a_au=app.elements.a_au)
-    assert list(data["body"]) == sky["bodies"]
-    # radius in degrees = angular diameter [arcsec] / 2 / 3600
-    assert np.asarray(data["radius"]) == pytest.approx(sky["angular_diameter_arcsec"] / 7200.0)
+    assert list(marks["body"]) == sky["bodies"]
+    # radius in degrees = angular diameter [arcsec] / 2 / 3600: every point of a disc's outline lies that far
+    # from the body's direction
+    radius = [np.hypot(xs - x, ys - y).mean() for xs, ys, x, y in zip(discs["xs"], discs["ys"], marks["longitude"],
+                                                                      marks["latitude"])]
+    assert np.asarray(radius) == pytest.approx(sky["angular_diameter_arcsec"] / 7200.0)
     # the Moon from Earth as reference: 2 arcsin(1737.4 / 384400) = 0.518 deg (IAU radius, mean distance)
-    assert view.sources["moon"].data["radius"][0] * 2 == pytest.approx(MOON_DEG)
+    moon = view.sky.data["moon"]
+    x, y = moon["x"][:-1], moon["y"][:-1]          # the outline's points, the closing one left out
+    assert 2 * np.hypot(x - x.mean(), y - y.mean()).mean() == pytest.approx(MOON_DEG)
     assert MOON_DEG == pytest.approx(0.518, abs=0.001)
 
 
 def test_close_approach_table_lists_minima_after_the_time(app):
     app.selected = app.elements.names[0]
     view = SkyFromView(app)
-    table = view.table.value
-    assert len(table) > 0 and (table["time [BJD_TDB]"] > app.time).all()
-    assert list(table["time [BJD_TDB]"]) == sorted(table["time [BJD_TDB]"])
+    times = [float(t) for t in view.table.value["time [BJD_TDB]"]]
+    assert len(times) > 0 and all(t > app.time for t in times)
+    assert times == sorted(times)
 
 
 def test_time_player_steps_the_shared_time(app):
     player = TimePlayer(app)
     start = app.time
-    player.step.value = 0.5
+    player.step.value = "0.5"
     player.advance(+1)
     player.advance(+1)
     player.advance(-1)
     assert app.time == pytest.approx(start + 0.5)
     view = SkyFromView(app)
-    assert f"{app.time:.4f}" in view.sky.title.text
+    assert f"{app.time:.4f}" in view.sky_title.object
+    player.step.value = "-2"         # not a step: the buttons keep the default one
+    player.advance(+1)
+    assert app.time == pytest.approx(start + 0.5 + player.step_days())
 
 
 def test_names_of_bodies_close_in_the_sky_take_turns_above_and_below():
@@ -74,3 +84,24 @@ def test_names_of_bodies_close_in_the_sky_take_turns_above_and_below():
     assert offsets[3] < 0 < offsets[4] and offsets[5] < offsets[3]   # three: above, below, further above
     assert len(set(offsets[3:6])) == 3
     assert name_offsets([], []).size == 0
+
+
+def test_the_time_plots_name_their_lines_and_keep_one_unit_each(app):
+    app.selected = app.elements.names[1]
+    view = SkyFromView(app)
+    diameters = view.tracks.figure()
+    (overlay,) = diameters
+    # one line per body seen, named (the legend), all in arcseconds
+    assert list(overlay.keys()) == list(view.sky.data["marks"]["body"])
+    assert {curve.vdims[0].unit for curve in overlay} == {"arcsec"}
+    assert all(curve.label for curve in overlay)
+    # the elongation plot follows one chosen body, in degrees
+    (elongation,) = view.elongation.figure()
+    assert elongation.vdims[0].unit == "deg" and elongation.label == view.body
+    chosen = app.elements.names[2]
+    view.body_select.value = chosen
+    (elongation,) = view.elongation.figure()
+    track = sky_from(app.system, app.selected, app.time + np.linspace(0.0, view.window, 400), a_au=app.elements.a_au)
+    index = track["bodies"].index(chosen)
+    np.testing.assert_allclose(elongation.dimension_values(1), track["elongation_deg"][:, index])
+    assert elongation.label == chosen

@@ -23,6 +23,7 @@ from bokeh.document import Document
 
 from orbitdeck.dashboard.app import OrbitDeckApp
 from orbitdeck.dashboard.serve import server_settings, warm_up
+from orbitdeck.dashboard.views import plotting
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -39,20 +40,14 @@ def served_app():
 
 
 def flux_axes(app) -> list[float]:
-    return list(app.views["Flux & temperature"].sources["planets"].data["a"])
+    return list(app.views["Flux & temperature"].plot.data["planets"]["a"])
 
 
-def same(ours, theirs) -> bool:
-    """Equal columns: numbers with NaN equal to NaN, texts, or lists of arrays (multi-line glyphs)."""
-    if len(ours) != len(theirs):
-        return False
-    try:
-        return np.array_equal(np.asarray(ours, dtype=float), np.asarray(theirs, dtype=float), equal_nan=True)
-    except (TypeError, ValueError):
-        pass
-    if all(isinstance(x, str) for x in list(ours) + list(theirs)):
-        return list(ours) == list(theirs)
-    return all(same(np.atleast_1d(a), np.atleast_1d(b)) for a, b in zip(ours, theirs))
+def layers_of(view) -> dict:
+    """Every layer's data of every plot of a view, by plot and layer name."""
+    plots = {name: getattr(view, name) for name in ("plot", "matrix", "bars", "sky", "tracks", "elongation")
+             if hasattr(view, name) and hasattr(getattr(view, name), "data")}
+    return {(p, layer): data for p, plot in plots.items() for layer, data in plot.data.items()}
 
 
 def open_tab(app, title: str) -> None:
@@ -67,14 +62,15 @@ def test_hidden_views_wait_and_catch_up_when_their_tab_opens():
     expected.star.mass = 0.2
     a = derive(expected).planets["semi_major_axis_au"]
     # the shown tab follows at once
-    assert list(app.views["Layout"].sources["planets"].data["a"]) == pytest.approx(a, rel=1e-12)
+    assert list(app.views["Layout"].plot.data["planets"]["a"]) == pytest.approx(a, rel=1e-12)
     # a hidden view built before the change waits; the others are not built by it
     assert app.stale_tabs() == ["Flux & temperature"]
     assert app.views.built() == ["Layout", "Flux & temperature"]
     assert flux_axes(app) == before
     open_tab(app, "Flux & temperature")
     assert flux_axes(app) == pytest.approx(a, rel=1e-12)
-    assert list(app.views["Flux & temperature"].table.value["a [au]"]) == pytest.approx(a, rel=1e-12)
+    table = app.views["Flux & temperature"].tables["Orbits and irradiation"].value
+    assert list(table["semi_major_axis_au"]) == [format(v, ".4g") for v in a]
     assert "Flux & temperature" not in app.stale_tabs()
 
 
@@ -88,14 +84,14 @@ def test_a_view_that_waited_matches_one_that_followed_every_change():
     for title in TITLES[1:]:
         open_tab(waiting, title)
     for title in TITLES:
-        for key, source in waiting.views[title].sources.items():
-            ours, theirs = source.data, following.views[title].sources[key].data
-            assert set(ours) == set(theirs), (title, key)
-            for column in ours:
-                assert same(ours[column], theirs[column]), (title, key, column)
-    sky_from = waiting.views["Neighbour skies"].sky_from
-    assert sky_from.table.value.equals(following.views["Neighbour skies"].sky_from.table.value)
-    assert sky_from.sky.title.text == following.views["Neighbour skies"].sky_from.sky.title.text
+        ours, theirs = layers_of(waiting.views[title]), layers_of(following.views[title])
+        assert ours.keys() == theirs.keys(), title
+        for key in ours:
+            assert plotting.same(ours[key], theirs[key]), (title, key)
+    sky_from, followed = waiting.views["Neighbour skies"].sky_from, following.views["Neighbour skies"].sky_from
+    assert sky_from.table.value.equals(followed.table.value)
+    assert all(plotting.same(data, layers_of(followed)[key]) for key, data in layers_of(sky_from).items())
+    assert sky_from.sky_title.object == following.views["Neighbour skies"].sky_from.sky_title.object
     assert waiting.stale_tabs() == []
 
 
@@ -103,12 +99,12 @@ def test_a_shown_tab_follows_selection_at_once_and_hidden_ones_on_opening():
     app = served_app()
     open_tab(app, "Observability")
     app.selected = "d"
-    names = list(app.views["Observability"].sources["bars"].data["name"])
-    widths = list(app.views["Observability"].sources["bars"].data["line_width"])
+    names = list(app.views["Observability"].plot.data["bars"]["planet"])
+    widths = list(app.views["Observability"].plot.data["bars"]["line_width"])
     assert widths[names.index("d")] == max(widths) and widths.count(max(widths)) == 1
     assert "Observability" not in app.stale_tabs() and "Layout" in app.stale_tabs()
     open_tab(app, "Layout")
-    sizes = list(app.views["Layout"].sources["planets"].data["size"])
+    sizes = list(app.views["Layout"].plot.data["planets"]["size"])
     assert sizes[names.index("d")] == max(sizes) and sizes.count(max(sizes)) == 1
 
 

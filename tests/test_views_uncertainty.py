@@ -7,6 +7,8 @@ from independent draws of the periods (numpy's normal generator).
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 
@@ -47,42 +49,42 @@ def app():
     return OrbitDeckApp(load_system(demo_path()), samples=SAMPLES, uncertainty=True)
 
 
-def test_layout_bands_are_the_semi_major_axis_intervals(app):
+def test_layout_tooltips_carry_the_semi_major_axis_intervals(app):
     lo, hi = app.derived.intervals["planets"]["semi_major_axis_au"]
-    data = app.views["Layout"].sources["bands"].data
-    np.testing.assert_array_equal(data["inner"], lo)
-    np.testing.assert_array_equal(data["outer"], hi)
-    # the nominal semi-major axis lies inside its band, and the bands have width
+    layout = app.views["Layout"]
+    assert layout.plot.data["planets"]["a_range"] == [f"{a:.5g}\u2013{b:.5g}" for a, b in zip(lo, hi)]
+    # the nominal semi-major axis lies inside its interval, and the intervals have width
     a = app.derived.planets["semi_major_axis_au"]
     assert np.all(lo < a) and np.all(a < hi)
-    assert "16th\u201384th percentiles" in app.views["Layout"].note.text
-    assert f"{SAMPLES} Monte Carlo draws" in app.views["Layout"].note.text
+    assert f"{SAMPLES} Monte Carlo draws" in layout.caption.object
 
 
-def test_flux_error_bars_are_the_insolation_intervals(app):
-    lo, hi = app.derived.intervals["planets"]["insolation_earth"]
+def test_flux_bars_are_the_insolation_and_radius_intervals(app):
+    s_lo, s_hi = app.derived.intervals["planets"]["insolation_earth"]
+    r_lo, r_hi = app.derived.intervals["planets"]["radius_rearth"]
     flux = app.views["Flux & temperature"]
-    data = flux.sources["errors"].data
-    np.testing.assert_array_equal(data["lower"], lo)
-    np.testing.assert_array_equal(data["upper"], hi)
-    np.testing.assert_array_equal(data["R"], app.derived.planets["radius_rearth"])
-    table = flux.table.value
-    s, (_, t_hi) = app.derived.planets["insolation_earth"], app.derived.intervals["planets"]["teq_k"]
-    first = table["S err (16\u201384%)"].iloc[0]
-    plus, minus = first.split(" ")
-    assert float(plus[1:]) == pytest.approx(hi[0] - s[0], rel=2e-3)
-    assert float(minus[1:]) == pytest.approx(s[0] - lo[0], rel=2e-3)
-    assert "Teq err (16\u201384%)" in table.columns
-    assert float(table["Teq err (16\u201384%)"].iloc[-1].split(" ")[0][1:]) == pytest.approx(
-        t_hi[-1] - app.derived.planets["teq_k"][-1], rel=2e-3)
+    bars = flux.plot.data["ranges"]
+    n = len(s_lo)
+    np.testing.assert_array_equal(bars["x0"][:n], s_lo)
+    np.testing.assert_array_equal(bars["x1"][:n], s_hi)
+    np.testing.assert_array_equal(bars["y0"][:n], app.derived.planets["radius_rearth"])
+    np.testing.assert_array_equal(bars["y0"][n:], r_lo)
+    np.testing.assert_array_equal(bars["y1"][n:], r_hi)
+    assert bars["label"] == "16th\u201384th percentiles"
+    table = flux.tables["Orbits and irradiation"].value
+    s = app.derived.planets["insolation_earth"]
+    spread = re.findall(r">([^<]*)</span>", table["insolation_earth"].iloc[0])[1]
+    plus, minus = spread.split(" ")
+    assert float(plus[1:]) == pytest.approx(s_hi[0] - s[0], rel=0.06)
+    assert float(minus[1:]) == pytest.approx(s[0] - s_lo[0], rel=0.06)
 
 
-def test_ladder_error_bars_are_the_period_ratio_intervals(app):
+def test_ladder_bars_are_the_period_ratio_intervals(app):
     lo, hi = app.derived.intervals["pairs"]["period_ratio"]
-    data = app.views["Period ladder"].sources["errors"].data
-    np.testing.assert_array_equal(data["lower"], lo)
-    np.testing.assert_array_equal(data["upper"], hi)
-    np.testing.assert_array_equal(data["x"], np.arange(len(lo)))
+    data = app.views["Period ladder"].plot.data["errors"]
+    np.testing.assert_array_equal(data["y0"], lo)
+    np.testing.assert_array_equal(data["y1"], hi)
+    np.testing.assert_array_equal(data["x0"], np.arange(len(lo)))
 
 
 def test_ladder_intervals_match_independent_period_draws():
@@ -93,9 +95,9 @@ def test_ladder_intervals_match_independent_period_draws():
     rng = np.random.default_rng(1)
     ratio = rng.normal(5.89, 0.08, 200_000) / rng.normal(4.0, 0.001, 200_000)
     expected = np.percentile(ratio, [16, 84])
-    data = app.views["Period ladder"].sources["errors"].data
-    assert data["lower"][0] == pytest.approx(expected[0], abs=3e-3)
-    assert data["upper"][0] == pytest.approx(expected[1], abs=3e-3)
+    data = app.views["Period ladder"].plot.data["errors"]
+    assert data["y0"][0] == pytest.approx(expected[0], abs=3e-3)
+    assert data["y1"][0] == pytest.approx(expected[1], abs=3e-3)
 
 
 def test_ladder_tooltip_fraction_is_the_other_nearest_fraction():
@@ -105,32 +107,36 @@ def test_ladder_tooltip_fraction_is_the_other_nearest_fraction():
     fraction = app.derived.extra["other_nearest_fraction"]
     # 5.89/4 = 1.4725, near 3:2 (1.5) and 7:5 (1.4): a sizeable share of draws is nearer another rung
     assert 0.05 < fraction[0] < 0.95
-    np.testing.assert_array_equal(ladder.sources["pairs"].data["other_fraction"], fraction)
-    assert ladder.sources["pairs"].data["other_text"][0] == (
-        f"in {100 * fraction[0]:.1f}% of draws another commensurability is nearer")
-    assert ("other rungs", "@other_text") in ladder.hover.tooltips
+    pairs = ladder.plot.data["pairs"]
+    assert pairs["other_text"][0] == f"in {100 * fraction[0]:.1f}% of draws another commensurability is nearer"
     d_lo, d_hi = app.derived.intervals["pairs"]["delta"]
-    assert ladder.sources["pairs"].data["delta_range"][0] == f"{d_lo[0]:.4g}\u2013{d_hi[0]:.4g}"
-    table = ladder.pairs_table.value
-    assert table["other rung nearer [% of draws]"].iloc[0] == pytest.approx(100 * fraction[0])
+    assert pairs["delta_range"][0] == f"{d_lo[0]:.4g}\u2013{d_hi[0]:.4g}"
 
 
 def test_skies_and_observability_show_ranges(app):
     skies = app.views["Neighbour skies"]
     lo, hi = app.derived.intervals["skies"]["moon_ratio"]
-    assert skies.sources["cells"].data["moon_range"][0] == f"{lo[0]:.3g}\u2013{hi[0]:.3g}"
-    assert any(label.startswith("16th") for label, _ in skies.cell_hover.tooltips)
+    assert skies.matrix.data["cells"]["moon_range"][0] == f"{lo[0]:.3g}\u2013{hi[0]:.3g}"
     rows = np.flatnonzero(np.asarray(app.derived.skies["observer"]) == app.selected)
-    assert skies.sources["bars"].data["moon_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo[rows], hi[rows])]
+    assert skies.bars.data["bars"]["moon_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo[rows], hi[rows])]
+    errors = skies.bars.data["errors"]
+    np.testing.assert_allclose(errors["moon_ratio"] - errors["minus"], lo[rows])
+    np.testing.assert_allclose(errors["moon_ratio"] + errors["plus"], hi[rows])
     # arcseconds to one decimal, as the nominal diameter beside them (tens of thousands for the star)
     lo, hi = app.derived.intervals["skies"]["max_angular_diameter_arcsec"]
-    assert skies.sources["cells"].data["arcsec_range"][0] == f"{lo[0]:.1f}\u2013{hi[0]:.1f}"
-    table = app.views["Observability"].table.value
-    for column in ("depth", "T14", "TSM", "K"):
-        assert f"{column} err (16\u201384%)" in table.columns
-    k, (k_lo, _) = app.derived.planets["rv_semi_amplitude_ms"], app.derived.intervals["planets"][
-        "rv_semi_amplitude_ms"]
-    assert float(table["K err (16\u201384%)"].iloc[0].split(" ")[1][1:]) == pytest.approx(k[0] - k_lo[0], rel=2e-3)
+    assert skies.matrix.data["cells"]["arcsec_range"][0] == f"{lo[0]:.1f}\u2013{hi[0]:.1f}"
+
+
+def test_tsm_bars_carry_their_intervals(app):
+    obs = app.views["Observability"]
+    lo, hi = app.derived.intervals["planets"]["tsm"]
+    tsm = app.derived.planets["tsm"]
+    errors = obs.plot.data["errors"]
+    np.testing.assert_allclose(errors["tsm"] - errors["minus"], lo)
+    np.testing.assert_allclose(errors["tsm"] + errors["plus"], hi)
+    assert errors["label"] == "16th\u201384th percentiles" and np.all(errors["plus"] > 0)
+    assert obs.plot.data["bars"]["tsm_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo, hi)]
+    np.testing.assert_allclose(errors["tsm"], tsm)
 
 
 def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
@@ -144,16 +150,15 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     monkeypatch.setattr(app_module, "derive", counting)
     app = OrbitDeckApp(load_system(demo_path()), samples=SAMPLES)
     assert calls == [(0, None)] and app.derived.intervals == {}
-    layout, flux, ladder = app.views["Layout"], app.views["Flux & temperature"], app.views["Period ladder"]
-    assert len(layout.sources["bands"].data["inner"]) == 0
+    flux, ladder, obs = app.views["Flux & temperature"], app.views["Period ladder"], app.views["Observability"]
+    assert len(flux.plot.data["ranges"]["x0"]) == 0 and not np.any(obs.plot.data["errors"]["plus"])
     calls.clear()
     app.samples = 1000  # switch off: a new sample count derives nothing
     assert calls == []
     app.uncertainty = True
     assert calls == [(1000, DEFAULT_SEED)]
-    assert len(layout.sources["bands"].data["inner"]) == 7
-    assert len(flux.sources["errors"].data["lower"]) == 7
-    assert len(ladder.sources["errors"].data["lower"]) == 6
+    assert len(flux.plot.data["ranges"]["x0"]) == 14
+    assert len(ladder.plot.data["errors"]["y0"]) == 6
     calls.clear()
     app.system.star.mass = app.system.star.mass * 1.02  # an edit with the switch on: one derivation with draws
     assert calls == [(1000, DEFAULT_SEED)]
@@ -164,18 +169,25 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     app.uncertainty = False
     assert calls == [(0, None)]
     assert app.derived.intervals == {}
-    for source in (layout.sources["bands"], flux.sources["errors"], ladder.sources["errors"]):
-        assert all(len(v) == 0 for v in source.data.values())
-    assert "err (16" not in " ".join(flux.table.value.columns)
-    assert ("other rungs", "@other_text") not in ladder.hover.tooltips
-    assert flux.error_note.text == "" and ladder.error_note.text == ""
+    assert len(flux.plot.data["ranges"]["x0"]) == 0 and len(ladder.plot.data["errors"]["y0"]) == 0
+    assert flux.plot.data["ranges"]["label"] == "" and obs.plot.data["errors"]["label"] == ""
+    assert "od-range" not in " ".join(flux.tables["Orbits and irradiation"].value["insolation_earth"])
+    assert "Monte Carlo" not in flux.caption.object
 
 
-def test_the_switch_widget_drives_the_app():
+def test_the_switch_and_the_draws_entry_drive_the_app():
     app = OrbitDeckApp(load_system(demo_path()), samples=SAMPLES)
-    app.controls.uncertainty.value = True
+    app.controls.uncertainty.value = [app.controls.uncertainty.options[0]]
     assert app.uncertainty and app.derived.samples == SAMPLES
     assert "16th\u201384th percentiles of 800 Monte Carlo draws" in app.controls.uncertainty_message.object
+    app.controls.samples.value = "1200"
+    assert app.samples == 1200 and app.derived.samples == 1200
+    app.controls.samples.value = "1200.5"
+    assert "whole number" in app.controls.samples_message.object and app.samples == 1200
+    app.controls.samples.value = "50"
+    assert "&gt;= 100" in app.controls.samples_message.object and app.samples == 1200
+    app.uncertainty = False
+    assert app.controls.uncertainty.value == []
 
 
 def test_snapshot_style_assignment_shows_intervals_with_the_switch_off():
@@ -183,7 +195,7 @@ def test_snapshot_style_assignment_shows_intervals_with_the_switch_off():
     app = OrbitDeckApp(system)
     app.derived = derive(system, samples=SAMPLES, seed=7)
     assert not app.uncertainty
-    np.testing.assert_array_equal(app.views["Layout"].sources["bands"].data["outer"],
-                                  app.derived.intervals["planets"]["semi_major_axis_au"][1])
-    np.testing.assert_array_equal(app.views["Flux & temperature"].sources["errors"].data["upper"],
+    np.testing.assert_array_equal(app.views["Period ladder"].plot.data["errors"]["y1"],
+                                  app.derived.intervals["pairs"]["period_ratio"][1])
+    np.testing.assert_array_equal(app.views["Flux & temperature"].plot.data["ranges"]["x1"][:7],
                                   app.derived.intervals["planets"]["insolation_earth"][1])

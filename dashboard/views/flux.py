@@ -20,7 +20,7 @@ import param
 from . import habitable, palette
 from .common import (View, section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap,
                      span_texts, while_shown)
-from .plotting import LayeredPlot, Styles, extent, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, extent, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
 VIEW = "flux"
@@ -93,8 +93,8 @@ def _hatch(plot, element):
 FRAME = {
     "bokeh": dict(responsive=True, height=430, logx=True, invert_xaxis=True, legend_position="right",
                   toolbar="above", active_tools=["wheel_zoom"], show_grid=True, xticks=S_TICKS, xformatter="%g",
-                  title="Insolation and radius (hotter to the left)", fontsize={"title": "13px", "labels": "12px"}),
-    "matplotlib": dict(logx=True, invert_xaxis=True, legend_position="right", fig_inches=(9, 4.6), aspect=1.9,
+                  title="Insolation and radius (hotter to the left)", fontsize=FONT_SIZES),
+    "matplotlib": dict(logx=True, invert_xaxis=True, legend_position="right", fig_size=250, aspect=1.9,
                        title="Insolation and radius (hotter to the left)"),
 }
 STYLES = Styles(

@@ -23,7 +23,7 @@ from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
 from .common import View, section, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
-from .plotting import LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
 VIEW = "ladder"
@@ -113,8 +113,8 @@ LAYERS = {"rungs3": _rungs(3), "rungs2": _rungs(2), "rungs1": _rungs(1), "rung_n
 TITLE = "Adjacent period ratios and the commensurabilities near them"
 STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=480, legend_position="right", toolbar="above", title=TITLE,
-                         xaxis=None, show_grid=False, fontsize={"title": "13px", "labels": "12px"}),
-           "matplotlib": dict(fig_inches=(9, 5), legend_position="right", title=TITLE, xaxis=None)},
+                         xaxis=None, show_grid=False, fontsize=FONT_SIZES),
+           "matplotlib": dict(fig_size=250, aspect=1.8, legend_position="right", title=TITLE, xaxis=None)},
     bokeh={
         "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], line_width=1.4),
         "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], line_width=1.1, line_dash="dashed"),

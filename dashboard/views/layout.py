@@ -25,7 +25,7 @@ from orbitdeck.models.constants import AU, R_SUN
 
 from . import habitable, palette
 from .common import View, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
-from .plotting import LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -175,8 +175,8 @@ LAYERS = {"hz": hz, "reference": reference, "orbits": orbits, "star": star, "hil
 FRAME = {
     "bokeh": dict(frame_width=500, frame_height=500, data_aspect=1, legend_position="right", toolbar="above",
                   active_tools=["wheel_zoom"], title="Top-down view of the orbits, to scale",
-                  fontsize={"title": "13px", "labels": "12px"}),
-    "matplotlib": dict(fig_inches=(8, 6), aspect="equal", legend_position="right",
+                  fontsize=FONT_SIZES),
+    "matplotlib": dict(fig_size=250, aspect="equal", legend_position="right",
                        title="Top-down view of the orbits, to scale"),
 }
 STYLES = Styles(
@@ -185,7 +185,8 @@ STYLES = Styles(
         "RGB.LayoutHZ": dict(),
         "Segments.LayoutReference": dict(color=palette.REFERENCE_COLOUR, line_dash="dashed", line_width=1.5),
         "Segments.LayoutOrbit": dict(color=hv.dim("colour"), line_width=hv.dim("width"), alpha=0.85),
-        "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1),
+        "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1,
+                                    show_legend=True),
         "Segments.LayoutHill": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
         "Points.LayoutPlanet": dict(color="colour", size="size", line_color="line_colour", line_width="line_width",
                                     tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,

@@ -21,7 +21,7 @@ from orbitdeck.models.observability import tsm_follow_up_threshold
 
 from . import palette
 from .common import View, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, while_shown
-from .plotting import LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
 VIEW = "observability"
@@ -57,8 +57,8 @@ LAYERS = {"bars": bars, "errors": errors, "thresholds": thresholds}
 TITLE = "Transmission spectroscopy metric (Kempton et al. 2018)"
 STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=380, legend_position="right", toolbar="above", title=TITLE,
-                         fontsize={"title": "13px", "labels": "12px"}, show_grid=True),
-           "matplotlib": dict(fig_inches=(8, 4), legend_position="right", title=TITLE)},
+                         fontsize=FONT_SIZES, show_grid=True),
+           "matplotlib": dict(fig_size=220, aspect=2.0, legend_position="right", title=TITLE)},
     bokeh={
         "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), line_color=hv.dim("line_colour"), line_width=hv.dim("line_width"),
                                       tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
@@ -71,7 +71,8 @@ STYLES = Styles(
     matplotlib={
         "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), edgecolor=hv.dim("line_colour")),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, linewidth=1.2, capsize=0),
-        "Scatter.ObservabilityThreshold": dict(marker="_", s=600, color=THRESHOLD_COLOUR, linewidth=2.5),
+        "Scatter.ObservabilityThreshold": dict(marker="_", s=600, color=THRESHOLD_COLOUR, edgecolors=THRESHOLD_COLOUR,
+                                               linewidth=2.5),
     })
 
 

@@ -37,6 +37,9 @@ import numpy as np
 
 #: the backends a plot is styled for
 BACKENDS = ("bokeh", "matplotlib")
+#: text sizes of the plots [pt]: numbers read the same by both backends (HoloViews lets options given to one
+#: element for one backend reach its other backends too, so no option may hold a value only one can read)
+FONT_SIZES = {"title": 10, "labels": 9, "xticks": 8.5, "yticks": 8.5}
 
 
 def load_backend(backend: str) -> None:
@@ -95,7 +98,7 @@ class Styles:
     from them::
 
         Styles(bokeh={"Points.FluxPlanet": {"size": 9}}, matplotlib={"Points.FluxPlanet": {"s": 60}},
-               frame={"bokeh": {"height": 400}, "matplotlib": {"fig_inches": (8, 4)}})
+               frame={"bokeh": {"height": 400}, "matplotlib": {"fig_size": 200}})
 
     The options are registered once per process as the defaults of those
     groups (:meth:`register`): every session draws the same elements the
@@ -126,7 +129,7 @@ class Styles:
         if backend not in self._registered:
             options = self.options(backend)
             if options:
-                hv.opts.defaults(*options)
+                hv.opts.defaults(*options, backend=backend)
             self._registered.add(backend)
 
 
@@ -159,6 +162,7 @@ class LayeredPlot:
         self._live = None
 
     def _build(self, name: str, data, backend: str):
+        """The layer's element (None: the layer draws nothing with that backend)."""
         layer = self.layers[name]
         if "backend" in inspect.signature(layer).parameters:
             return layer(data, backend=backend)
@@ -188,4 +192,5 @@ class LayeredPlot:
         """The plot as plain HoloViews elements for the current data (``backend``'s look registered if given)."""
         if backend is not None:
             self.styles.register(backend)
-        return hv.Overlay([self._build(name, self.data[name], backend or "bokeh") for name in self.layers])
+        elements = [self._build(name, self.data[name], backend or "bokeh") for name in self.layers]
+        return hv.Overlay([element for element in elements if element is not None])

@@ -20,7 +20,7 @@ import param
 from . import palette
 from .common import (View, section, set_section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, span_texts,
                      while_shown)
-from .plotting import LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -54,13 +54,17 @@ def cells(d):
                       group="SkiesMatrix", label="")
 
 
-def cell_texts(d):
+def cell_texts(d, backend: str = "bokeh"):
+    if backend != "bokeh":
+        return None     # matplotlib writes the values into the cells itself (show_values)
     return hv.Labels((texts(d["body"]), texts(d["observer"]), texts(d["text"]), texts(d["text_colour"])), _grid_dims(d),
                      ["text", "text_colour"],
                      group="SkiesCellText")
 
 
-def row(d):
+def row(d, backend: str = "bokeh"):
+    if backend != "bokeh":
+        return None
     return hv.HeatMap((texts(d["body"]), texts(d["observer"]), np.ones(len(d["body"]))), _grid_dims(d), ["one"],
                       group="SkiesRow", label="")
 
@@ -90,8 +94,8 @@ BAR_LAYERS = {"bars": bars, "errors": bar_errors, "moon": moon_line}
 MATRIX_TITLE = "Largest apparent diameter of each body in each planet's sky"
 MATRIX_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=470, toolbar="above", title=MATRIX_TITLE,
-                         fontsize={"title": "13px", "labels": "12px", "xticks": "12px", "yticks": "12px"}),
-           "matplotlib": dict(fig_inches=(8, 6), title=MATRIX_TITLE)},
+                         fontsize=FONT_SIZES),
+           "matplotlib": dict(fig_size=220, aspect=1.3, title=MATRIX_TITLE)},
     bokeh={
         "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, line_color="white",
                                     tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
@@ -105,14 +109,12 @@ MATRIX_STYLES = Styles(
         "HeatMap.SkiesRow": dict(fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, cmap=["#000000"]),
     },
     matplotlib={
-        "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True),
-        "Labels.SkiesCellText": dict(color=hv.dim("text_colour"), size=8),
-        "HeatMap.SkiesRow": dict(alpha=0.0),
+        "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, show_values=True),
     })
 BAR_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=330, toolbar="above", legend_position="right",
-                         fontsize={"title": "13px", "labels": "12px"}, show_grid=True),
-           "matplotlib": dict(fig_inches=(8, 3.5), legend_position="right")},
+                         fontsize=FONT_SIZES, show_grid=True),
+           "matplotlib": dict(fig_size=220, aspect=2.4, legend_position="right")},
     bokeh={
         "Bars.SkiesBars": dict(color=hv.dim("colour"), line_color="#333333", tools=["hover"],
                                hover_tooltips=[("body", "@body"), ("largest diameter",

@@ -33,7 +33,7 @@ from orbitdeck.models.sky_view import close_approaches, sky_from
 from . import palette
 from .common import View, batched, escape, note, section, set_section, while_shown
 from .entries import Entry, Rejected, parse_entry
-from .plotting import LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
 
 #: times sampled over the window of the size and elongation plots
 WINDOW_SAMPLES = 400
@@ -156,7 +156,7 @@ def diameters(d, backend: str = "bokeh"):
                                                                        unit="arcsec"),
                              group="SkyDiameter", label=body).opts(color=colour, backend=backend)
               for body, values, colour in zip(d["bodies"], d["arcsec"], d["colour"])}
-    return hv.NdOverlay(curves, kdims=["body"])
+    return hv.NdOverlay(curves, kdims=["body"], sort=False)
 
 
 def elongation(d, backend: str = "bokeh"):
@@ -167,8 +167,8 @@ def elongation(d, backend: str = "bokeh"):
 
 TRACK_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=260, toolbar="above", legend_position="right", show_grid=True,
-                         fontsize={"title": "13px", "labels": "12px"}),
-           "matplotlib": dict(fig_inches=(8, 3), legend_position="right")},
+                         fontsize=FONT_SIZES),
+           "matplotlib": dict(fig_size=220, aspect=2.6, legend_position="right")},
     bokeh={"Curve.SkyDiameter": dict(line_width=2, logy=True, tools=["hover"],
                                      title="Apparent diameter of each body over the window"),
            "Curve.SkyElongation": dict(line_width=2, tools=["hover"],
@@ -179,8 +179,8 @@ TRACK_STYLES = Styles(
                                             title="Elongation from the star of the chosen body over the window")})
 SKY_STYLES = Styles(
     frame={"bokeh": dict(frame_width=SKY_WIDTH_PX, frame_height=SKY_HEIGHT_PX, toolbar="above", data_aspect=1,
-                         legend_position="right", fontsize={"title": "13px", "labels": "12px"}),
-           "matplotlib": dict(fig_inches=(9, 3.5), aspect="equal", legend_position="right")},
+                         legend_position="right", fontsize=FONT_SIZES),
+           "matplotlib": dict(fig_size=250, aspect="equal", legend_position="right")},
     bokeh={"Polygons.SkyDisc": dict(color=hv.dim("colour"), line_color="#222222", alpha=0.9),
            "Path.SkyMoon": dict(color="#555555", line_dash="dashed", line_width=1.2),
            "Points.SkyMark": dict(color="colour", size=7, line_color="#222222", tools=["hover"],
