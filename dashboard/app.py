@@ -87,7 +87,8 @@ class OrbitDeckApp(param.Parameterized):
         self.alerts = pn.pane.HTML("", sizing_mode="stretch_width", margin=(4, 12), stylesheets=[look.ALERT_CSS])
         self.caution = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 12), stylesheets=[look.ALERT_CSS])
         self.tabs = ViewTabs(*self._tab_bodies.items(), sizing_mode="stretch_width", dynamic=True,
-                             before_show=self._catch_up, stylesheets=[look.TABS_CSS], margin=(4, 8))
+                             before_show=self._build_tab, after_show=self._catch_up, stylesheets=[look.TABS_CSS],
+                             margin=(4, 8))
         self.main = pn.Column(self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = self.controls.panel()
         self.layout = pn.Column(self.header, self._title_holder, pn.Row(self.sidebar, self.main,
@@ -191,13 +192,17 @@ class OrbitDeckApp(param.Parameterized):
         """Put a view just built into its tab."""
         self._tab_bodies[title].objects = [view.panel()]
 
-    def _catch_up(self, index: int, build: bool = True) -> None:
-        """Build the views of tab ``index`` or run their waiting updates (before the tab's models are built)."""
+    def _build_tab(self, index: int) -> None:
+        """Build the views of tab ``index`` if they are not yet (from the current state, before the tab renders)."""
+        titles = list(self.views)
+        if 0 <= index < len(titles):
+            self.views[titles[index]]
+
+    def _catch_up(self, index: int) -> None:
+        """Run the waiting updates of the views of tab ``index``."""
         titles = list(self.views)
         if not 0 <= index < len(titles):
             return
-        if build:
-            self.views[titles[index]]  # built from the current state when first shown
         calls = self._stale.pop(titles[index], {})
         if calls:
             with pn.io.hold(freeze=True):
@@ -209,7 +214,7 @@ class OrbitDeckApp(param.Parameterized):
         deferring, self.defer_hidden_tabs = self.defer_hidden_tabs, False
         try:
             for index in range(len(self.views)):
-                self._catch_up(index, build=False)
+                self._catch_up(index)
         finally:
             self.defer_hidden_tabs = deferring
 
@@ -222,6 +227,10 @@ class OrbitDeckApp(param.Parameterized):
         keeps a change cheap on a server holding many sessions.
         """
         self.defer_hidden_tabs = True
+        # the browser's title is set by the hidden widget's callback, which runs on a change of its value:
+        # give it the title once the page has loaded
+        self._title_holder.value = ""
+        pn.state.onload(lambda: setattr(self._title_holder, "value", self._document_title()))
         page = self.layout
         page.orbitdeck_app = self  # the session's state, for tests and benchmarks
         return page
@@ -268,22 +277,30 @@ class LazyViews(Mapping):
 
 
 class ViewTabs(pn.Tabs):
-    """Dynamic tabs that call ``before_show(index)`` when a tab is opened, before Panel builds it.
+    """Dynamic tabs that build a tab's views before Panel renders the tab, and bring them up to date after.
 
-    Panel's dynamic tabs build (or re-attach) the models of a tab when its
-    ``active`` index changes; the hook runs first, in the same watcher, so the
-    views' data are current when their models go to the browser and no patch
-    can reach a model the browser does not hold yet.
+    Panel's dynamic tabs render the models of a tab again when its ``active``
+    index changes. ``before_show(index)`` runs first, in the same watcher, so
+    that a view seen for the first time is in its tab when the tab is
+    rendered; ``after_show(index)`` runs once the tab's models are back in
+    the page's document, so that the waiting updates patch models the
+    document holds (Panel gives a pane changed while it is out of the
+    document style sheets from its CDN, which a local page cannot load).
+    Everything happens in one event, so the browser gets it in one message.
     """
 
-    def __init__(self, *objects, before_show=None, **params):
+    def __init__(self, *objects, before_show=None, after_show=None, **params):
         super().__init__(*objects, **params)
-        self._before_show = before_show
+        self._before_show, self._after_show = before_show, after_show
 
+    # Panel's own handler of ``active`` (private): the hooks must run around it, in the same watcher
     def _update_active(self, *events):
-        if self._before_show is not None and any(e.name == "active" for e in events):
+        opened = any(e.name == "active" for e in events)
+        if opened and self._before_show is not None:
             self._before_show(self.active)
         super()._update_active(*events)
+        if opened and self._after_show is not None:
+            self._after_show(self.active)
 
 
 def _derive(system: System, samples: int = 0, seed: int | None = None):

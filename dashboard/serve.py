@@ -149,7 +149,8 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     if notice:
         print(notice, flush=True)
     try:
-        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title="orbitdeck",
+        # no server-wide title: each session's page takes its system's name (OrbitDeckApp.page)
+        pn.serve({ROUTE: session_factory(system)}, show=show, start=True,
                  threaded=False, verbose=False, **server_settings(), **settings)
     except KeyboardInterrupt:
         pass

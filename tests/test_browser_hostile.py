@@ -112,7 +112,8 @@ def dashboard(browser, url):
         page.wait_for_selector(".bk-Canvas", timeout=60_000)
         page.wait_for_function("() => window.Bokeh && Bokeh.documents.length > 0", timeout=30_000)
         yield page, log, dialogs
-        assert log.problems_on_server(origin) == []
+        problems = log.problems_on_server(origin)
+        assert problems == [], "\n".join(problems)
         assert dialogs == [], dialogs
 
 
@@ -240,7 +241,7 @@ MALFORMED = {
 def test_a_malformed_upload_is_explained_inline_and_the_system_is_kept(browser, hostile_url):
     with dashboard(browser, hostile_url) as (page, log, dialogs):
         upload = page.locator('input[type="file"]')
-        header = page.locator("h2", has_text=SYSTEM_NAME)
+        header = page.locator(".od-name", has_text=SYSTEM_NAME)
         assert header.count() == 1
         shown = page.get_by_text("not loaded, the current system is kept", exact=False)
         for name, content in MALFORMED.items():
@@ -261,6 +262,7 @@ def test_a_malformed_upload_is_explained_inline_and_the_system_is_kept(browser, 
         # and a well-formed hostile file replaces the system, still as text
         other = hostile_system_text().replace(toml_text(SYSTEM_NAME), toml_text(f"{IMAGE} second"), 1)
         upload.set_input_files({"name": "second.toml", "mimeType": "application/toml", "buffer": other.encode()})
-        wait_for(lambda: page.locator("h2", has_text=f"{IMAGE} second").count() == 1, what="the uploaded system")
+        wait_for(lambda: page.locator(".od-name", has_text=f"{IMAGE} second").count() == 1,
+                 what="the uploaded system")
         assert page.get_by_text("loaded second.toml", exact=False).count() >= 1
         not_owned(page)

@@ -96,11 +96,12 @@ def test_the_time_plots_name_their_lines_and_keep_one_unit_each(app):
     assert {curve.vdims[0].unit for curve in overlay} == {"arcsec"}
     assert all(curve.label for curve in overlay)
     # the elongation plot follows one chosen body, in degrees
-    (elongation,) = view.elongation.figure()
-    assert elongation.vdims[0].unit == "deg" and elongation.label == view.body
+    (curves,) = view.elongation.figure()
+    (elongation,) = curves
+    assert elongation.vdims[0].unit == "deg" and elongation.label == view.body and list(curves.keys()) == [view.body]
     chosen = app.elements.names[2]
     view.body_select.value = chosen
-    (elongation,) = view.elongation.figure()
+    (elongation,) = list(view.elongation.figure())[0]
     track = sky_from(app.system, app.selected, app.time + np.linspace(0.0, view.window, 400), a_au=app.elements.a_au)
     index = track["bodies"].index(chosen)
     np.testing.assert_allclose(elongation.dimension_values(1), track["elongation_deg"][:, index])

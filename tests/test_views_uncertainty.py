@@ -70,7 +70,6 @@ def test_flux_bars_are_the_insolation_and_radius_intervals(app):
     np.testing.assert_array_equal(bars["y0"][:n], app.derived.planets["radius_rearth"])
     np.testing.assert_array_equal(bars["y0"][n:], r_lo)
     np.testing.assert_array_equal(bars["y1"][n:], r_hi)
-    assert bars["label"] == "16th\u201384th percentiles"
     table = flux.tables["Orbits and irradiation"].value
     s = app.derived.planets["insolation_earth"]
     spread = re.findall(r">([^<]*)</span>", table["insolation_earth"].iloc[0])[1]
@@ -134,7 +133,7 @@ def test_tsm_bars_carry_their_intervals(app):
     errors = obs.plot.data["errors"]
     np.testing.assert_allclose(errors["tsm"] - errors["minus"], lo)
     np.testing.assert_allclose(errors["tsm"] + errors["plus"], hi)
-    assert errors["label"] == "16th\u201384th percentiles" and np.all(errors["plus"] > 0)
+    assert errors["shown"] and np.all(errors["plus"] > 0)
     assert obs.plot.data["bars"]["tsm_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo, hi)]
     np.testing.assert_allclose(errors["tsm"], tsm)
 
@@ -170,7 +169,7 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     assert calls == [(0, None)]
     assert app.derived.intervals == {}
     assert len(flux.plot.data["ranges"]["x0"]) == 0 and len(ladder.plot.data["errors"]["y0"]) == 0
-    assert flux.plot.data["ranges"]["label"] == "" and obs.plot.data["errors"]["label"] == ""
+    assert not obs.plot.data["errors"]["shown"]
     assert "od-range" not in " ".join(flux.tables["Orbits and irradiation"].value["insolation_earth"])
     assert "Monte Carlo" not in flux.caption.object
 

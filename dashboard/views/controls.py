@@ -21,7 +21,7 @@ import panel as pn
 from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
 
 from . import look
-from .common import escape
+from .common import batched, escape
 from .entries import Entry, Rejected, entry_text, parse_entry  # noqa: F401  (parse_entry, Rejected: part of the API)
 from .sky_from import TimePlayer
 
@@ -183,6 +183,8 @@ class Controls:
             '<div style="font-size:12px;color:#444">nominal values only</div>')
 
     # -- widgets -> model ------------------------------------------------------
+    # (each handler is batched: the model's change, the views' updates and the handler's message reach the
+    # browser as one message)
     def _apply(self, obj, field: str, value, label: str, pane) -> bool:
         """Set ``obj.field``; undo it when the system cannot be derived with it."""
         old = getattr(obj, field)
@@ -203,6 +205,7 @@ class Controls:
         _message(pane)
         return True
 
+    @batched
     def _star_entry(self, field, event):
         if self._quiet:
             return
@@ -215,16 +218,19 @@ class Controls:
             return
         self._apply(star, field, value, label.split(" (")[0], self.star_message)
 
+    @batched
     def _albedo(self, event):
         if not self._quiet and event.new is not None:
             self._apply(self.app.system.assumptions, "bond_albedo", float(event.new), "Bond albedo",
                         self.assumption_message)
 
+    @batched
     def _redistribution(self, event):
         if not self._quiet:
             self._apply(self.app.system.assumptions, "heat_redistribution", event.new, "Heat redistribution",
                         self.assumption_message)
 
+    @batched
     def _pick(self, event):
         if not self._quiet and event.new:
             self.app.selected = event.new
@@ -233,6 +239,7 @@ class Controls:
         names = self.app.system.planet_names
         return self.app.system.planet(self.app.selected) if self.app.selected in names else None
 
+    @batched
     def _planet_entry(self, field, event):
         planet = self._current_planet()
         if self._quiet or planet is None:
@@ -246,12 +253,14 @@ class Controls:
             return
         self._apply(planet, field, value, short, self.planet_message)
 
+    @batched
     def _eccentricity(self, event):
         planet = self._current_planet()
         if not self._quiet and planet is not None and event.new is not None:
             self._apply(planet, "eccentricity", float(event.new), f"planet {planet.name}: eccentricity",
                         self.planet_message)
 
+    @batched
     def _remove(self, _):
         system, planet = self.app.system, self._current_planet()
         if planet is None:
@@ -262,6 +271,7 @@ class Controls:
         system.remove_planet(planet.name)
         _message(self.planet_message, f"removed planet {planet.name}", ok=True)
 
+    @batched
     def _add(self, _):
         name = (self.new_name.value_input or self.new_name.value or "").strip()
         try:
@@ -293,6 +303,7 @@ class Controls:
         self.app.time = float(value)
         _message(self.time_message)
 
+    @batched
     def _time_entry(self, event):
         if self._quiet:
             return
@@ -303,6 +314,7 @@ class Controls:
             return
         self._set_time(value)
 
+    @batched
     def _samples(self, event):
         if self._quiet:
             return
@@ -316,10 +328,12 @@ class Controls:
             return
         self.app.samples = int(value)
 
+    @batched
     def _time_slider(self, event):
         if not self._quiet and event.new is not None:
             self._set_time(self.app.system.epoch + float(event.new))
 
+    @batched
     def _load(self, event):
         if not event.new:
             return
@@ -353,7 +367,14 @@ class Controls:
 
     # -- layout ------------------------------------------------------------------
     def panel(self):
-        card = partial(pn.Card, width=WIDGET_WIDTH + 24, margin=(6, 4), stylesheets=[look.CARD_CSS])
+        def card(*objects, title: str):
+            # the title is a pane of our own: Panel draws a card's own title in a shadow root no style sheet of
+            # the card reaches
+            header = pn.pane.HTML(f'<span class="od-card-title">{escape(title)}</span>', margin=(4, 0),
+                                  stylesheets=[look.CARD_TITLE_CSS])
+            return pn.Card(*objects, header=header, width=WIDGET_WIDTH + 24, margin=(6, 4),
+                           stylesheets=[look.CARD_CSS])
+
         return pn.Column(
             card(self.file_input, self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
@@ -362,7 +383,7 @@ class Controls:
                  self.remove_button, pn.layout.Divider(), self.new_name, self.new_period, self.new_radius,
                  self.add_button, self.add_message, title="Planet"),
             card(self.time_entry, self.time_slider, self.player.panel(), self.epoch_button, self.time_message,
-                 self.hill,
-                 self.reference, title="Time and display"),
-            card(self.uncertainty, self.samples, self.samples_message, self.uncertainty_message, title="Uncertainties"),
+                 self.hill, self.reference, title="Time and display"),
+            card(self.uncertainty, self.samples, self.samples_message, self.uncertainty_message,
+                 title="Uncertainties"),
             width=WIDGET_WIDTH + 40)

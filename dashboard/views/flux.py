@@ -20,7 +20,7 @@ import param
 from . import habitable, palette
 from .common import (View, section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap,
                      span_texts, while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, extent, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, extent, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
 VIEW = "flux"
@@ -56,9 +56,10 @@ def _limit_names(group):
 
 
 def ranges(d):
-    return hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"])),
-                       [S_DIM.clone(range=extent(d["x0"], d["x1"])), R_DIM.clone(range=extent(d["y0"], d["y1"])),
-                        "S1", "R1"], ["colour"], group="FluxRange", label=d["label"])
+    return drawn(hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"])),
+                             [S_DIM.clone(range=extent(d["x0"], d["x1"])),
+                              R_DIM.clone(range=extent(d["y0"], d["y1"])), "S1", "R1"], ["colour"],
+                             group="FluxRange", label="16th\u201384th percentiles"), len(d["x0"]) > 0)
 
 
 def planets(d):
@@ -284,6 +285,5 @@ def _range_bars(S, R, s_iv, r_iv, colours) -> dict:
         x0 += list(s_iv[0]); x1 += list(s_iv[1]); y0 += list(R); y1 += list(R); colour += colours
     if r_iv:
         x0 += list(S); x1 += list(S); y0 += list(r_iv[0]); y1 += list(r_iv[1]); colour += colours
-    label = "16th\u201384th percentiles" if (s_iv or r_iv) else ""
     return {"x0": np.array(x0, dtype=float), "y0": np.array(y0, dtype=float), "x1": np.array(x1, dtype=float),
-            "y1": np.array(y1, dtype=float), "colour": colour, "label": label}
+            "y1": np.array(y1, dtype=float), "colour": colour}

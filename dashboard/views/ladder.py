@@ -23,13 +23,13 @@ from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
 from .common import View, section, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
-from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
 VIEW = "ladder"
 #: rung looks by order: colour, width and the legend's words
 RUNG_COLOURS = {1: "#3b3b3b", 2: "#6f6f6f", 3: "#9a9a9a"}
-RUNG_NAMES = {1: "first-order rungs (p \u2212 q = 1)", 2: "second order", 3: "third order"}
+RUNG_NAMES = {1: "first-order rungs (p \u2212 q = 1)", 2: "second-order rungs", 3: "third-order rungs"}
 PAIR_SIZE = 15
 #: above this many pairs the offsets and relations are left to the tooltips and tables (labels would overlap)
 MAX_LABELLED_PAIRS = 12
@@ -61,15 +61,16 @@ def _dims(d):
     return [X_DIM.clone(range=d["x_range"]), Y_DIM.clone(range=d["y_range"])]
 
 
-def _segments(d, group):
+def _segments(d, group, label=""):
     dims = _dims(d) + [hv.Dimension("position1", range=d["x_range"]), hv.Dimension("ratio1", range=d["y_range"])]
-    return hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
-                       ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=d.get("label", ""))
+    return drawn(hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
+                             ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=label),
+                 len(d["x0"]) > 0)
 
 
 def _rungs(order):
     def rungs(d):
-        return _segments(d, f"LadderRung{order}")
+        return _segments(d, f"LadderRung{order}", RUNG_NAMES[order])
     rungs.__name__ = f"rungs{order}"
     return rungs
 
@@ -86,11 +87,11 @@ def stubs(d):
 
 
 def links(d):
-    return _segments(d, "LadderLink")
+    return _segments(d, "LadderLink", "three-body relations")
 
 
 def errors(d):
-    return _segments(d, "LadderRange")
+    return _segments(d, "LadderRange", "16th\u201384th percentiles")
 
 
 PAIR_VDIMS = ["colour", "line_colour", "line_width", "pair", "nearest", "order", "delta", "super_period", "spacing",
@@ -106,7 +107,7 @@ def pairs(d):
                      group="LadderPair", label="adjacent pairs")
 
 
-LAYERS = {"rungs3": _rungs(3), "rungs2": _rungs(2), "rungs1": _rungs(1), "rung_names": _labels("LadderRungName"),
+LAYERS = {"rungs1": _rungs(1), "rungs2": _rungs(2), "rungs3": _rungs(3), "rung_names": _labels("LadderRungName"),
           "stubs": stubs, "links": links, "link_names": _labels("LadderLinkName"), "errors": errors,
           "pairs": pairs, "pair_names": _labels("LadderPairName"), "deltas": _labels("LadderDelta")}
 
@@ -239,7 +240,7 @@ class LadderView(View):
             count = int(keep.sum())
             layers[f"rungs{k}"] = {"x0": np.full(count, x_lo), "y0": rung_all[keep], "x1": np.full(count, x_hi),
                                    "y1": rung_all[keep], "colour": [RUNG_COLOURS[k]] * count,
-                                   "width": np.ones(count), "label": RUNG_NAMES[k] if count else "",
+                                   "width": np.ones(count),
                                    "x_range": xr, "y_range": yr}
         layers["rung_names"] = {"x": np.full(rung_all.size, x_hi - 0.02), "y": rung_all,
                                 "text": [f"{a}:{b}" for a, b in zip(p_all, q_all)], "x_range": xr, "y_range": yr}
@@ -252,7 +253,7 @@ class LadderView(View):
         m = len(trio)
         residual = np.asarray(tr["residual_deg_per_day"], dtype=float)
         layers["links"] = {"x0": x[:m], "y0": ratio[:m], "x1": x[:m] + 1, "y1": ratio[1:m + 1], "trio": trio,
-                           "label": "three-body relations" if m else "", "x_range": xr, "y_range": yr,
+                           "x_range": xr, "y_range": yr,
                            **self._link_marks(trio)}
         labelled = n <= MAX_LABELLED_PAIRS
         layers["link_names"] = {"x": x[:m] + 0.5, "y": 0.5 * (ratio[:m] + ratio[1:m + 1]),
@@ -262,7 +263,6 @@ class LadderView(View):
         lo_, hi_ = found if found is not None else (np.zeros(0), np.zeros(0))
         layers["errors"] = {"x0": x[:lo_.size], "y0": lo_, "x1": x[:hi_.size], "y1": hi_,
                             "colour": ["#111111"] * lo_.size, "width": np.ones(lo_.size),
-                            "label": "16th\u201384th percentiles" if found is not None else "",
                             "x_range": xr, "y_range": yr}
         layers["pairs"] = self._pairs(d, x, ratio, xr, yr)
         names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]

@@ -25,7 +25,7 @@ from orbitdeck.models.constants import AU, R_SUN
 
 from . import habitable, palette
 from .common import View, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
-from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -130,22 +130,23 @@ def hz(d):
     return hv.RGB(d["image"], bounds=(-w, -w, w, w), kdims=_dims(d), group="LayoutHZ")
 
 
-def _lines(d, group):
+def _lines(d, group, label):
     dims = _dims(d) + [hv.Dimension("x1", range=d["x_range"]), hv.Dimension("y1", range=d["y_range"])]
-    return hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
-                       ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=d["label"])
+    return drawn(hv.Segments((d["x0"], d["y0"], d["x1"], d["y1"], texts(d["colour"]), d["width"]), dims,
+                             ["colour", hv.Dimension("width", range=(0.0, 10.0))], group=group, label=label),
+                 len(d["x0"]) > 0)
 
 
 def orbits(d):
-    return _lines(d, "LayoutOrbit")
+    return _lines(d, "LayoutOrbit", "orbits")
 
 
 def hill(d):
-    return _lines(d, "LayoutHill")
+    return _lines(d, "LayoutHill", "Hill spheres (see beneath)")
 
 
 def reference(d):
-    return _lines(d, "LayoutReference")
+    return _lines(d, "LayoutReference", "a Solar System orbit, for scale")
 
 
 def star(d):
@@ -211,14 +212,14 @@ STYLES = Styles(
     })
 
 
-def _segments(xs, ys, colours, widths, label, x_range, y_range) -> dict:
+def _segments(xs, ys, colours, widths, x_range, y_range) -> dict:
     """Closed curves (rows of points) as the columns of a Segments layer, one colour and width per curve."""
     xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
     per = max(xs.shape[1] - 1, 0) if xs.ndim == 2 else 0
     return {"x0": xs[:, :-1].ravel() if per else np.zeros(0), "y0": ys[:, :-1].ravel() if per else np.zeros(0),
             "x1": xs[:, 1:].ravel() if per else np.zeros(0), "y1": ys[:, 1:].ravel() if per else np.zeros(0),
             "colour": [c for c in colours for _ in range(per)], "width": np.repeat(np.asarray(widths, float), per),
-            "label": label, "x_range": x_range, "y_range": y_range}
+            "x_range": x_range, "y_range": y_range}
 
 
 class LayoutView(View):
@@ -252,9 +253,14 @@ class LayoutView(View):
         notes = [habitable.key_html(d),
                  f"Positions at BJD_TDB {app.time:.4f} from Kepler's equation; the observer lies towards +y "
                  "(a planet transits at \u03c9 + f = 90\u00b0)."]
-        if app.show_hill and self.hill_factor > 1:
-            notes.append(f"Hill spheres are drawn {self.hill_factor}\u00d7 their radius so they show at this "
-                         "scale; the tooltips and the Flux & temperature table give the true radius.")
+        if app.show_hill:
+            notes.append(f"Hill spheres are drawn {self.hill_factor}\u00d7 their radius so that they show at this "
+                         "scale; the Flux & temperature table gives the true radius." if self.hill_factor > 1 else
+                         "Hill spheres are drawn to scale.")
+        reference_au = REFERENCE_ORBITS.get(app.reference)
+        if reference_au:
+            notes.append(f"Dashed circle: {app.reference.split(' ')[0]}'s orbit (a = {reference_au:g} au), "
+                         "for scale.")
         if caption:
             notes.append(f"Semi-major axis ranges in the tooltips: {escape(caption)}.")
         self.caption.object = " ".join(n for n in notes if n)
@@ -299,11 +305,10 @@ class LayoutView(View):
         rx, ry = circle_points([0.0], [0.0], [reference_au or 0.0], 180)
         body = app.reference.split(" ")[0]
         own = (-(reference_au or 0.0), reference_au or 0.0)
-        layers["reference"] = _segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5],
-                                        f"{body}'s orbit (a = {reference_au:g} au), for scale", own, own) \
-            if reference_au else _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], "", own, own)
+        layers["reference"] = _segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5], own, own) \
+            if reference_au else _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], own, own)
         ox, oy = ellipse_points(orbit_ellipses(a, e, omega))
-        layers["orbits"] = _segments(ox, oy, colours, self._orbit_widths(names_), "orbits", view, view)
+        layers["orbits"] = _segments(ox, oy, colours, self._orbit_widths(names_), view, view)
         sx, sy = circle_points([0.0], [0.0], [star_radius_au], 64)
         layers["star"] = {"x": sx[0], "y": sy[0], "x_range": (-star_radius_au, star_radius_au),
                           "y_range": (-star_radius_au, star_radius_au)}
@@ -311,11 +316,9 @@ class LayoutView(View):
         self.hill_factor = hill_factor(pl["hill_radius_au"], half)
         if app.show_hill:
             hx, hy = circle_points(x, y, np.asarray(pl["hill_radius_au"], float) * self.hill_factor)
-            label = ("Hill spheres" if self.hill_factor == 1 else
-                     f"Hill spheres, radius \u00d7{self.hill_factor} (enlarged)")
-            layers["hill"] = _segments(hx, hy, colours, [1.5] * len(names_), label, view, view)
+            layers["hill"] = _segments(hx, hy, colours, [1.5] * len(names_), view, view)
         else:
-            layers["hill"] = _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], "", view, view)
+            layers["hill"] = _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], view, view)
         found = interval(d, "planets", "semi_major_axis_au")
         layers["planets"] = {
             "x": x, "y": y, "name": names_, "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a, "e": e,

@@ -43,10 +43,12 @@ HEADER_CSS = f"""
 CARD_CSS = f"""
 :host {{ background: #ffffff; border: 1px solid #dcd6c8; border-left: 3px solid {palette.ACCENT};
   border-radius: 2px; box-shadow: none; }}
-.card-header {{ background: transparent; border-bottom: 1px solid #ece7dc; padding: 4px 8px; }}
-.card-title, .card-header .card-title {{ font-variant: small-caps; letter-spacing: 0.08em; font-size: 13.5px;
-  font-weight: 700; color: {palette.INK}; }}
+.card-header {{ background: transparent; border-bottom: 1px solid #ece7dc; padding: 2px 8px; }}
 .card-button {{ background: transparent; color: {palette.ACCENT}; }}
+"""
+CARD_TITLE_CSS = f"""
+.od-card-title {{ font-variant: small-caps; letter-spacing: 0.08em; font-size: 14px; font-weight: 700;
+  color: {palette.INK}; }}
 """
 
 TABS_CSS = f"""

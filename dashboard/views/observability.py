@@ -21,7 +21,7 @@ from orbitdeck.models.observability import tsm_follow_up_threshold
 
 from . import palette
 from .common import View, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, while_shown
-from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
 VIEW = "observability"
@@ -43,14 +43,15 @@ def bars(d):
 
 
 def errors(d):
-    return hv.ErrorBars((texts(d["planet"]), d["tsm"], d["minus"], d["plus"]), [PLANET_DIM],
-                        [_tsm_dim(d), "minus", "plus"], group="ObservabilityRange", label=d["label"])
+    return drawn(hv.ErrorBars((texts(d["planet"]), d["tsm"], d["minus"], d["plus"]), [PLANET_DIM],
+                              [_tsm_dim(d), "minus", "plus"], group="ObservabilityRange",
+                              label="16th\u201384th percentiles"), d["shown"])
 
 
 def thresholds(d):
-    return hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)],
-                      group="ObservabilityThreshold",
-                      label=d["label"])
+    return drawn(hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)],
+                            group="ObservabilityThreshold", label="follow-up threshold (Kempton et al. 2018)"),
+                 len(d["planet"]) > 0)
 
 
 LAYERS = {"bars": bars, "errors": errors, "thresholds": thresholds}
@@ -71,8 +72,9 @@ STYLES = Styles(
     matplotlib={
         "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), edgecolor=hv.dim("line_colour")),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, linewidth=1.2, capsize=0),
-        "Scatter.ObservabilityThreshold": dict(marker="_", s=600, color=THRESHOLD_COLOUR, edgecolors=THRESHOLD_COLOUR,
-                                               linewidth=2.5),
+        # a filled bar as the marker: matplotlib's "_" has no face
+        "Scatter.ObservabilityThreshold": dict(marker=[(-1, -0.09), (1, -0.09), (1, 0.09), (-1, 0.09)], s=700,
+                                               color=THRESHOLD_COLOUR),
     })
 
 
@@ -152,10 +154,9 @@ class ObservabilityView(View):
         errors_ = {"planet": names, "tsm": np.where(keep, tsm, 0.0),
                    "minus": np.where(keep, np.maximum(tsm - lo, 0.0), 0.0),
                    "plus": np.where(keep, np.maximum(hi - tsm, 0.0), 0.0),
-                   "label": "16th\u201384th percentiles" if found else "", "y_range": y_range}
+                   "shown": bool(found), "y_range": y_range}
         has = np.isfinite(threshold) & np.isfinite(tsm)
         thresholds_ = {"planet": [n for n, k in zip(names, has) if k], "threshold": threshold[has],
-                       "label": "follow-up threshold (Kempton et al. 2018)" if has.any() else "",
                        "y_range": y_range}
         return {"bars": bars_, "errors": errors_, "thresholds": thresholds_}
 

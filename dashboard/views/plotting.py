@@ -89,6 +89,16 @@ def texts(values) -> np.ndarray:
     return np.asarray(list(values), dtype=str)
 
 
+def drawn(element, shown: bool):
+    """``element``, hidden when ``shown`` is false.
+
+    A layer keeps its name (its legend entry) for good: HoloViews makes the
+    legend's entries from the first frame of each layer. A hidden layer's
+    entry leaves the legend, so the legend lists only what is drawn.
+    """
+    return element if shown else element.opts(visible=False)
+
+
 class Styles:
     """The look of a plot's elements per backend.
 

@@ -20,7 +20,7 @@ import param
 from . import palette
 from .common import (View, section, set_section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, span_texts,
                      while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -80,9 +80,10 @@ def bars(d):
 
 
 def bar_errors(d):
-    return hv.ErrorBars((texts(d["body"]), d["moon_ratio"], d["minus"], d["plus"]),
+    return drawn(hv.ErrorBars((texts(d["body"]), d["moon_ratio"], d["minus"], d["plus"]),
                         [hv.Dimension("body", label="body seen")],
-                        [MOON_DIM.clone(range=d["y_range"]), "minus", "plus"], group="SkiesBarRange", label=d["label"])
+                        [MOON_DIM.clone(range=d["y_range"]), "minus", "plus"], group="SkiesBarRange",
+                        label="16th\u201384th percentiles"), d["shown"])
 
 
 def moon_line(d):
@@ -239,7 +240,7 @@ class SkiesView(View):
         # to a plot with no data has no view in the page when data come later)
         lo, hi = (moon[0][rows], moon[1][rows]) if moon else (ratio, ratio)
         errors = {"body": bodies, "moon_ratio": ratio, "minus": np.maximum(ratio - lo, 0.0),
-                  "plus": np.maximum(hi - ratio, 0.0), "label": "16th\u201384th percentiles" if moon else "",
+                  "plus": np.maximum(hi - ratio, 0.0), "shown": bool(moon),
                   "y_range": y_range}
         return {"bars": bars_, "errors": errors, "moon": {"y_range": y_range}}
 

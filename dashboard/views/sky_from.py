@@ -160,9 +160,11 @@ def diameters(d, backend: str = "bokeh"):
 
 
 def elongation(d, backend: str = "bokeh"):
-    return hv.Curve((d["t"], d["elongation"]), TIME_DIM,
-                    hv.Dimension("elongation", label="elongation from the star", unit="deg"),
-                    group="SkyElongation", label=d["body"]).opts(color=d["colour"], backend=backend)
+    """The chosen body's elongation, keyed by the body (a new body is a new entry of the legend)."""
+    curve = hv.Curve((d["t"], d["elongation"]), TIME_DIM,
+                     hv.Dimension("elongation", label="elongation from the star", unit="deg"),
+                     group="SkyElongation", label=d["body"]).opts(color=d["colour"], backend=backend)
+    return hv.NdOverlay({d["body"]: curve}, kdims=["body"])
 
 
 TRACK_STYLES = Styles(

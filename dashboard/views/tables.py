@@ -142,7 +142,7 @@ def caution_html(quantities, derived=None) -> str:
     parts = []
     estimates = [q for q in quantities if q.estimate]
     if estimates:
-        named = [escape(q.label) + (f" ({escape(citation_of(q))})" if citation_of(q) else "") for q in estimates]
+        named = [escape(q.label) + (f": {escape(citation_of(q))}" if citation_of(q) else "") for q in estimates]
         parts.append(f"{ESTIMATE_MARK} model estimates under the stated assumptions: " + "; ".join(named) + ".")
     if derived is not None and derived.intervals:
         parts.append(f"Beneath each value: distance to the 16th and 84th percentiles of {derived.samples} Monte "
