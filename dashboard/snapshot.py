@@ -24,6 +24,7 @@ from orbitdeck.models import System, derive, dumps_system
 from orbitdeck.models.files import Problem, SystemFileError, atomic_write
 
 from .offline import render_offline
+from .views import look
 
 #: name of the <meta> element that carries the input system (base64 of its TOML text)
 SYSTEM_META = "orbitdeck-system"
@@ -83,11 +84,13 @@ def snapshot_layout(system: System, info: Provenance):
         app.derived = derive(system, samples=info.samples, seed=info.seed)
     sections = []
     for title, view in app.views.items():
-        sections.append(pn.pane.HTML(f'<h2 style="margin:16px 0 4px 0">{_esc(title)}</h2>', margin=(0, 10)))
+        sections.append(pn.pane.HTML(f'<h2 class="od-view-title">{_esc(title)}</h2>', margin=(0, 10),
+                                     stylesheets=[look.SECTION_CSS]))
         sections.append(view.panel())
     footer = pn.pane.HTML(provenance_html(system, info, dumps_system(system)), sizing_mode="stretch_width",
                           margin=(0, 10))
-    return pn.Column(app.header, app.alerts, app.caution, *sections, footer, sizing_mode="stretch_width")
+    return pn.Column(app.header, app.alerts, app.caution, *sections, footer, sizing_mode="stretch_width",
+                     styles=look.ROOT_STYLES)
 
 
 def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
@@ -112,7 +115,8 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
                       moment.strftime("%Y-%m-%dT%H:%M:%SZ"), samples, seed if samples else None,
                       system.epoch if time is None else float(time))
     text = dumps_system(system)
-    meta = f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
+    meta = (f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
+            f"<style>{look.PAGE_CSS}</style>")
     page, _ = render_offline(snapshot_layout(system.copy(), info),
                              f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta)
     return page

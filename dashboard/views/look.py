@@ -60,10 +60,12 @@ TABS_CSS = f"""
 .bk-tab:hover {{ color: {palette.INK}; }}
 """
 
-#: titles above tables and plots
+#: titles above tables and plots, and of the views in a snapshot
 SECTION_CSS = f"""
 h3.od-table-title {{ font-family: {SERIF}; font-weight: normal; font-size: 15px; margin: 8px 0 2px 0;
   color: {palette.INK}; border-bottom: 1px solid #ece7dc; }}
+h2.od-view-title {{ font-family: {SERIF}; font-weight: normal; font-size: 21px; margin: 18px 0 4px 0;
+  color: {palette.INK}; border-bottom: 2px solid {palette.ACCENT}; }}
 """
 
 ALERT_CSS = f"""
