@@ -24,6 +24,7 @@ import param
 from orbitdeck.models import Derived, System, derive, ephemeris
 
 from .cli import DEFAULT_SEED
+from .serve import page_title
 from .views import look
 from .views.common import escape
 from .views.controls import Controls
@@ -166,7 +167,7 @@ class OrbitDeckApp(param.Parameterized):
             "not measurements.</div>")
 
     def _document_title(self) -> str:
-        return f"{self.system.name} \u2013 orbitdeck"
+        return page_title(self.system)
 
     # -- tabs ----------------------------------------------------------------------
     @property
@@ -227,10 +228,6 @@ class OrbitDeckApp(param.Parameterized):
         keeps a change cheap on a server holding many sessions.
         """
         self.defer_hidden_tabs = True
-        # the browser's title is set by the hidden widget's callback, which runs on a change of its value:
-        # give it the title once the page has loaded
-        self._title_holder.value = ""
-        pn.state.onload(lambda: setattr(self._title_holder, "value", self._document_title()))
         page = self.layout
         page.orbitdeck_app = self  # the session's state, for tests and benchmarks
         return page

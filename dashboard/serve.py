@@ -84,6 +84,11 @@ def warm_up() -> None:
     app.load_plotting()
 
 
+def page_title(system) -> str:
+    """The browser tab's title of a page showing ``system`` (plain text: the page escapes it)."""
+    return f"{system.name} \u2013 orbitdeck"
+
+
 def session_factory(system):
     """A function building one session's page around a fresh copy of ``system``."""
     def make_app():
@@ -149,8 +154,8 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     if notice:
         print(notice, flush=True)
     try:
-        # no server-wide title: each session's page takes its system's name (OrbitDeckApp.page)
-        pn.serve({ROUTE: session_factory(system)}, show=show, start=True,
+        # every session starts from this system: its page opens with this title (the page follows later changes)
+        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title={ROUTE: page_title(system)},
                  threaded=False, verbose=False, **server_settings(), **settings)
     except KeyboardInterrupt:
         pass
