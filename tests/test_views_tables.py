@@ -108,7 +108,8 @@ def test_ranges_sit_under_every_float_value_with_draws(drawn):
 def test_ladder_tables_read_pairs_and_triples_from_the_registry(drawn):
     ladder = drawn.views["Period ladder"]
     pairs, triples = ladder.pairs_table.value, ladder.triples_table.value
-    assert [c for c in pairs.columns if c not in ("pair", "nearest p:q")] == [q.key for q in shown_in("ladder", "pairs")]
+    labels = ("pair", "nearest p:q")
+    assert [c for c in pairs.columns if c not in labels] == [q.key for q in shown_in("ladder", "pairs")]
     assert [c for c in triples.columns if c != "planets"] == [q.key for q in shown_in("ladder", "triples")]
     lo, hi = drawn.derived.intervals["pairs"]["delta"]
     delta = drawn.derived.pairs["delta"]

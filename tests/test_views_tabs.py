@@ -16,7 +16,6 @@ import subprocess
 import sys
 from pathlib import Path
 
-import numpy as np
 import panel as pn
 import pytest
 from bokeh.document import Document

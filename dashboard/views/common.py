@@ -19,8 +19,6 @@ import numpy as np
 import panel as pn
 import param
 
-#: tools of every live plot
-TOOLS = ["pan", "wheel_zoom", "box_zoom", "reset", "save"]
 #: a note beneath a plot (never drawn over the data)
 NOTE_STYLE = {"font-size": "12px", "color": "#5a6270", "line-height": "1.35"}
 

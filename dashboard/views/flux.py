@@ -74,7 +74,8 @@ def planets(d):
 
 def names(d):
     return hv.Labels((d["S"], d["R"], texts(f"   {n}" for n in d["name"])),
-                     [S_DIM.clone(range=extent(d["S"])), R_DIM.clone(range=extent(d["R"]))], "text", group="FluxPlanetName")
+                     [S_DIM.clone(range=extent(d["S"])), R_DIM.clone(range=extent(d["R"]))], "text",
+                     group="FluxPlanetName")
 
 
 LAYERS = {"hz": hz_band,

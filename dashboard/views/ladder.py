@@ -22,7 +22,8 @@ import param
 from orbitdeck.models.resonances import commensurability_table
 
 from . import palette
-from .common import View, section, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
+from .common import (View, batched, escape, interval, interval_caption, note, section, select_on_tap, span_texts,
+                     while_shown)
 from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -125,7 +126,8 @@ STYLES = Styles(
         "Segments.LadderStub": dict(color="#333333", line_width=1.5),
         "Segments.LadderLink": dict(color=hv.dim("colour"), line_width=hv.dim("width"), line_dash="dashdot"),
         "Labels.LadderLinkName": dict(text_font_size="10.5px", text_align="center", text_baseline="top",
-                                      text_color="#4a2d6a"),
+                                      text_color="#4a2d6a", background_fill_color="#ffffff",
+                                      background_fill_alpha=0.85),
         "Segments.LadderRange": dict(color="#111111", line_width=2.0),
         "Points.LadderPair": dict(color="colour", size=PAIR_SIZE, line_color="line_colour", line_width="line_width",
                                   tools=["hover"], hover_tooltips=[
@@ -137,7 +139,8 @@ STYLES = Styles(
         "Labels.LadderPairName": dict(text_font_size="12px", text_align="center", text_baseline="bottom",
                                       text_color=palette.INK),
         "Labels.LadderDelta": dict(text_font_size="11px", text_align="center", text_baseline="top",
-                                   text_color=palette.INK),
+                                   text_color=palette.INK, background_fill_color="#ffffff",
+                                   background_fill_alpha=0.85),
     },
     matplotlib={
         "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], linewidth=1.2),

@@ -26,7 +26,7 @@ from .tables import caution_html, link_selection, quantities_of, table_frame, ta
 
 VIEW = "observability"
 PLANET_DIM = hv.Dimension("planet")
-THRESHOLD_COLOUR = "#8a2d00"
+THRESHOLD_COLOUR = "#141414"
 
 
 def _tsm_dim(d):
@@ -48,31 +48,40 @@ def errors(d):
                               label="16th\u201384th percentiles"), d["shown"])
 
 
-def thresholds(d):
-    return drawn(hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)],
-                            group="ObservabilityThreshold", label="follow-up threshold (Kempton et al. 2018)"),
-                 len(d["planet"]) > 0)
+def _thresholds(group, label):
+    def thresholds(d):
+        return drawn(hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)], group=group,
+                                label=label), len(d["planet"]) > 0)
+    thresholds.__name__ = group
+    return thresholds
 
 
-LAYERS = {"bars": bars, "errors": errors, "thresholds": thresholds}
+#: the threshold marks: a dark dash over a wider light one, so they stand out on bars of any colour
+LAYERS = {"bars": bars, "errors": errors, "halo": _thresholds("ObservabilityThresholdHalo", ""),
+          "thresholds": _thresholds("ObservabilityThreshold", "follow-up threshold (Kempton et al. 2018)")}
 TITLE = "Transmission spectroscopy metric (Kempton et al. 2018)"
 STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=380, legend_position="right", toolbar="above", title=TITLE,
                          fontsize=FONT_SIZES, show_grid=True),
            "matplotlib": dict(fig_size=220, aspect=2.0, legend_position="right", title=TITLE)},
     bokeh={
-        "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), line_color=hv.dim("line_colour"), line_width=hv.dim("line_width"),
+        "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), line_color=hv.dim("line_colour"),
+                                      line_width=hv.dim("line_width"),
                                       tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
                                       hover_tooltips=[("planet", "@planet"), ("TSM", "@tsm{0.00}"),
                                                       ("TSM 16th\u201384th pct", "@tsm_range"), ("ESM", "@esm{0.00}"),
                                                       ("transit depth", "@depth{0} ppm")]),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, line_width=1.5, upper_head=None, lower_head=None),
+        "Scatter.ObservabilityThresholdHalo": dict(marker="dash", size=46, color="#ffffff", line_width=7,
+                                                   show_legend=False),
         "Scatter.ObservabilityThreshold": dict(marker="dash", size=44, color=THRESHOLD_COLOUR, line_width=3),
     },
     matplotlib={
         "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), edgecolor=hv.dim("line_colour")),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, linewidth=1.2, capsize=0),
         # a filled bar as the marker: matplotlib's "_" has no face
+        "Scatter.ObservabilityThresholdHalo": dict(marker=[(-1, -0.2), (1, -0.2), (1, 0.2), (-1, 0.2)], s=760,
+                                                   color="#ffffff", show_legend=False),
         "Scatter.ObservabilityThreshold": dict(marker=[(-1, -0.09), (1, -0.09), (1, 0.09), (-1, 0.09)], s=700,
                                                color=THRESHOLD_COLOUR),
     })
@@ -158,7 +167,7 @@ class ObservabilityView(View):
         has = np.isfinite(threshold) & np.isfinite(tsm)
         thresholds_ = {"planet": [n for n, k in zip(names, has) if k], "threshold": threshold[has],
                        "y_range": y_range}
-        return {"bars": bars_, "errors": errors_, "thresholds": thresholds_}
+        return {"bars": bars_, "errors": errors_, "halo": thresholds_, "thresholds": thresholds_}
 
     def _frame(self):
         d = self.app.derived

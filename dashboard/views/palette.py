@@ -41,8 +41,6 @@ STAR_COLOUR = "#f2b705"
 STAR_OUTLINE = "#8a6500"
 #: outline of the selected planet and of highlighted cells
 HIGHLIGHT_COLOUR = "#000000"
-#: orbits and other neutral lines
-NEUTRAL_COLOUR = "#6b6b6b"
 #: scale reference (a Solar System orbit)
 REFERENCE_COLOUR = "#9a9a9a"
 #: sequential colour map of the skies matrix (made for colour-vision deficiency)

@@ -18,8 +18,8 @@ import panel as pn
 import param
 
 from . import palette
-from .common import (View, section, set_section, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, span_texts,
-                     while_shown)
+from .common import (View, as_floats, batched, escape, interval, interval_caption, note, section, select_on_tap,
+                     set_section, span_texts, while_shown)
 from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget

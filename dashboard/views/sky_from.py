@@ -303,8 +303,8 @@ class SkyFromView(View):
         rel = times - time
         chosen = self._choose_body(bodies)
         index = bodies.index(chosen) if chosen in bodies else 0
-        tracks = {"diameters": {"t": rel, "bodies": bodies, "arcsec": list(np.asarray(track["angular_diameter_arcsec"]).T),
-                                "colour": colours},
+        tracks = {"diameters": {"t": rel, "bodies": bodies, "colour": colours,
+                                "arcsec": list(np.asarray(track["angular_diameter_arcsec"]).T)},
                   "elongation": {"t": rel, "elongation": np.asarray(track["elongation_deg"])[:, index],
                                  "body": chosen or "", "colour": colours[index] if colours else palette.INK}}
         events = close_approaches(app.system, observer, after=time, count=APPROACHES_PER_BODY, a_au=a_au)
@@ -333,7 +333,8 @@ class SkyFromView(View):
 
     def panel(self):
         return pn.Column(
-            self.sky_title, pn.pane.HoloViews(self.sky.live(), linked_axes=False), self.caption, self.window_input, self.window_message,
+            self.sky_title, pn.pane.HoloViews(self.sky.live(), linked_axes=False), self.caption, self.window_input,
+            self.window_message,
             pn.pane.HoloViews(self.tracks.live(), sizing_mode="stretch_width", linked_axes=False),
             pn.Row(self.body_select, sizing_mode="stretch_width"),
             pn.pane.HoloViews(self.elongation.live(), sizing_mode="stretch_width", linked_axes=False),
