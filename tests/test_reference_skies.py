@@ -53,11 +53,11 @@ def test_jupiter_seen_from_earth(solar_system):
     assert jupiter["closest_distance_au"] == pytest.approx(4.20, abs=0.01)
 
 
-def test_star_row_is_at_the_mean_distance(make_system):
-    # the sky table gives the star's size at the mean distance a, as the derived document
-    # defines it (orbitdeck-derived/1); for e = 0.5 the periastron size would be twice that
-    doc = derive(make_system([dict(name="b", period=100.0, radius=1.0, mass=1.0, eccentricity=0.5)])).to_dict()
-    a = doc["planets"][0]["semi_major_axis_au"]
+def test_star_is_largest_at_periastron(make_system):
+    # the star looks largest from the closest point of the orbit, periastron a (1 - e) (geometry):
+    # from e = 0.31 that is 1 / 0.69 = 1.45 times its size at a
+    doc = derive(make_system([dict(name="b", period=100.0, radius=1.0, mass=1.0, eccentricity=0.31)])).to_dict()
+    a = doc["planets"][0]["semi_major_axis_au"] * (1.0 - 0.31)
     star = _sky(doc, "b", "star")
     assert star["closest_distance_au"] == pytest.approx(a, rel=1e-12)
     # 2 arcsin(R/d) for a sphere, evaluated independently with astropy units
