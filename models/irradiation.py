@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import SIGMA_SB
+from .constants import AU, L_SUN, SIGMA_SB
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
 #: S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K.
@@ -65,20 +65,27 @@ def insolation(luminosity_lsun, a_au, eccentricity):
     return luminosity_lsun / a_au**2 / np.sqrt(1.0 - eccentricity**2)
 
 
-def equilibrium_temperature(teff_k, star_radius_m, a_m, bond_albedo, redistribution):
-    """Planetary equilibrium temperature.
+#: the Sun's flux at 1 au [W m^-2], for insolations given in units of Earth's
+SOLAR_FLUX_AT_1AU = L_SUN / (4.0 * np.pi * AU**2)
 
-    Teq = Teff sqrt(R* / a) [f (1 - A)]^(1/4), with f = 1/4 for full
-    redistribution, 1/2 for dayside-only and 2/3 for none (instant
-    re-radiation); e.g. Cowan & Agol 2011, eq. 4, and Kempton et al. 2018.
-    A model estimate: no greenhouse effect, no internal heat.
+
+def equilibrium_temperature(insolation_earth, bond_albedo, redistribution):
+    """Planetary equilibrium temperature from the flux the planet receives.
+
+    Teq = [f (1 - A) F / sigma]^(1/4), F the bolometric flux at the planet,
+    with f = 1/4 for full redistribution, 1/2 for dayside-only and 2/3 for
+    none (instant re-radiation); e.g. Cowan & Agol 2011, eq. 4. For a
+    circular orbit and L = 4 pi R*^2 sigma Teff^4 this is the familiar
+    Teff sqrt(R*/a) [f (1 - A)]^(1/4). Fed the orbit-averaged flux
+    L / (4 pi a^2 sqrt(1 - e^2)) it is the temperature of the time-averaged
+    absorbed power, the convention discussed by Méndez & Rivera-Valentín
+    2017 (ApJL 837, L1). A model estimate: no greenhouse effect, no internal
+    heat.
 
     Parameters
     ----------
-    teff_k : array_like
-        Stellar effective temperature [K].
-    star_radius_m, a_m : array_like
-        Stellar radius and semi-major axis, in one length unit.
+    insolation_earth : array_like
+        Flux received (orbit-averaged) [S_earth: the Sun's flux at 1 au].
     bond_albedo : array_like
         Bond albedo A, 0 <= A < 1.
     redistribution : array_like
@@ -89,7 +96,8 @@ def equilibrium_temperature(teff_k, star_radius_m, a_m, bond_albedo, redistribut
     ndarray
         Equilibrium temperature [K].
     """
-    return teff_k * np.sqrt(star_radius_m / a_m) * (redistribution * (1.0 - bond_albedo)) ** 0.25
+    flux = np.asarray(insolation_earth) * SOLAR_FLUX_AT_1AU
+    return (redistribution * (1.0 - bond_albedo) * flux / SIGMA_SB) ** 0.25
 
 
 def hz_effective_flux(teff_k):

@@ -83,6 +83,25 @@ def test_earth_equilibrium_temperature(solar_system, row_of):
     assert earth["teq_k"] == pytest.approx(by_hand.value, rel=1e-4)
 
 
+def test_teq_of_an_eccentric_orbit_follows_its_orbit_averaged_flux(make_system, row_of):
+    # one convention for S and Teq (Mendez & Rivera-Valentin 2017, ApJL 837, L1): Teq is that of
+    # the time-averaged flux L / (4 pi a^2 sqrt(1 - e^2)), so Teq(e) / Teq(0) = (1 - e^2)^(-1/8)
+    planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0)]
+    t0 = row_of(derive(make_system(planets)).to_dict()["planets"], "b")["teq_k"]
+    t5 = row_of(derive(make_system([dict(planets[0], eccentricity=0.5)])).to_dict()["planets"], "b")["teq_k"]
+    assert t5 / t0 == pytest.approx(0.75 ** -0.125, rel=1e-12)
+
+
+def test_teq_follows_a_given_luminosity(make_system, row_of):
+    # a luminosity given in the file sets S and Teq alike: Teq ~ L^(1/4) (by hand)
+    planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0)]
+    t1 = row_of(derive(make_system(planets, star=dict(name="s", mass=1.0, radius=1.0, teff=5772.0,
+                                                      luminosity=1.0))).to_dict()["planets"], "b")["teq_k"]
+    t2 = row_of(derive(make_system(planets, star=dict(name="s", mass=1.0, radius=1.0, teff=5772.0,
+                                                      luminosity=2.0))).to_dict()["planets"], "b")["teq_k"]
+    assert t2 / t1 == pytest.approx(2 ** 0.25, rel=1e-12)
+
+
 def test_redistribution_factor_ratios(make_system, row_of):
     planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0)]
     teq = {mode: row_of(derive(make_system(planets, heat_redistribution=mode)).to_dict()["planets"], "b")["teq_k"]

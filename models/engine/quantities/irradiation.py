@@ -13,15 +13,15 @@ def insolation_earth(c):
 
 
 @quantity("planets", unit="K", label="Teq", fmt=".0f",
-          description="equilibrium temperature under the stated albedo and heat redistribution",
-          source="equilibrium_temperature", estimate=True, group=_ORBITS, views=("flux",))
+          description="equilibrium temperature of the orbit-averaged flux, under the stated albedo and heat "
+                      "redistribution", source="mendez_rivera2017", estimate=True, group=_ORBITS, views=("flux",))
 def teq_k(c):
-    return irradiation.equilibrium_temperature(c.star_teff, c.star_radius_m, c.a_m, c.bond_albedo, c.redistribution)
+    return irradiation.equilibrium_temperature(c.insolation_earth, c.bond_albedo, c.redistribution)
 
 
 @intermediate("planets", unit="K", description="Teq for zero albedo and full redistribution (the TSM/ESM convention)")
 def teq_zero_albedo_k(c):
-    return irradiation.equilibrium_temperature(c.star_teff, c.star_radius_m, c.a_m, 0.0, 0.25)
+    return irradiation.equilibrium_temperature(c.insolation_earth, 0.0, 0.25)
 
 
 @quantity("planets", label="HZ region", kind="label", labels=irradiation.HZ_REGIONS,
