@@ -18,6 +18,9 @@ HZ_COEFFICIENTS = np.array([
 ])
 #: Teff range over which Kopparapu et al. 2014 state their fit valid [K]
 HZ_TEFF_RANGE = (2600.0, 7200.0)
+#: coolest Teff to which the fit is extrapolated, flagged as such, for ultracool dwarfs [K]; below,
+#: no habitable zone is given (the polynomial was never meant for brown dwarfs or planets as hosts)
+HZ_EXTRAPOLATED_MIN_TEFF = 1000.0
 HZ_REGIONS = ("too hot", "optimistic inner", "conservative", "optimistic outer", "too cold")
 
 
@@ -105,7 +108,8 @@ def hz_effective_flux(teff_k):
 
     S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K
     (Kopparapu et al. 2014, ApJL 787, L29, eq. 4 and Table 1). Valid for
-    2600 K <= Teff <= 7200 K; the caller checks the range.
+    2600 K <= Teff <= 7200 K; the caller checks the range and flags an
+    extrapolation.
 
     Parameters
     ----------

@@ -75,7 +75,8 @@ class Star(_Body):
     name = param.String(default="star", constant=False, doc="Name of the star (free text)")
     mass = param.Number(default=1.0, bounds=(1e-3, 300.0), inclusive_bounds=(False, True), doc="Mass [Msun]")
     radius = param.Number(default=1.0, bounds=(1e-3, 2000.0), inclusive_bounds=(False, True), doc="Radius [Rsun]")
-    teff = param.Number(default=5772.0, bounds=(500.0, 60000.0), doc="Effective temperature [K]")
+    teff = param.Number(default=5772.0, bounds=(0.0, 60000.0), inclusive_bounds=(False, True),
+                        doc="Effective temperature [K] (any positive value: brown dwarfs and planets can be hosts)")
     luminosity = param.Number(default=None, allow_None=True, bounds=(0.0, 1e7), inclusive_bounds=(False, True),
                               doc="Bolometric luminosity [Lsun]; None: 4 pi R^2 sigma Teff^4")
     j_mag = param.Number(default=None, allow_None=True, bounds=(-5.0, 30.0), doc="Apparent J magnitude [mag], for TSM")

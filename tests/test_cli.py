@@ -26,7 +26,7 @@ PLANET_KEYS, PAIR_KEYS, TRIPLE_KEYS, SKY_KEYS = (document_keys(t) for t in ("pla
 
 DEMOS = demo_names()
 DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies"}
-STAR_KEYS = {"name", "mass_msun", "radius_rsun", "teff_k", "luminosity_lsun", "hz_au"}
+STAR_KEYS = {"name", "mass_msun", "radius_rsun", "teff_k", "luminosity_lsun", "hz_au", "hz_extrapolated"}
 
 
 @pytest.fixture(scope="module")
@@ -149,7 +149,7 @@ def _assert_document_shape(doc, system, sampled):
     expected = DOCUMENT_KEYS | ({"samples", "seed"} if sampled else set())
     assert set(doc) == expected
     assert doc["format"] == "orbitdeck-derived/1" and doc["system"] == {"name": system.name}
-    assert set(doc["star"]) == STAR_KEYS | ({"interval"} if sampled else set())
+    assert set(doc["star"]) == STAR_KEYS | ({"interval", "fraction"} if sampled else set())
     n = len(system.planets)
     for table, keys, rows in (("planets", PLANET_KEYS, n), ("pairs", PAIR_KEYS, n - 1),
                               ("triples", TRIPLE_KEYS, max(n - 2, 0)), ("skies", SKY_KEYS, n * n)):

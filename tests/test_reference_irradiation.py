@@ -180,7 +180,7 @@ def test_region_thresholds_are_the_papers(make_system, row_of, flux, region):
     assert planet["hz_region"] == region
 
 
-@pytest.mark.parametrize("teff", [2500.0, 7300.0])
+@pytest.mark.parametrize("teff", [900.0, 7300.0])
 def test_hz_outside_validity_range_is_withheld_with_a_warning(make_system, teff):
     # Kopparapu et al. 2014 state their fit for 2600 K <= Teff <= 7200 K
     system = make_system([dict(name="b", period=20.0, radius=1.0, mass=1.0)],
@@ -191,6 +191,35 @@ def test_hz_outside_validity_range_is_withheld_with_a_warning(make_system, teff)
     assert all(p["hz_region"] is None for p in doc["planets"])
     assert any("2600" in w and "7200" in w for w in doc["warnings"])
     assert derived.hz_valid is False
+
+
+@pytest.mark.parametrize("teff", [1200.0, 2200.0, 2599.0])
+def test_hz_of_ultracool_dwarfs_is_extrapolated_and_flagged(make_system, teff):
+    # below the fit's calibrated 2600 K (Kopparapu et al. 2014) the limits are the same polynomial,
+    # extrapolated: flagged in the document and in the warnings, and ordered as at 2600 K
+    system = make_system([dict(name="b", period=5.0, radius=1.0, mass=1.0)],
+                         star=dict(name="s", mass=0.08, radius=0.1, teff=teff))
+    doc = derive(system).to_dict()
+    hz = doc["star"]["hz_au"]
+    assert doc["star"]["hz_extrapolated"] is True
+    assert hz["recent_venus"] < hz["runaway_greenhouse"] < hz["maximum_greenhouse"] < hz["early_mars"]
+    assert doc["planets"][0]["hz_region"] is not None
+    assert any("extrapolated" in w and "2600" in w for w in doc["warnings"])
+
+
+def test_fraction_of_draws_in_the_habitable_zone(make_system):
+    # a planet at the conservative zone's inner edge (runaway greenhouse, S = 1.107 for a Sun-like star
+    # of L = 1 Lsun at Teff = 5780 K, Kopparapu et al. 2014 Table 1) with a wide luminosity error:
+    # about half the draws fall inside the conservative zone, nearly all inside the optimistic one
+    from orbitdeck.models import Uncertainty
+
+    a_au = 1.0 / np.sqrt(1.107)
+    system = make_system([dict(name="b", period=_period_for(a_au), radius=1.0, mass=1.0)],
+                         star=dict(name="sun", mass=1.0, radius=1.0, teff=5780.0, luminosity=1.0))
+    system.star.set_uncertainty("luminosity", Uncertainty.from_sigma(0.05))
+    fractions = derive(system, samples=4000, seed=2).to_dict()["planets"][0]["fraction"]
+    assert 0.4 < fractions["in_conservative_hz"] < 0.6
+    assert fractions["in_optimistic_hz"] > 0.99
 
 
 @pytest.mark.parametrize("teff", [2600.0, 7200.0])

@@ -221,7 +221,7 @@ def test_flux_scatter_points_are_insolation_and_radius(app):
 
 
 def test_flux_without_habitable_zone_outside_the_fit_range(app):
-    app.system.star.teff = 2400.0
+    app.system.star.teff = 900.0
     flux = view(app, "Flux & temperature")
     assert not any(s.visible for s in flux.spans.values())
     assert "outside" in flux.hz_note.text

@@ -18,9 +18,13 @@ def collect_warnings(system: System, derived) -> list[str]:
     warnings = []
     teff = system.star.teff
     lo, hi = irradiation.HZ_TEFF_RANGE
-    if not lo <= teff <= hi:
+    if irradiation.HZ_EXTRAPOLATED_MIN_TEFF <= teff < lo:
+        warnings.append(f"Teff = {teff:g} K is below {lo:g}-{hi:g} K, the calibrated range of the Kopparapu et al. "
+                        "2014 habitable-zone fit; the habitable-zone limits and regions shown are extrapolated.")
+    elif not lo <= teff <= hi:
         warnings.append(f"Teff = {teff:g} K is outside {lo:g}-{hi:g} K, the range of the Kopparapu et al. 2014 "
-                        "habitable-zone fit; no habitable-zone limits or regions are given.")
+                        f"habitable-zone fit (extrapolated down to {irradiation.HZ_EXTRAPOLATED_MIN_TEFF:g} K only); "
+                        "the model does not apply to this host, so no habitable-zone limits or regions are given.")
     pl = derived.planets
     star_radius_au = system.star.radius * R_SUN / AU
     for name, peri in zip(pl["name"], derived.extra["periastron_au"]):

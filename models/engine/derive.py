@@ -77,7 +77,9 @@ class Derived:
     of the intermediate arrays the views use (orbital elements in SI and
     au, periastron and apoastron distances, the habitable-zone limit
     fluxes). Missing values are NaN in float columns and None in object
-    columns. ``intervals`` is empty without Monte Carlo draws; with them,
+    columns. ``hz_valid`` says whether the habitable zone is given at all
+    (``star["hz_extrapolated"]`` whether beyond its fit's calibrated range).
+    ``intervals`` is empty without Monte Carlo draws; with them,
     ``fractions`` holds the fraction of draws in which each yes/no quantity
     holds, by table and key.
     """
@@ -274,8 +276,7 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     Derived
     """
     nominal = nominal_inputs(system)
-    lo, hi = irradiation.HZ_TEFF_RANGE
-    hz_valid = lo <= system.star.teff <= hi
+    hz_valid = irradiation.HZ_EXTRAPOLATED_MIN_TEFF <= system.star.teff <= irradiation.HZ_TEFF_RANGE[1]
     tables = nominal_tables(system, Context(nominal), hz_valid)
     derived = Derived(system_name=system.name, system=tables["system"], star=tables["star"], planets=tables["planets"],
                       pairs=tables["pairs"], triples=tables["triples"], skies=tables["skies"],

@@ -29,3 +29,19 @@ def teq_zero_albedo_k(c):
           group=_ORBITS, views=("flux",))
 def hz_region(c):
     return irradiation.hz_region_index(c.insolation_earth, c.hz_limit_flux)
+
+
+@quantity("planets", kind="bool", label="in conservative HZ",
+          description="insolation between the runaway and maximum greenhouse limits", source="kopparapu2014",
+          estimate=True)
+def in_conservative_hz(c):
+    return c.hz_region == irradiation.HZ_REGIONS.index("conservative")
+
+
+@quantity("planets", kind="bool", label="in optimistic HZ",
+          description="insolation between the recent Venus and early Mars limits", source="kopparapu2014",
+          estimate=True)
+def in_optimistic_hz(c):
+    region = c.hz_region
+    return (region >= irradiation.HZ_REGIONS.index("optimistic inner")) & (
+        region <= irradiation.HZ_REGIONS.index("optimistic outer"))

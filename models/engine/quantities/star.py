@@ -39,3 +39,10 @@ for _index, _limit in enumerate(irradiation.HZ_LIMITS):
     quantity("star", f"hz_{_limit}_au", key=f"hz_au.{_limit}", unit="au", label=_limit.replace("_", " "),
              description=f"{_limit.replace('_', ' ')} limit of the habitable zone", source="kopparapu2014",
              estimate=True)(_hz_distance(_index))
+
+
+@quantity("star", kind="bool", label="HZ extrapolated",
+          description="whether Teff lies below the 2600-7200 K calibrated range of the habitable-zone fit",
+          source="kopparapu2014")
+def hz_extrapolated(c):
+    return c.star_teff < irradiation.HZ_TEFF_RANGE[0]
