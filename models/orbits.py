@@ -85,24 +85,45 @@ def _grid_seed(p_in, e_in, w_in, p_out, e_out, w_out):
     return theta[i], theta[j]
 
 
+def _radial_gap(theta, p_in, e_in, w_in, p_out, e_out, w_out):
+    """r_out - r_in at the longitudes ``theta`` (Murray & Dermott 1999, eq. 2.20)."""
+    return p_out / (1.0 + e_out * np.cos(theta - w_out)) - p_in / (1.0 + e_in * np.cos(theta - w_in))
+
+
 def _closest_block(a_in, e_in, w_in, a_out, e_out, w_out):
     """:func:`closest_orbit_distance` of one block of flat arrays."""
+    distance = np.abs(a_out - a_in)          # two circles: along any ray
+    eccentric = np.flatnonzero((e_in > 0.0) | (e_out > 0.0))
+    if not eccentric.size:
+        return distance
+    a_in, e_in, w_in, a_out, e_out, w_out = (x[eccentric] for x in (a_in, e_in, w_in, a_out, e_out, w_out))
     p_in, p_out = a_in * (1.0 - e_in**2), a_out * (1.0 - e_out**2)
-    theta = np.linspace(0.0, 2.0 * np.pi, SWEEP_LONGITUDES, endpoint=False)
-    column = (slice(None), None)
-    gap = (p_out[column] / (1.0 + e_out[column] * np.cos(theta - w_out[column]))
-           - p_in[column] / (1.0 + e_in[column] * np.cos(theta - w_in[column])))
-    # the radial gap changes sign where the orbits cross
-    crossing = (gap.min(axis=1) <= 0.0) & (gap.max(axis=1) >= 0.0)
-    t_in = t_out = theta[np.argmin(np.abs(gap), axis=1)]
-    best = np.abs(gap).min(axis=1)
-    wide = np.flatnonzero(~crossing & (np.maximum(e_in, e_out) > _GRID_E_MIN))
-    if wide.size:
-        t_in, t_out = t_in.copy(), t_out.copy()
-        for start in range(0, wide.size, _GRID_BLOCK):
-            pick = wide[start:start + _GRID_BLOCK]
-            t_in[pick], t_out[pick] = _grid_seed(p_in[pick], e_in[pick], w_in[pick], p_out[pick], e_out[pick],
-                                                 w_out[pick])
+    orbits = (p_in, e_in, w_in, p_out, e_out, w_out)
+    # to first order in e the radial gap is (a_out - a_in) - |C| cos(theta - arg C), with
+    # C = a_out e_out exp(i w_out) - a_in e_in exp(i w_in), least at arg C (the classic minimum
+    # separation of nearly circular orbits); pairs where that first-order gap is not clearly
+    # positive, or that are eccentric, are swept in longitude instead
+    cx = a_out * e_out * np.cos(w_out) - a_in * e_in * np.cos(w_in)
+    cy = a_out * e_out * np.sin(w_out) - a_in * e_in * np.sin(w_in)
+    # where the "outer" orbit is the smaller one the gap is negative, least in size opposite arg C
+    t_in = np.arctan2(cy, cx) + np.where(a_out < a_in, np.pi, 0.0)
+    largest_e = np.maximum(e_in, e_out)
+    first_order_gap = np.abs(a_out - a_in) - np.sqrt(cx * cx + cy * cy)
+    doubtful = np.flatnonzero((largest_e > 0.1) | (first_order_gap < 4.0 * np.maximum(a_in, a_out) * largest_e**2))
+    crossing = np.zeros(a_in.size, dtype=bool)
+    if doubtful.size:
+        theta = np.linspace(0.0, 2.0 * np.pi, SWEEP_LONGITUDES, endpoint=False)
+        column = (doubtful, None)
+        gap = _radial_gap(theta, *(x[column] for x in orbits))
+        # the radial gap changes sign where the orbits cross
+        crossing[doubtful] = (gap.min(axis=1) <= 0.0) & (gap.max(axis=1) >= 0.0)
+        t_in[doubtful] = theta[np.argmin(np.abs(gap), axis=1)]
+    t_out = t_in.copy()
+    wide = np.flatnonzero(~crossing & (largest_e > _GRID_E_MIN))
+    for start in range(0, wide.size, _GRID_BLOCK):
+        pick = wide[start:start + _GRID_BLOCK]
+        t_in[pick], t_out[pick] = _grid_seed(*(x[pick] for x in orbits))
+    best = np.abs(_radial_gap(t_in, *orbits))
     for _ in range(NEWTON_STEPS):
         (x1, y1), (dx1, dy1), (ddx1, ddy1) = _point_and_derivatives(t_in, p_in, e_in, w_in)
         (x2, y2), (dx2, dy2), (ddx2, ddy2) = _point_and_derivatives(t_out, p_out, e_out, w_out)
@@ -122,7 +143,8 @@ def _closest_block(a_in, e_in, w_in, a_out, e_out, w_out):
     (x1, y1), _, _ = _point_and_derivatives(t_in, p_in, e_in, w_in)
     (x2, y2), _, _ = _point_and_derivatives(t_out, p_out, e_out, w_out)
     best = np.minimum(best, np.sqrt((x1 - x2) ** 2 + (y1 - y2) ** 2))
-    return np.where(crossing, 0.0, best)
+    distance[eccentric] = np.where(crossing, 0.0, best)
+    return distance
 
 
 def closest_orbit_distance(a_in, e_in, omega_in, a_out, e_out, omega_out):
@@ -132,9 +154,10 @@ def closest_orbit_distance(a_in, e_in, omega_in, a_out, e_out, omega_out):
     common longitude changes sign, r = a (1 - e^2) / (1 + e cos(theta - omega))
     (Murray & Dermott 1999, eq. 2.20). Otherwise the closest points need not
     lie at one longitude: the distance |P_in(t_in) - P_out(t_out)| is
-    minimised over both longitudes by Newton steps, seeded by the longitude
-    of the smallest radial gap in a sweep of 96. Exact, |a_out - a_in|, for
-    circular orbits; it ignores the small mutual inclination of compact
+    minimised over both longitudes by Newton steps, seeded at the
+    first-order longitude of the least gap for nearly circular orbits, by a
+    sweep of 96 longitudes (and, beyond e = 0.3, a grid of both) for the
+    others. Exact, |a_out - a_in|, for circular orbits; it ignores the small mutual inclination of compact
     transiting systems (common practice).
 
     Parameters

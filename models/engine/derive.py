@@ -226,7 +226,7 @@ def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals,
         rows = max((a.shape[1] for a in arrays), default=0)
         stacked = (np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays
                    else np.empty((0, samples)))
-        low, high = percentile_bounds(stacked)
+        low, high = percentile_bounds(stacked, overwrite=True)
         tables[table] = {q.key: (low[i * rows:(i + 1) * rows], high[i * rows:(i + 1) * rows])
                          for i, q in enumerate(sampled)}
         fractions[table] = {q.key: np.broadcast_to(getattr(draws, q.name), (samples, 1)).mean(axis=0)
@@ -244,11 +244,14 @@ def _sky_intervals(draws: Context, samples: int) -> dict:
     observer, body = draws.sky_rows
     low = {q.key: np.empty(observer.size) for q in sampled}
     high = {q.key: np.empty(observer.size) for q in sampled}
+    # rows in the order of their pair of planets (star rows first), so that a chunk holds both
+    # directions of a pair, whose closest approach is then worked out once
+    order = np.lexsort((np.maximum(observer, body), np.minimum(observer, body), body >= 0))
     for start in range(0, observer.size, SKY_ROWS_PER_CHUNK):
-        chunk = slice(start, start + SKY_ROWS_PER_CHUNK)
+        chunk = order[start:start + SKY_ROWS_PER_CHUNK]
         part = draws.restricted("skies", sky_rows=(observer[chunk], body[chunk]))
         for q in sampled:
-            rows = np.broadcast_to(getattr(part, q.name), (samples, observer[chunk].size)).T
+            rows = np.broadcast_to(getattr(part, q.name), (samples, chunk.size)).T
             low[q.key][chunk], high[q.key][chunk] = percentile_bounds(rows)
     return {key: (low[key], high[key]) for key in low}
 

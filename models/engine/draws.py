@@ -95,19 +95,22 @@ def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inpu
     return replace(nominal, **drawn)
 
 
-def percentile_bounds(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def percentile_bounds(rows: np.ndarray, overwrite: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The 16th and 84th percentiles of each row of ``rows`` (rows, draws), numpy's 'linear' definition.
 
     NaN draws (a quantity undefined in some draws) are left out; a row of
-    nothing but NaN gives NaN.
+    nothing but NaN gives NaN. With ``overwrite`` the rows may be reordered
+    in place (saves a copy of a large array the caller no longer needs).
     """
     rows = np.asarray(rows, dtype=float)
     bounds = np.full((len(PERCENTILES), rows.shape[0]), np.nan)
     nan = np.isnan(rows)
     partly, complete = nan.any(axis=1) & ~nan.all(axis=1), ~nan.any(axis=1)
     with np.errstate(invalid="ignore"):   # an infinite draw (an exact commensurability's super-period)
-        if complete.any():
-            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1)
+        if complete.all():
+            bounds[:] = np.percentile(rows, PERCENTILES, axis=1, overwrite_input=overwrite)
+        elif complete.any():
+            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1, overwrite_input=True)
         if partly.any():   # nanpercentile loops over rows in Python: only the rows that need it
             bounds[:, partly] = np.nanpercentile(rows[partly], PERCENTILES, axis=1)
     return bounds[0], bounds[1]

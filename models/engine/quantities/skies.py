@@ -42,9 +42,12 @@ def closest_distance_au(c):
     a, e, omega = c.semi_major_axis_au, c.eccentricity, c.omega_rad
     distance = np.array(np.broadcast_to(c.periastron_au[:, observer], (max(a.shape[0], e.shape[0]), observer.size)))
     planet = np.flatnonzero(body >= 0)
-    low, high = np.minimum(observer[planet], body[planet]), np.maximum(observer[planet], body[planet])
-    distance[:, planet] = orbits.closest_orbit_distance(a[:, low], e[:, low], omega[:, low],
-                                                        a[:, high], e[:, high], omega[:, high])
+    # each pair of orbits once, whichever planet observes the other
+    pairs, row_pair = np.unique(np.stack([np.minimum(observer[planet], body[planet]),
+                                          np.maximum(observer[planet], body[planet])]), axis=1, return_inverse=True)
+    low, high = pairs
+    closest = orbits.closest_orbit_distance(a[:, low], e[:, low], omega[:, low], a[:, high], e[:, high], omega[:, high])
+    distance[:, planet] = closest[:, row_pair.ravel()]
     return distance
 
 
