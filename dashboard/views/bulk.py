@@ -83,11 +83,11 @@ class BulkView(param.Parameterized):
             "mass_radius": mass_radius.opts(
                 title="Mass and radius, with composition curves (Zeng et al. 2016)", logx=True, logy=True,
                 xlabel="mass [M\u2295]", ylabel="radius [R\u2295]", height=PLOT_HEIGHT, responsive=True,
-                legend_position="bottom_right"),
+                legend_position="right"),
             "shoreline": shoreline.opts(
                 title="Cosmic shoreline (Zahnle & Catling 2017)", logx=True, logy=True,
                 xlabel="escape speed [km/s]", ylabel="insolation [S\u2295]", height=PLOT_HEIGHT, responsive=True,
-                legend_position="bottom_right"),
+                legend_position="top_left"),
             "heat": heat.opts(
                 title=f"Tidal heat flux for the stated Q' (dashed: Earth {tides.EARTH_HEAT_FLUX} W/m\u00b2, "
                       f"Io {tides.IO_HEAT_FLUX} W/m\u00b2)",
@@ -193,10 +193,10 @@ class BulkView(param.Parameterized):
 
     @param.depends("revision", "selected")
     def _mass_radius_selected(self):
-        frame = self._mass_radius_frame()
-        chosen = frame[frame["name"] == self.selected]
-        return hv.Scatter(chosen, "mass", ["radius", "name"]).opts(
-            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2)
+        frame = self._mass_radius_frame().rename(columns={"name": "highlighted_name"})
+        chosen = frame[frame["highlighted_name"] == self.selected]
+        return hv.Scatter(chosen, "mass", ["radius", "highlighted_name"]).opts(
+            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2, tools=["hover"])
 
     # -- cosmic shoreline --------------------------------------------------------------------
     def _shoreline_line(self):
@@ -301,7 +301,8 @@ class BulkView(param.Parameterized):
             "<b>Model estimates, not measurements.</b> Composition curves and core mass fractions: Zeng, Sasselov "
             "&amp; Jacobsen 2016; H/He envelope fractions: Lopez &amp; Fortney 2014 at an assumed age of "
             f"{interiors.ENVELOPE_AGE_GYR:g} Gyr. A mass and radius fit many interiors.",
-            f"Tidal heating for Q' = {a.tidal_q:g} (where a planet gives none of its own), synchronous rotation.",
+            f"Tidal heating for Q' = {a.tidal_q:g} (where a planet gives none of its own), synchronous rotation; "
+            "a circular orbit (e = 0) gets none and no bar.",
             f"Escape: energy-limited, XUV flux {a.xuv_flux:g} of the bolometric flux, efficiency "
             f"{a.escape_efficiency:g}. Shoreline drawn through Mars (Zahnle &amp; Catling 2017's I \u221d v\u2074).",
             f"Spectroscopy: scale heights at Teq; transits for a {self.scale_heights:g}-scale-height feature seen at "
