@@ -171,3 +171,51 @@ def hz_region_index(insolation_earth, limit_fluxes):
     """
     s = np.asarray(insolation_earth)[..., None]
     return np.sum(s <= np.asarray(limit_fluxes)[..., None, :], axis=-1)
+
+
+#: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: the runaway-greenhouse rows for planets of
+#: 0.1, 1 and 5 Earth masses (S_eff,sun, a, b, c, d as above)
+RUNAWAY_MASSES_MEARTH = (0.1, 1.0, 5.0)
+RUNAWAY_COEFFICIENTS = np.array([
+    [0.990, 1.209e-4, 1.404e-8, -7.418e-12, -1.713e-15],   # 0.1 Mearth
+    [1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15],   # 1 Mearth
+    [1.188, 1.433e-4, 1.707e-8, -8.968e-12, -2.084e-15],   # 5 Mearth
+])
+
+
+def runaway_greenhouse_flux(teff_k, mass_mearth):
+    """Runaway-greenhouse effective flux for a planet's own mass.
+
+    The Kopparapu et al. 2014 (ApJL 787, L29, eq. 4 and Table 1) limits for
+    0.1, 1 and 5 Earth masses at the star's Teff, interpolated linearly in
+    log10 mass; a mass outside 0.1-5 Mearth takes the nearest published
+    limit (the caller flags it, see :func:`runaway_greenhouse_mass_clamped`).
+    NaN outside 2600-7200 K, where the polynomial is not valid.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K], broadcast against ``mass_mearth``.
+    mass_mearth : array_like
+        Planet mass [Mearth].
+
+    Returns
+    -------
+    ndarray
+        S_eff [S_earth].
+    """
+    teff = np.asarray(teff_k, dtype=float)
+    t = teff - 5780.0
+    limits = [s_sun + a * t + b * t**2 + c * t**3 + d * t**4 for s_sun, a, b, c, d in RUNAWAY_COEFFICIENTS]
+    x = np.log10(np.clip(mass_mearth, *RUNAWAY_MASSES_MEARTH[::2]))
+    low_mass = x < 0.0
+    step = np.where(low_mass, (x + 1.0) / 1.0, x / np.log10(5.0))
+    flux = np.where(low_mass, limits[0] + step * (limits[1] - limits[0]), limits[1] + step * (limits[2] - limits[1]))
+    valid = (teff >= HZ_TEFF_RANGE[0]) & (teff <= HZ_TEFF_RANGE[1])
+    return np.where(valid, flux, np.nan)
+
+
+def runaway_greenhouse_mass_clamped(mass_mearth):
+    """Whether a mass lies outside 0.1-5 Mearth, where Kopparapu et al. 2014 give no runaway limit."""
+    m = np.asarray(mass_mearth)
+    return (m < RUNAWAY_MASSES_MEARTH[0]) | (m > RUNAWAY_MASSES_MEARTH[-1])

@@ -90,7 +90,7 @@ class Planet(_Body):
 
     UNITS = {
         "period": "d", "radius": "Rearth", "mass": "Mearth", "eccentricity": None,
-        "inclination": "deg", "omega": "deg", "transit_time": "d",
+        "inclination": "deg", "omega": "deg", "transit_time": "d", "tidal_q": None,
     }
 
     name = param.String(default="b", constant=False, doc="Planet name, usually its letter")
@@ -102,14 +102,28 @@ class Planet(_Body):
     inclination = param.Number(default=90.0, bounds=(0.0, 180.0), doc="Orbital inclination to the sky plane [deg]")
     omega = param.Number(default=90.0, bounds=(-360.0, 360.0), doc="Argument of periastron [deg]")
     transit_time = param.Number(default=None, allow_None=True, doc="A mid-transit time [BJD_TDB, d]")
+    tidal_q = param.Number(default=None, allow_None=True, bounds=(0.0, 1e12), inclusive_bounds=(False, True),
+                           doc="Modified tidal quality factor Q' of this planet; None: the assumption's")
 
 
 class Assumptions(_Body):
-    """Modelling assumptions that every derived temperature depends on."""
+    """Modelling assumptions that derived temperatures, interiors and atmospheres depend on."""
 
-    UNITS = {"bond_albedo": None}
+    UNITS = {"bond_albedo": None, "tidal_q": None, "mean_molecular_weight": None, "eclipse_wavelength_um": "um",
+             "xuv_flux": None, "escape_efficiency": None}
 
     bond_albedo = param.Number(default=0.3, bounds=(0.0, 1.0), inclusive_bounds=(True, False), doc="Bond albedo A, 0 <= A < 1")
+    # Q' = 100 is a common choice for rocky bodies (common practice, not a measurement)
+    tidal_q = param.Number(default=100.0, bounds=(0.0, 1e12), inclusive_bounds=(False, True),
+                           doc="Modified tidal quality factor Q' = 3 Q / (2 k2) of every planet without its own")
+    mean_molecular_weight = param.Number(default=2.3, bounds=(0.0, 1000.0), inclusive_bounds=(False, True),
+                                         doc="Mean molecular weight of the atmospheres [u] (2.3: H2/He, solar)")
+    eclipse_wavelength_um = param.Number(default=15.0, bounds=(0.0, 1e4), inclusive_bounds=(False, True),
+                                         doc="Wavelength of the secondary-eclipse depth [um]")
+    xuv_flux = param.Number(default=1e-4, bounds=(0.0, 1.0), doc="XUV (X-ray + extreme-UV) flux at each planet "
+                            "as a fraction of the bolometric flux there, L_XUV / L_bol of the star")
+    escape_efficiency = param.Number(default=0.1, bounds=(0.0, 1.0), inclusive_bounds=(False, True),
+                                     doc="Heating efficiency of energy-limited escape, 0 < epsilon <= 1")
     heat_redistribution = param.Selector(default="full", objects=list(REDISTRIBUTION_FACTORS),
                                          doc="full: f=1/4; dayside: f=1/2; none: f=2/3")
 

@@ -24,9 +24,10 @@ def mass_is_estimated(c):
     return np.isnan(c.mass)
 
 
-@intermediate("planets", unit="earthMass", description="measured mass, else the mass-radius relation's")
+@intermediate("planets", unit="earthMass",
+              description="measured mass, else the mass-radius relation's (its intrinsic scatter in the draws)")
 def mass_or_estimate_mearth(c):
-    return np.where(c.mass_is_estimated, composition.mass_from_radius(c.radius), c.mass)
+    return np.where(c.mass_is_estimated, composition.mass_from_radius_with_scatter(c.radius, c.mass_relation_z), c.mass)
 
 
 @intermediate("planets", unit="kg")
