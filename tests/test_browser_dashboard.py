@@ -91,7 +91,7 @@ def enter(page, label: str, text: str) -> None:
 
 def test_every_view_renders_offline_without_errors(browser, demo_url):
     with dashboard(browser, demo_url) as (page, log):
-        assert "Tamsin Reach" in page.title()
+        assert "Ossery Loom" in page.title()
         shapes = {"Layout": 7, "Neighbour skies": 49, "Period ladder": 6, "Flux & temperature": 7,
                   "Observability": 7}
         for view in VIEWS:

@@ -92,7 +92,7 @@ def test_round_trip_through_a_saved_file(tmp_path):
 
 
 def test_planets_written_out_of_order_are_kept_in_period_order():
-    text = dumps_system(load_system(demo_path("ember_chain")))
+    text = dumps_system(load_system(demo_path("ossery_loom")))
     doc = tomllib.loads(text)
     doc["planets"].reverse()
     reordered = system_from_document(doc)

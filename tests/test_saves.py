@@ -25,7 +25,7 @@ TEMPORARY = re.compile(r"\.(?P<target>.+)\.[^.]+\.tmp")
 @pytest.fixture
 def old_and_new():
     old = load_system(demo_path("amber_pair"))
-    new = load_system(demo_path("ember_chain"))
+    new = load_system(demo_path("ossery_loom"))
     return old, new
 
 
@@ -195,7 +195,7 @@ def _large(system, letter):
 
 def test_killed_save_leaves_old_or_new_content(tmp_path):
     old = _large(load_system(demo_path("amber_pair")), "o")
-    new = _large(load_system(demo_path("ember_chain")), "n")
+    new = _large(load_system(demo_path("ossery_loom")), "n")
     contents = {dumps_system(old).encode("utf-8"), dumps_system(new).encode("utf-8")}
     sources = tmp_path / "sources"
     sources.mkdir()

@@ -70,8 +70,8 @@ def test_flux_error_bars_are_the_insolation_intervals(app):
     s, (_, t_hi) = app.derived.planets["insolation_earth"], app.derived.intervals["planets"]["teq_k"]
     first = table["S err (16\u201384%)"].iloc[0]
     plus, minus = first.split(" ")
-    assert float(plus[1:]) == pytest.approx(hi[0] - s[0], rel=2e-3)
-    assert float(minus[1:]) == pytest.approx(s[0] - lo[0], rel=2e-3)
+    assert float(plus[1:]) == pytest.approx(hi[0] - s[0], rel=3e-3)
+    assert float(minus[1:]) == pytest.approx(s[0] - lo[0], rel=3e-3)
     assert "Teq err (16\u201384%)" in table.columns
     assert float(table["Teq err (16\u201384%)"].iloc[-1].split(" ")[0][1:]) == pytest.approx(
         t_hi[-1] - app.derived.planets["teq_k"][-1], rel=2e-3)
@@ -151,9 +151,9 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     assert calls == []
     app.uncertainty = True
     assert calls == [(1000, DEFAULT_SEED)]
-    assert len(layout.sources["bands"].data["inner"]) == 7
-    assert len(flux.sources["errors"].data["lower"]) == 7
-    assert len(ladder.sources["errors"].data["lower"]) == 6
+    assert len(layout.sources["bands"].data["inner"]) == 5
+    assert len(flux.sources["errors"].data["lower"]) == 5
+    assert len(ladder.sources["errors"].data["lower"]) == 4
     calls.clear()
     app.system.star.mass = app.system.star.mass * 1.02  # an edit with the switch on: one derivation with draws
     assert calls == [(1000, DEFAULT_SEED)]
