@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 import panel as pn
 import param
+from bokeh.models import NumberFormatter
 
 from orbitdeck.models.forecast import (DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG, Conditions,
                                        ForecastInputError, forecast_transits)
@@ -43,6 +44,14 @@ _UNIX_EPOCH_JD = 2440587.5
 _MS_PER_DAY = 86_400_000.0
 CAUTION = ("Predictions from a linear ephemeris (T0 + n P, uncorrelated errors of T0 and P; transit-timing "
            "variations not modelled): model estimates, not observations. Altitudes are geometric (no refraction).")
+#: how the table shows its numbers (Bokeh's formatters: no thousands separators in Julian dates)
+TABLE_FORMATS = {"mid [BJD_TDB]": "0.00000", "ingress [BJD_TDB]": "0.00000", "egress [BJD_TDB]": "0.00000",
+                 "1 sigma [min]": "0.00", "altitude [deg]": "0.0", "airmass": "0.00", "Sun [deg]": "0.0",
+                 "Moon sep. [deg]": "0", "Moon lit": "0.00"}
+KEY = ("Ticks: transits at their mid-times (faint: not observable from the site; thin: not even partly); "
+       "shaded: nights; ▼: transits of two or more planets at once. Zoom in (wheel) to see each bar from "
+       "ingress to egress inside its 1-sigma and 3-sigma windows. Click a row, a tick or a table row to pick a "
+       "planet.")
 TABLE_COLUMNS = {"planet": "planet", "epoch": "epoch", "mid_bjd_tdb": "mid [BJD_TDB]", "sigma_min": "1 sigma [min]",
                  "ingress_bjd_tdb": "ingress [BJD_TDB]", "egress_bjd_tdb": "egress [BJD_TDB]",
                  "mid_utc": "mid [UTC]", "altitude_deg": "altitude [deg]", "airmass": "airmass",
@@ -83,7 +92,8 @@ class TransitPlannerView(param.Parameterized):
         self.message = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.table = pn.widgets.Tabulator(pd.DataFrame(), disabled=True, show_index=False, selectable=1,
                                           pagination="local", page_size=12, sizing_mode="stretch_width",
-                                          layout="fit_data_table")
+                                          layout="fit_data_table",
+                                          formatters={k: NumberFormatter(format=v) for k, v in TABLE_FORMATS.items()})
         self.table.param.watch(self._table_selection, "selection")
         self.dynamic = hv.DynamicMap(self.timeline)
         self.tap = hv.streams.Tap(source=self.dynamic, x=None, y=None)
@@ -168,7 +178,7 @@ class TransitPlannerView(param.Parameterized):
         with pn.io.hold():
             colour = "#8a2d00" if error else "#5c4400"
             items = "".join(f'<li style="color:{colour}">{html.escape(n)}</li>' for n in notes)
-            self.message.object = (f'<div style="font-size:12px;color:#444">{html.escape(CAUTION)}'
+            self.message.object = (f'<div style="font-size:12px;color:#444">{html.escape(CAUTION)} {html.escape(KEY)}'
                                    + (f'<ul style="margin:2px 0">{items}</ul>' if items else "") + "</div>")
             columns = [k for k in TABLE_COLUMNS if not self.rows or k in self.rows[0]]
             frame = pd.DataFrame([{TABLE_COLUMNS[k]: r[k] for k in columns} for r in self.rows],
@@ -200,8 +210,8 @@ class TransitPlannerView(param.Parameterized):
     def _subtitle(self) -> str:
         site = self.site()
         return ("no site chosen" if site is None or self.sky is None else
-                f"nights (Sun below {DEFAULT_MAX_SUN_ALTITUDE_DEG:g} deg) at latitude {site.latitude:g}, "
-                f"longitude {site.longitude:g}")
+                f"nights (Sun below {DEFAULT_MAX_SUN_ALTITUDE_DEG:g} deg) at latitude {site.latitude:g} deg, "
+                f"longitude {site.longitude:g} deg east, {site.elevation:g} m")
 
     def _nights(self, rows: int):
         begin, end = self.night_bounds
@@ -284,7 +294,7 @@ class TransitPlannerView(param.Parameterized):
         self.table.selection = rows[:1]
 
     # -- layout ----------------------------------------------------------------------------
-    def controls(self) -> pn.Row:
+    def controls(self) -> pn.FlexBox:
         start = pn.widgets.TextInput.from_param(self.param.start_text, label="Start (BJD_TDB or ISO date, UTC)",
                                                 width=230)
         span = pn.widgets.Select.from_param(self.param.span, label="Range", width=110)
@@ -292,7 +302,7 @@ class TransitPlannerView(param.Parameterized):
         numbers = [pn.widgets.FloatInput.from_param(self.param[name], label=label, width=130)
                    for name, label in (("latitude", "Latitude [deg]"), ("longitude", "Longitude E [deg]"),
                                        ("elevation", "Elevation [m]"), ("min_altitude", "Min. altitude [deg]"))]
-        return pn.Row(start, span, site, *numbers, sizing_mode="stretch_width")
+        return pn.FlexBox(start, span, site, *numbers, sizing_mode="stretch_width")
 
     def panel(self) -> pn.Column:
         return pn.Column(self.controls(), self.message, pn.pane.HoloViews(self.dynamic, backend="bokeh", sizing_mode="stretch_width"),
