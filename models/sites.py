@@ -11,14 +11,15 @@ and leap seconds bundled with it and to its built-in ephemeris;
 lies beyond those tables.
 
 Altitudes at many instants come from a :class:`SkyTrack`: astropy's
-apparent hour angle and declination of a body at nodes a fixed step apart,
-interpolated between the nodes (cubic splines of the declination and of the
-hour angle's offset from the Earth rotation angle, both slow), then
+apparent hour angle and declination of a body at nodes 2 days apart,
+interpolated linearly between them (the declination and the hour angle's
+offset from the Earth rotation angle, both slow), then
 sin h = sin phi sin delta + cos phi cos delta cos H. Against astropy's
 ``AltAz`` at every instant the altitudes agree to about 1 arcsec for a star
-and 10 arcsec for the Sun (whose topocentric parallax, 9 arcsec, follows the
-nodes' hour angles), at a small part of the cost. Altitudes are geometric:
-no atmospheric refraction.
+and 15 arcsec for the Sun (the curvature of its path between nodes, and its
+topocentric parallax of 9 arcsec, which follows the nodes' hour angles), at
+a small part of the cost. Altitudes are geometric: no atmospheric
+refraction.
 """
 
 from __future__ import annotations
@@ -30,15 +31,15 @@ from dataclasses import dataclass
 
 import astropy.units as u
 import numpy as np
-from astropy.coordinates import Distance, EarthLocation, HADec, SkyCoord, get_body
+from astropy.coordinates import Distance, EarthLocation, HADec, SkyCoord, get_body, get_body_barycentric
 from astropy.time import Time
 from erfa import ErfaWarning
-from scipy.interpolate import CubicSpline
 
 from .earth_orientation import offline_astropy
 from .system import DEFAULT_COORDINATE_EPOCH, Site, Star
 
-#: spacing of the nodes of a :class:`SkyTrack` [d] (1 d and 4 d give the same altitudes to 0.01 arcsec)
+#: spacing of the nodes of a :class:`SkyTrack` [d]: interpolated linearly, the Sun's altitude stays within
+#: about 15 arcsec of astropy's AltAz at 2 d (7 at 1 d, 40 at 4 d), a star's within about 1 arcsec
 TRACK_STEP_D = 2.0
 #: iterations of t + light_travel_time(t) = BJD_TDB (the second leaves an error of a few microseconds)
 LIGHT_TIME_ITERATIONS = 2
@@ -162,28 +163,37 @@ def illuminated_fraction(phase_angle):
 class SkyTrack:
     """A body's apparent hour angle and declination at a site, at nodes, ready to interpolate.
 
-    ``offset`` interpolates E + lambda - H (Earth rotation angle plus
+    ``offset`` holds E + lambda - H at the nodes (Earth rotation angle plus
     longitude, less the hour angle: the body's apparent right ascension on
     the CIO-based equator, which changes slowly), ``declination`` the
-    apparent declination, both [rad] against the UTC Julian date;
-    ``position`` (for Sun and Moon) the observer-centred GCRS position [km].
+    apparent declination, both [rad], against the nodes' UTC Julian dates
+    ``nodes_jd``; ``position`` (for the Sun) the observer-centred GCRS
+    position [km], shaped (3, nodes). Between nodes all are interpolated
+    linearly.
     """
 
-    offset: CubicSpline
-    declination: CubicSpline
+    nodes_jd: np.ndarray
+    offset: np.ndarray
+    declination: np.ndarray
     latitude_rad: float
     longitude: u.Quantity
-    position: CubicSpline | None = None
+    position: np.ndarray | None = None
 
     def hour_angle_and_declination(self, utc: Time):
         """Hour angle and declination [rad] at ``utc``."""
         era = utc.earth_rotation_angle(self.longitude).to_value(u.rad)
-        return era - self.offset(utc.jd), self.declination(utc.jd)
+        jd = utc.jd
+        return era - np.interp(jd, self.nodes_jd, self.offset), np.interp(jd, self.nodes_jd, self.declination)
 
     def altitude_deg(self, utc: Time) -> np.ndarray:
         """Geometric altitude [deg] at ``utc`` (call inside :func:`offline_astropy`)."""
         hour_angle, declination = self.hour_angle_and_declination(utc)
         return np.rad2deg(altitude(hour_angle, declination, self.latitude_rad))
+
+    def position_at(self, utc: Time) -> np.ndarray:
+        """The interpolated position [km] at ``utc``, shaped (3, ...)."""
+        jd = utc.jd
+        return np.stack([np.interp(jd, self.nodes_jd, axis) for axis in self.position])
 
 
 def track_nodes(first_jd: float, last_jd: float) -> Time:
@@ -200,26 +210,28 @@ def sky_track(body, location: EarthLocation, nodes: Time) -> SkyTrack:
     position = None
     if isinstance(body, str):
         body = get_body(body, nodes, location)
-        xyz = body.cartesian.xyz.to_value(u.km)
-        position = CubicSpline(nodes.jd, xyz, axis=1)
+        position = body.cartesian.xyz.to_value(u.km)
     frame = HADec(obstime=nodes, location=location)
     apparent = body.transform_to(frame)
     era = nodes.earth_rotation_angle(location.lon).to_value(u.rad)
     offset = np.unwrap(era - apparent.ha.to_value(u.rad))
-    return SkyTrack(CubicSpline(nodes.jd, offset), CubicSpline(nodes.jd, apparent.dec.to_value(u.rad)),
-                    float(location.lat.to_value(u.rad)), location.lon, position)
+    return SkyTrack(nodes.jd, offset, apparent.dec.to_value(u.rad), float(location.lat.to_value(u.rad)),
+                    location.lon, position)
 
 
 def moon_separation_and_light(utc: Time, location: EarthLocation, coord: SkyCoord, sun: SkyTrack):
     """The Moon's angular distance from the star [deg] and its illuminated fraction at ``utc``.
 
-    The Moon's topocentric place comes from astropy; the Sun's from the
-    track's interpolated position. The separation takes the star's ICRS
-    direction against the Moon's apparent one (good to the star's
-    aberration, about 20 arcsec). Call inside :func:`offline_astropy`.
+    The Moon's position seen from the site is astropy's barycentric Moon
+    less the barycentric Earth and the site's geocentric position (all on
+    ICRS axes; the Moon's light time, 1.3 s, is neglected: about 1 km); the
+    Sun's comes from the track. The separation takes the star's ICRS
+    direction (good to its aberration, about 20 arcsec). Call inside
+    :func:`offline_astropy`.
     """
-    moon = get_body("moon", utc, location).cartesian.xyz.to_value(u.km)
-    sun_xyz = sun.position(utc.jd)
+    moon = (get_body_barycentric("moon", utc) - get_body_barycentric("earth", utc)).xyz.to_value(u.km)
+    moon = moon - location.get_gcrs_posvel(utc)[0].xyz.to_value(u.km)
+    sun_xyz = sun.position_at(utc)
     moon_distance = np.sqrt(np.sum(moon * moon, axis=0))
     sun_distance = np.sqrt(np.sum(sun_xyz * sun_xyz, axis=0))
     cos_elongation = np.sum(moon * sun_xyz, axis=0) / (moon_distance * sun_distance)
