@@ -192,12 +192,13 @@ def cmd_transits(args) -> int:
         atomic_write(args.ics, ics_bytes(rows, sky, system))
         print(f"wrote {sum(r['observable'] for r in rows)} observable transits to {args.ics}", file=sys.stderr)
     else:
-        where = "" if sky is None else (
-            f"; seen from {site_text(site)}: observable when the star stays at or above {conditions.min_altitude_deg:g} deg "
-            f"and the Sun at or below {conditions.max_sun_altitude_deg:g} deg from {conditions.baseline_h:g} h "
-            "before ingress to as long after egress (geometric altitudes)")
-        sys.stdout.write(f"transits of {system.name} from BJD_TDB {start:.5f} to {end:.5f}: {CAUTION}{where}\n"
-                         + _text_table(rows, sky is not None) + "\n")
+        lines = [f"transits of {system.name}, BJD_TDB {start:.5f} to {end:.5f}", CAUTION]
+        if sky is not None:
+            lines.append(f"site: {site_text(site)}; observable: the star at or above "
+                         f"{conditions.min_altitude_deg:g} deg and the Sun at or below "
+                         f"{conditions.max_sun_altitude_deg:g} deg from {conditions.baseline_h:g} h before ingress "
+                         f"to {conditions.baseline_h:g} h after egress (geometric altitudes); times in UTC")
+        sys.stdout.write("\n".join(lines) + "\n" + _text_table(rows, sky is not None) + "\n")
         if sky is not None:
             sys.stdout.write(f"{int(sky.observable.sum())} observable, {int(sky.partial.sum())} partial, "
                              f"of {len(rows)} transits\n")
