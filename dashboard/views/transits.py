@@ -294,7 +294,7 @@ class TransitPlannerView(param.Parameterized):
         self.table.selection = rows[:1]
 
     # -- layout ----------------------------------------------------------------------------
-    def controls(self) -> pn.FlexBox:
+    def controls(self) -> pn.Column:
         start = pn.widgets.TextInput.from_param(self.param.start_text, label="Start (BJD_TDB or ISO date, UTC)",
                                                 width=230)
         span = pn.widgets.Select.from_param(self.param.span, label="Range", width=110)
@@ -302,7 +302,8 @@ class TransitPlannerView(param.Parameterized):
         numbers = [pn.widgets.FloatInput.from_param(self.param[name], label=label, width=130)
                    for name, label in (("latitude", "Latitude [deg]"), ("longitude", "Longitude E [deg]"),
                                        ("elevation", "Elevation [m]"), ("min_altitude", "Min. altitude [deg]"))]
-        return pn.FlexBox(start, span, site, *numbers, sizing_mode="stretch_width")
+        # two plain rows, not a FlexBox: its "__ref:" tag carries a model id that snapshots cannot renumber
+        return pn.Column(pn.Row(start, span, site), pn.Row(*numbers), sizing_mode="stretch_width")
 
     def panel(self) -> pn.Column:
         return pn.Column(self.controls(), self.message, pn.pane.HoloViews(self.dynamic, backend="bokeh", sizing_mode="stretch_width"),
