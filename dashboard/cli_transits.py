@@ -106,6 +106,8 @@ def ics_bytes(rows: list[dict], sky, system) -> bytes:
     from astropy.time import Time
     from icalendar import Calendar, Event
 
+    from orbitdeck.models.earth_orientation import offline_astropy
+
     baseline = sky.conditions.baseline_h * u.hour
     calendar = Calendar()
     calendar.add("prodid", "-//orbitdeck//transit forecasts//EN")
@@ -116,13 +118,14 @@ def ics_bytes(rows: list[dict], sky, system) -> bytes:
         if not row["observable"]:
             continue
         known = row["ingress_utc"] is not None
-        first = Time(sky.ingress_utc[k] if known else sky.mid_utc[k]) - baseline
-        last = Time(sky.egress_utc[k] if known else sky.mid_utc[k]) + baseline
+        with offline_astropy():   # quiet about years beyond the leap-second list (the notes say it)
+            first = (Time(sky.ingress_utc[k] if known else sky.mid_utc[k]) - baseline).to_datetime(timezone.utc)
+            last = (Time(sky.egress_utc[k] if known else sky.mid_utc[k]) + baseline).to_datetime(timezone.utc)
         event = Event()
         event.add("uid", f"{slug}-{row['planet']}-{row['epoch']}@orbitdeck")
         event.add("dtstamp", stamp)
-        event.add("dtstart", first.to_datetime(timezone=timezone.utc).replace(microsecond=0))
-        event.add("dtend", last.to_datetime(timezone=timezone.utc).replace(microsecond=0))
+        event.add("dtstart", first.replace(microsecond=0))
+        event.add("dtend", last.replace(microsecond=0))
         event.add("summary", f"Transit of {system.star.name} {row['planet']} (epoch {row['epoch']})")
         event.add("location", site_text(sky.site))
         event.add("description", "\n".join([

@@ -156,7 +156,8 @@ def _number(value) -> float | None:
 
 def _iso(times: Time) -> list[str]:
     """ISO 8601 UTC texts to the second ("2026-01-01T01:50:12Z")."""
-    return [f"{text}Z" for text in Time(times, precision=0).isot]
+    with offline_astropy():   # quiet about years beyond the leap-second list (the notes say it)
+        return [f"{text}Z" for text in Time(times, precision=0).isot]
 
 
 def forecast_rows(forecast: TransitForecast, sky: TransitSky | None = None) -> list[dict]:

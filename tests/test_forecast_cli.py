@@ -227,3 +227,11 @@ def test_a_site_without_star_coordinates_gives_the_list_without_sky_columns(cli,
     assert rows and not (SITE_KEYS & set(rows[0]))
     assert "no star.ra and star.dec" in result.stderr
     _refused(cli.run("transits", path, *RANGE, SITE, "--ics", tmp_path / "x.ics"), "star.ra")
+
+
+def test_times_beyond_the_bundled_tables_are_said_once_in_words(cli):
+    result = _ok(cli.run("transits", "--start", "2031-06-01", "--end", "2031-06-03", SITE, "--json"))
+    assert "Warning" not in result.stderr          # no Python warning leaks from astropy or ERFA
+    assert "outside the bundled IERS" in result.stderr and "leap-second list" in result.stderr
+    near = _ok(cli.run("transits", *RANGE, SITE, "--json"))
+    assert "IERS" not in near.stderr
