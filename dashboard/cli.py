@@ -98,6 +98,12 @@ def _register_sky(commands):
     register(commands)
 
 
+def _register_transits(commands):
+    from orbitdeck.dashboard.cli_transits import register
+
+    register(commands)
+
+
 def _register_serve(commands):
     from orbitdeck.dashboard.serve import register_serve
 
@@ -111,7 +117,7 @@ def _register_snapshot(commands):
 
 
 #: functions that add further subcommands (kept in their own modules so heavy imports stay lazy)
-_EXTRA_COMMANDS: list = [_register_sky, _register_serve, _register_snapshot]
+_EXTRA_COMMANDS: list = [_register_sky, _register_transits, _register_serve, _register_snapshot]
 
 
 def main(argv=None) -> int:

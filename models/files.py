@@ -9,10 +9,8 @@ the target and renames it over, so a failed save never damages a file.
 
 from __future__ import annotations
 
-import json
 import math
 import os
-import re
 import stat
 import tempfile
 import tomllib
@@ -23,6 +21,7 @@ import astropy.units as u
 import param
 import tomli_w
 
+from .file_sky import SkyFields, _join, _kind
 from .quantity import Uncertainty
 from .system import REDISTRIBUTION_FACTORS, Assumptions, Planet, Star, System, _Body
 
@@ -55,7 +54,7 @@ class SystemFileError(ValueError):
         super().__init__("\n".join(str(p) for p in self.problems))
 
 
-class _Checker:
+class _Checker(SkyFields):
     """Collects problems while a document is turned into param objects."""
 
     def __init__(self, source: str):
@@ -164,7 +163,8 @@ class _Checker:
 
     def body(self, cls, raw, path):
         """A Star, Planet or Assumptions from its table, or None."""
-        allowed = set(cls.UNITS) | ({"heat_redistribution"} if cls is Assumptions else {"name"})
+        allowed = (set(cls.UNITS) | ({"heat_redistribution"} if cls is Assumptions else {"name"})
+                   | set(getattr(cls, "POSITION_FIELDS", ())))
         before = len(self.problems)
         if self.table(raw, path, allowed, ("name", *_REQUIRED[cls]) if cls is not Assumptions else ()) is None:
             return None
@@ -191,6 +191,8 @@ class _Checker:
                           f"must be one of {', '.join(map(repr, REDISTRIBUTION_FACTORS))}, not {choice!r}")
             elif isinstance(choice, str):
                 values["heat_redistribution"] = choice
+        if cls is Star:
+            values.update(self.position(raw, path))
         if len(self.problems) > before:
             return None
         return cls(**values, uncertainties=spreads, refs=refs)
@@ -208,21 +210,10 @@ class _Checker:
         return True
 
 
-def _join(path: str, key: str) -> str:
-    if not re.fullmatch(r"[A-Za-z0-9_-]+", key):
-        key = json.dumps(key)
-    return f"{path}.{key}" if path else key
-
-
-def _kind(value) -> str:
-    return {bool: "a boolean", str: "a string", dict: "a table", list: "an array",
-            int: "an integer", float: "a number"}.get(type(value), type(value).__name__)
-
-
 def system_from_document(doc: dict, source: str = "<document>") -> System:
     """A :class:`System` from a parsed system-file document; raises :class:`SystemFileError`."""
     check = _Checker(source)
-    if check.table(doc, "", {"format", "system", "assumptions", "star", "planets"},
+    if check.table(doc, "", {"format", "system", "assumptions", "star", "planets", "sites"},
                    ("format", "system", "star", "planets")) is None:
         raise SystemFileError(check.problems)
     if "format" in doc and doc["format"] != FORMAT:
@@ -248,9 +239,11 @@ def system_from_document(doc: dict, source: str = "<document>") -> System:
             if planet.name in seen:
                 check.fail(f"planets[{i}].name", f"duplicate planet name {planet.name!r} (also planets[{seen[planet.name]}])")
             seen.setdefault(planet.name, i)
+    sites = check.sites(doc["sites"]) if "sites" in doc else []
     if check.problems:
         raise SystemFileError(check.problems)
-    return System(name=name, notes=notes, epoch=epoch, star=star, assumptions=assumptions, planets=planets)
+    return System(name=name, notes=notes, epoch=epoch, star=star, assumptions=assumptions, planets=planets,
+                  sites=sites)
 
 
 def load_system(path) -> System:
@@ -320,6 +313,9 @@ def _body_out(body: _Body, with_name: bool = True) -> dict:
     for key in body.UNITS:
         if getattr(body, key) is not None:
             out[key] = _quantity_out(body, key)
+    for key in getattr(body, "POSITION_FIELDS", ()):
+        if getattr(body, key) is not None:
+            out[key] = getattr(body, key)
     return out
 
 
@@ -327,18 +323,25 @@ def system_to_document(system: System) -> dict:
     """The system-file document of ``system`` (values in the default units)."""
     assumptions = _body_out(system.assumptions, with_name=False)
     assumptions["heat_redistribution"] = system.assumptions.heat_redistribution
-    return {
+    doc = {
         "format": FORMAT,
         "system": {"name": system.name, "notes": system.notes, "epoch": system.epoch},
         "assumptions": assumptions,
         "star": _body_out(system.star),
         "planets": [_body_out(p) for p in system.planets],
     }
+    if system.sites:
+        doc["sites"] = [{"name": s.name, "latitude": s.latitude, "longitude": s.longitude, "elevation": s.elevation}
+                        for s in system.sites]
+    return doc
 
 
 def dumps_system(system: System) -> str:
     """The system file of ``system`` as TOML text."""
-    return tomli_w.dumps(system_to_document(system))
+    doc = system_to_document(system)
+    sites = doc.pop("sites", [])
+    # each site as its own [[sites]] table, as the format shows it (tomli_w would write short ones inline)
+    return tomli_w.dumps(doc) + "".join(f"\n[[sites]]\n{tomli_w.dumps(site)}" for site in sites)
 
 
 def _current_umask() -> int:

@@ -13,6 +13,8 @@ A :class:`System` keeps its planets ordered by period and increments its
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import param
 
 from .quantity import Uncertainty
@@ -64,6 +66,14 @@ class _Body(param.Parameterized):
         self.uncertainties = updated
 
 
+#: proper motions beyond this are refused as typing errors [mas/yr] (the fastest known star moves ~10^4)
+MAX_PROPER_MOTION = 1e5
+#: Julian year of the coordinates when proper motions are given without a coordinate_epoch
+DEFAULT_COORDINATE_EPOCH = 2000.0
+#: elevations of observing sites outside this range are refused [m]
+SITE_ELEVATION_RANGE = (-500.0, 10000.0)
+
+
 class Star(_Body):
     """The host star. Luminosity, magnitudes and distance are optional."""
 
@@ -83,6 +93,25 @@ class Star(_Body):
     k_mag = param.Number(default=None, allow_None=True, bounds=(-5.0, 30.0), doc="Apparent K magnitude [mag], for ESM")
     distance = param.Number(default=None, allow_None=True, bounds=(0.0, 1e6), inclusive_bounds=(False, True),
                             doc="Distance from the Sun [pc]")
+    # the sky position, optional: needed only for forecasts seen from a site
+    ra = param.Number(default=None, allow_None=True, bounds=(0.0, 360.0), inclusive_bounds=(True, False),
+                      doc="Right ascension, ICRS [deg]")
+    dec = param.Number(default=None, allow_None=True, bounds=(-90.0, 90.0), doc="Declination, ICRS [deg]")
+    pm_ra = param.Number(default=None, allow_None=True, bounds=(-MAX_PROPER_MOTION, MAX_PROPER_MOTION),
+                         doc="Proper motion in right ascension, mu_alpha cos(dec) [mas/yr]")
+    pm_dec = param.Number(default=None, allow_None=True, bounds=(-MAX_PROPER_MOTION, MAX_PROPER_MOTION),
+                          doc="Proper motion in declination [mas/yr]")
+    coordinate_epoch = param.Number(default=None, allow_None=True, bounds=(1000.0, 3000.0),
+                                    doc=f"Epoch of ra and dec when proper motions are given [Julian year]; "
+                                        f"None: J{DEFAULT_COORDINATE_EPOCH:.1f}")
+
+    #: the sky-position fields (plain numbers, no uncertainty)
+    POSITION_FIELDS = ("ra", "dec", "pm_ra", "pm_dec", "coordinate_epoch")
+
+    @property
+    def has_position(self) -> bool:
+        """True when the star's right ascension and declination are known."""
+        return self.ra is not None and self.dec is not None
 
 
 class Planet(_Body):
@@ -133,6 +162,34 @@ class Assumptions(_Body):
         return REDISTRIBUTION_FACTORS[self.heat_redistribution]
 
 
+@dataclass(frozen=True)
+class Site:
+    """An observing site on the Earth.
+
+    ``latitude`` and ``longitude`` are geodetic [deg], longitude positive to
+    the east; ``elevation`` is the height [m] (above the WGS84 ellipsoid,
+    for which a height above sea level serves: the tens of metres between
+    the two change no altitude noticeably).
+    """
+
+    name: str
+    latitude: float
+    longitude: float
+    elevation: float = 0.0
+
+    def problems(self) -> list[tuple[str, str]]:
+        """(field, reason) for every coordinate out of range; empty when the site is valid."""
+        found = []
+        checks = (("latitude", self.latitude, -90.0, 90.0, "deg"), ("longitude", self.longitude, -180.0, 360.0, "deg"),
+                  ("elevation", self.elevation, *SITE_ELEVATION_RANGE, "m"))
+        for field, value, low, high, unit in checks:
+            if not (isinstance(value, (int, float)) and not isinstance(value, bool)):
+                found.append((field, f"must be a number, not {type(value).__name__}"))
+            elif not low <= value <= high:
+                found.append((field, f"must be between {low:g} and {high:g} {unit}, not {value:g}"))
+        return found
+
+
 class System(param.Parameterized):
     """A star, its planets ordered by period, and the assumptions in force."""
 
@@ -142,6 +199,7 @@ class System(param.Parameterized):
     star = param.ClassSelector(class_=Star, instantiate=False, doc="The host star")
     assumptions = param.ClassSelector(class_=Assumptions, instantiate=False, doc="Albedo and heat redistribution")
     planets = param.List(default=[], item_type=Planet, instantiate=True, doc="Planets, kept ordered by period")
+    sites = param.List(default=[], item_type=Site, instantiate=True, doc="Observing sites named in the file")
     revision = param.Integer(default=0, doc="Incremented on every change to anything in the system")
 
     def __init__(self, **params):
@@ -149,7 +207,7 @@ class System(param.Parameterized):
         params.setdefault("assumptions", Assumptions())
         super().__init__(**params)
         self._item_watchers: list = []
-        self.param.watch(self._on_own_change, ["name", "notes", "epoch", "star", "assumptions", "planets"])
+        self.param.watch(self._on_own_change, ["name", "notes", "epoch", "star", "assumptions", "planets", "sites"])
         self._sort_planets()
         self._watch_items()
 
@@ -210,4 +268,12 @@ class System(param.Parameterized):
             return type(obj)(**{n: getattr(obj, n) for n in obj.param})
 
         return System(name=self.name, notes=self.notes, epoch=self.epoch, star=clone(self.star),
-                      assumptions=clone(self.assumptions), planets=[clone(p) for p in self.planets])
+                      assumptions=clone(self.assumptions), planets=[clone(p) for p in self.planets],
+                      sites=list(self.sites))
+
+    def site(self, name: str) -> Site:
+        """The site called ``name`` (sites are named in the file's ``[[sites]]``)."""
+        for site in self.sites:
+            if site.name == name:
+                return site
+        raise KeyError(f"no site named {name!r} in {self.name!r}")

@@ -7,6 +7,7 @@ import math
 import tomllib
 
 import astropy.units as u
+from astropy.coordinates import Angle
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -56,6 +57,11 @@ def test_demo_loads_with_the_values_written_in_it(name):
         for key, written in table.items():
             if key in ("name", "heat_redistribution"):
                 assert getattr(body, key) == written
+                continue
+            if key in ("ra", "dec") and isinstance(written, str):
+                # sexagesimal text, read independently by astropy's own angle parser
+                angle = Angle(written, unit=u.hourangle if key == "ra" else u.deg)
+                assert getattr(body, key) == pytest.approx(angle.deg, abs=1e-10), key
                 continue
             assert getattr(body, key) == _value(written), key
             spread = body.uncertainty(key)
