@@ -180,8 +180,10 @@ def test_tight_pair_triggers_the_hill_stability_warning(make_system):
 # -- tidal locking ----------------------------------------------------------------
 
 def test_tidal_locking_time_by_hand_with_astropy_units(make_system, row_of):
-    # Gladman et al. 1996 eq. 9: t = omega a^6 I Q / (3 G M*^2 k2 R^5), I = alpha m R^2, with the
-    # fiducial Q = 100, k2 = 0.3, alpha = 0.4 and a 12 h initial spin stated in the model's docstring
+    # Gladman et al. 1996 eq. 9 (pp. 169-170, after Peale 1977), as printed and quoted in a stored copy of the
+    # encyclopaedia article on tidal locking: t = omega a^6 I Q / (3 G M*^2 k2 R^5), I = alpha m R^2 (alpha
+    # = 0.4 for a uniform sphere); with the fiducial Q = 100, k2 = 0.3 and a 12 h initial spin of the
+    # model's docstring (assumptions, not measurements), written here with astropy quantities
     star = dict(name="s", mass=0.3, radius=0.3, teff=3300.0)
     doc = derive(make_system([dict(name="b", period=30.0, radius=1.1, mass=1.3)], star=star)).to_dict()
     m, r, mstar = 1.3 * const.M_earth, 1.1 * const.R_earth, 0.3 * const.M_sun
