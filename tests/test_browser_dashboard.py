@@ -14,7 +14,8 @@ from pathlib import Path
 
 import pytest
 
-from browser_support import open_page, screenshot, served, wait_for
+from browser_support import canvas_colour_pixels, open_page, screenshot, served, wait_for
+from orbitdeck.dashboard.views import palette
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
@@ -106,6 +107,46 @@ def test_every_view_renders_offline_without_errors(browser, demo_url):
             screenshot(page, f"dashboard_{slug}.png")
 
 
+#: a plot counts as drawn when it shows at least this many pixels of planet colours, with at least
+#: ``MIN_PLANET_COLOURS`` of the palette's colours (or every planet's, if fewer) among them
+MIN_PLANET_PIXELS = 300
+MIN_PLANET_COLOURS = 3
+#: pixels of one colour below which it is not counted as shown (antialiasing leaves a few anywhere)
+MIN_PIXELS_OF_A_COLOUR = 20
+#: the translucent habitable-zone fills: each fill colour over this many pixels of the Layout view
+MIN_HZ_PIXELS = 2000
+
+
+def planet_palette(names) -> dict[str, str]:
+    """Planet name -> colour, as the dashboard's palette gives them (in period order)."""
+    return dict(zip(names, palette.planet_colours(len(names))))
+
+
+def hz_palette() -> dict[str, str]:
+    return {"conservative": palette.HZ_CONSERVATIVE_COLOUR, "optimistic": palette.HZ_OPTIMISTIC_COLOUR}
+
+
+def test_every_view_draws_the_planets_in_their_colours(browser, demo_url):
+    # a blank plot (or one drawn in other colours) fails here: each view's canvases are photographed and
+    # the pixels of every planet's palette colour counted, wherever they are
+    names = load_system(demo_path()).planet_names
+    count = len(names)
+    with dashboard(browser, demo_url) as (page, _):
+        for view in VIEWS:
+            show(page, view)
+            page.wait_for_timeout(600)
+            pixels = canvas_colour_pixels(page, planet_palette(names))
+            shown = [name for name, n in pixels.items() if n >= MIN_PIXELS_OF_A_COLOUR]
+            assert sum(pixels.values()) >= MIN_PLANET_PIXELS, (view, pixels)
+            assert len(shown) >= min(MIN_PLANET_COLOURS, count), (view, pixels)
+            if view == "Layout":
+                # every orbit is drawn to scale in its planet's colour, and the habitable zone's two fills
+                # (translucent over the white plot) under them
+                assert len(shown) == count, pixels
+                zone = canvas_colour_pixels(page, hz_palette(), strength=(0.15, 0.6), tolerance=4.0)
+                assert min(zone.values()) >= MIN_HZ_PIXELS, zone
+
+
 def test_the_stellar_mass_control_changes_the_shown_semi_major_axes(browser, demo_url):
     expected = load_system(demo_path())
     expected.star.mass = 0.2
@@ -191,11 +232,11 @@ def test_free_text_is_shown_as_text(browser, tmp_path):
     text = text.replace('name = "b"', 'name = "<b>b</b>"', 1)
     path = tmp_path / "hostile.toml"
     path.write_text(text)
-    with served(tmp_path, str(path)) as url, dashboard(browser, url) as (page, _):
-        dialogs = []
-        page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+    # the page's log listens for dialogs (and console errors) from before it navigates, so an alert
+    # raised while the page loads counts too
+    with served(tmp_path, str(path)) as url, dashboard(browser, url) as (page, log):
         page.wait_for_timeout(1000)
-        assert page.locator("img[src='x']").count() == 0 and dialogs == []
+        assert page.locator("img[src='x']").count() == 0 and log.dialogs == []
         assert page.get_by_text("<img src=x onerror=alert(1)>", exact=True).count() >= 1
         assert "<img src=x onerror=alert(1)>" in page.title()
         cells = flux_cells(page, "planet")

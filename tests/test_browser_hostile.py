@@ -106,8 +106,7 @@ def dashboard(browser, url):
     """
     origin = url.rsplit("/", 1)[0]
     with open_page(browser, (origin,), VIEWPORT) as (page, log):
-        dialogs: list[str] = []
-        page.on("dialog", lambda d: (dialogs.append(f"{d.type}: {d.message}"), d.dismiss()))
+        dialogs = log.dialogs   # recorded (and dismissed) from before the page loads
         page.goto(url)
         page.wait_for_selector(".bk-Canvas", timeout=60_000)
         page.wait_for_function("() => window.Bokeh && Bokeh.documents.length > 0", timeout=30_000)

@@ -131,6 +131,76 @@ def test_table_prints_tables_with_units(cli, name):
     assert all(re.search(r"\d \+\S+ -\S+ \(est\.\)", row) for row in estimated)
 
 
+#: text-table heading -> key of the JSON document, for every numeric or text column the tables show
+TEXT_COLUMNS = {
+    "P [d]": "period_d", "a [au]": "semi_major_axis_au", "S [S_earth]": "insolation_earth", "Teq [K]": "teq_k",
+    "HZ region": "hz_region", "R [R_earth]": "radius_rearth", "M [M_earth]": "mass_mearth",
+    "rho [g/cm3]": "density_gcc", "g [m/s2]": "surface_gravity_ms2", "v_esc [km/s]": "escape_speed_kms",
+    "r_Hill [au]": "hill_radius_au", "t_lock [Gyr]": "tidal_lock_gyr", "P_transit": "transit_probability",
+    "depth [ppm]": "transit_depth_ppm", "T14 [h]": "transit_duration_h", "b": "impact_parameter",
+    "K [m/s]": "rv_semi_amplitude_ms", "TSM": "tsm", "ESM": "esm",
+    "P2/P1": "period_ratio", "nearest": "nearest", "order": "order", "Delta": "delta",
+    "P_super [d]": "super_period_d", "spacing [R_H,m]": "mutual_hill_spacing",
+    "closest [au]": "closest_distance_au", "max diameter [arcsec]": "max_angular_diameter_arcsec",
+    "x Moon from Earth": "moon_ratio",
+}
+
+
+def _text_tables(text: str) -> list[tuple[list[str], list[dict]]]:
+    """Every table of the text output: its headings and rows (heading -> cell text), columns found from the
+    dashes under the headings (cells may hold spaces)."""
+    lines = text.splitlines()
+    tables = []
+    for i in range(1, len(lines) - 1):
+        rule = lines[i + 1]
+        if not rule or set(rule) != {"-", " "} or not lines[i].strip():
+            continue
+        spans = [m.span() for m in re.finditer(r"-+", rule)]
+        cut = lambda line: [line[a:b if k < len(spans) - 1 else None].strip() for k, (a, b) in enumerate(spans)]
+        headings = cut(lines[i])
+        rows = []
+        for line in lines[i + 2:]:
+            if not line.strip():
+                break
+            rows.append(dict(zip(headings, cut(line))))
+        tables.append((headings, rows))
+    return tables
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_table_numbers_are_the_json_documents(cli, name):
+    # every column of every planet, pair and sky table against the JSON document of the same run: numbers
+    # to the four significant figures shown, texts exactly, "-" where the document has none
+    path = demo_path(name)
+    text = _ok(cli.run("table", "--samples", "0", path)).stdout
+    doc = _strict_json(_ok(cli.run("table", "--json", "--samples", "0", path)).stdout)
+    compared = set()
+    for headings, rows in _text_tables(text):
+        first = headings[0]
+        records = {"planet": doc["planets"], "inner": doc["pairs"], "observer": doc["skies"]}.get(first)
+        if records is None:
+            continue
+        assert len(rows) == len(records), headings
+        for row, record in zip(rows, records):
+            for heading, cell in row.items():
+                key = TEXT_COLUMNS.get(heading)
+                if key is None:
+                    continue
+                value = record[key]
+                cell = cell.removesuffix(" (est.)")
+                if value is None:
+                    assert cell == "-", (heading, cell)
+                elif isinstance(value, str) or isinstance(value, int) and not isinstance(value, bool):
+                    assert cell == str(value), (heading, cell, value)
+                else:
+                    assert math.isclose(float(cell), value, rel_tol=5.01e-4, abs_tol=0.0), (heading, cell, value)
+                compared.add(key)
+    # at least these columns were found and checked (a renamed heading must not silently skip its column)
+    assert {"period_d", "semi_major_axis_au", "insolation_earth", "teq_k", "density_gcc", "mass_mearth",
+            "tidal_lock_gyr", "transit_depth_ppm", "rv_semi_amplitude_ms", "tsm", "esm", "delta",
+            "mutual_hill_spacing", "closest_distance_au", "max_angular_diameter_arcsec"} <= compared, compared
+
+
 def test_table_without_file_shows_the_default_demo(cli):
     text = _ok(cli.run("table", "--samples", "0")).stdout
     assert text.splitlines()[0] == load_system(demo_path(DEFAULT_DEMO)).name

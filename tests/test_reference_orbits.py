@@ -83,6 +83,7 @@ def test_closest_distance_of_eccentric_orbits_matches_scipy_minimum():
     assert orbits.closest_orbit_distance(a1, e1, w1, a2, e2, w2) == pytest.approx(expected, rel=1e-10)
 
 
+
 @pytest.mark.parametrize("e_max", [0.02, 0.1, 0.5, 0.9])
 def test_closest_distance_matches_scipy_at_every_eccentricity(e_max):
     rng = np.random.default_rng(int(e_max * 100))

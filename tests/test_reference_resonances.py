@@ -4,6 +4,7 @@ from fractions import Fraction
 
 import numpy as np
 import pytest
+from scipy import optimize
 
 from orbitdeck.models import derive, resonances
 
@@ -53,6 +54,39 @@ def test_super_period_by_hand(make_system):
     assert pair["super_period_d"] == pytest.approx(float(expected), rel=1e-12)
     # the same, written with Delta: P_sup = P' / (j |Delta|) (Lithwick et al. 2012, after eq. 7)
     assert pair["super_period_d"] == pytest.approx(14.86 / (2 * abs(pair["delta"])), rel=1e-12)
+
+
+def _conjunction_circulation_period(p_inner, p_outer, count=40):
+    """Time for the longitude of conjunctions to go once round, found numerically.
+
+    Lithwick, Xie & Wu 2012 (section 2) describe the super-period as the period over which the line of
+    conjunctions circulates. Here the conjunctions of two circular orbits are found one by one with scipy's
+    brentq (the inner planet laps the outer one: lambda - lambda' = 2 pi k), their longitudes are unwrapped and
+    a straight line is fitted to longitude against time: 2 pi over its slope.
+    """
+    lag = lambda t, k: 2 * np.pi * (t / p_inner - t / p_outer) - 2 * np.pi * k
+    synodic_guess = p_inner * 4   # brackets wide enough for any pair here: the lag grows monotonically
+    times, t0 = [], 0.0
+    for k in range(1, count + 1):
+        t = optimize.brentq(lag, t0, t0 + synodic_guess, args=(k,), xtol=1e-13, rtol=1e-15)
+        times.append(t)
+        t0 = t
+    times = np.array(times)
+    longitudes = np.unwrap(np.mod(2 * np.pi * times / p_outer, 2 * np.pi))
+    slope = np.polyfit(times, longitudes, 1)[0]
+    return 2 * np.pi / abs(slope)
+
+
+@pytest.mark.parametrize("p_inner, p_outer, nearest", [
+    (7.64, 14.86, "2:1"),      # the c-d pair of Kepler-18 (Cochran et al. 2011, periods quoted from memory)
+    (10.0, 15.3, "3:2"),
+    (4.0, 5.38, "4:3"),
+    (3.0, 6.2, "2:1"),
+])
+def test_super_period_is_the_circulation_period_of_the_conjunctions(make_system, p_inner, p_outer, nearest):
+    pair = _pair(make_system, p_inner, p_outer)
+    assert pair["nearest"] == nearest
+    assert pair["super_period_d"] == pytest.approx(_conjunction_circulation_period(p_inner, p_outer), rel=1e-9)
 
 
 def test_super_period_only_for_first_order(make_system):

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from orbitdeck.models import derive, skies
-from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER
+from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER, RAD_TO_ARCSEC
 
 
 def _sky(doc, observer, body):
@@ -46,11 +46,27 @@ def test_venus_seen_from_earth(solar_system):
 
 
 def test_jupiter_seen_from_earth(solar_system):
-    jupiter = _sky(derive(solar_system).to_dict(), "earth", "jupiter")
-    # almanac: Jupiter's equatorial diameter at opposition 44-50" (from memory); at the mean
-    # opposition distance a_J - a_E = 4.20 au it is ~46.9"
-    assert 44.0 < jupiter["max_angular_diameter_arcsec"] < 50.0
-    assert jupiter["closest_distance_au"] == pytest.approx(4.20, abs=0.01)
+    doc = derive(solar_system).to_dict()
+    jupiter = _sky(doc, "earth", "jupiter")
+    # circular orbits: closest distance a_J - a_E, each a from Kepler's third law written with astropy
+    def a(period_d, mass):
+        return (const.G * (const.M_sun + mass) * (period_d * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)
+
+    gap = a(4332.589, const.M_jup) - a(365.256, const.M_earth)
+    assert jupiter["closest_distance_au"] == pytest.approx(gap.to_value(u.au), rel=1e-12)
+    by_hand = (2 * np.arcsin(float(const.R_jup / gap)) * u.rad).to_value(u.arcsec)
+    assert jupiter["max_angular_diameter_arcsec"] == pytest.approx(by_hand, rel=1e-9)
+    # almanac: Jupiter's equatorial diameter at a mean opposition (4.20 au) is 46.9" (from memory), to the
+    # 0.05" of its last digit
+    assert jupiter["max_angular_diameter_arcsec"] == pytest.approx(46.9, abs=0.05)
+
+
+def test_jupiter_at_its_closest_to_earth_spans_the_published_maximum():
+    # NASA Jupiter fact sheet: minimum distance from Earth 588.5e6 km (from memory) and maximum apparent
+    # diameter 50.1" (stored copy of a planetary data sheet), from the 71,492 km equatorial radius: to the
+    # 0.05" of the published last digit
+    diameter = skies.angular_diameter(71492.0, 588.5e6) * RAD_TO_ARCSEC
+    assert diameter == pytest.approx(50.1, abs=0.05)
 
 
 def test_star_is_largest_at_periastron(make_system):

@@ -6,9 +6,10 @@ from datetime import datetime, timezone
 
 import pytest
 
-from browser_support import chromium, offline_page, screenshot
+from browser_support import canvas_colour_pixels, chromium, offline_page, screenshot
 from orbitdeck.dashboard.offline import external_references
 from orbitdeck.dashboard.snapshot import extract_system_text, render_snapshot, without_export_time
+from orbitdeck.dashboard.views import palette
 from orbitdeck.demo_systems import demo_names, demo_path
 from orbitdeck.models import derive, load_system, loads_system
 
@@ -101,45 +102,71 @@ def test_extract_refuses_a_page_without_a_system():
         extract_system_text("<html></html>", "page.html")
 
 
+#: the fewest pixels of each planet's colour, and of each habitable-zone fill, the snapshot's plots must show
+#: (every orbit is drawn in its planet's colour in the Layout view; a blank plot shows none)
+MIN_PIXELS_OF_A_PLANET = 20
+MIN_HZ_PIXELS = 2000
+
+
 @pytest.mark.browser
 @pytest.mark.parametrize("name", demo_names())
 def test_every_demo_snapshot_renders_offline(tmp_path, name):
     path = demo_path(name)
+    system = load_system(path)
     out = tmp_path / f"{name}.html"
-    out.write_text(_snapshot(load_system(path), path.name, path.read_bytes(), samples=100, seed=1))
+    out.write_text(_snapshot(system, path.name, path.read_bytes(), samples=100, seed=1))
+    planets = dict(zip(system.planet_names, palette.planet_colours(len(system.planets))))
+    hz = {"conservative": palette.HZ_CONSERVATIVE_COLOUR, "optimistic": palette.HZ_OPTIMISTIC_COLOUR}
     with chromium() as browser, offline_page(browser, {"width": 1400, "height": 1000}) as (page, log):
         page.goto(out.as_uri())
         page.wait_for_selector(".bk-Canvas", timeout=30_000)
         page.wait_for_timeout(1500)
         canvases = page.locator(".bk-Canvas").count()
         shown = {text: _shown(page, text) for text in (*VIEW_TITLES, "Provenance", "exported 2026-12-01T12:00:00Z")}
+        planet_pixels = canvas_colour_pixels(page, planets)
+        hz_pixels = canvas_colour_pixels(page, hz, strength=(0.15, 0.6), tolerance=4.0)
         screenshot(page, f"snapshot_{name}.png")
     assert log.problems() == []
     assert canvases >= len(VIEW_TITLES)
     assert all(shown.values()), shown
+    assert min(planet_pixels.values()) >= MIN_PIXELS_OF_A_PLANET, planet_pixels
+    if derive(system).hz_valid:
+        assert min(hz_pixels.values()) >= MIN_HZ_PIXELS, hz_pixels
+
+
+def _hover_every_plot(page) -> None:
+    """Scroll each plot into view and sweep the mouse across it in rows, so that every tooltip can render."""
+    canvases = page.locator(".bk-Canvas")
+    for index in range(canvases.count()):
+        canvas = canvases.nth(index)
+        if not canvas.is_visible():
+            continue
+        canvas.scroll_into_view_if_needed()
+        box = canvas.bounding_box()
+        if not box or box["width"] < 10 or box["height"] < 10:
+            continue
+        for row in range(1, 8):
+            y = box["y"] + box["height"] * row / 8
+            page.mouse.move(box["x"] + 2, y)
+            page.mouse.move(box["x"] + box["width"] - 2, y, steps=12)
 
 
 @pytest.mark.browser
 def test_hostile_names_run_nothing_in_the_page(tmp_path, hostile_system):
     out = tmp_path / "hostile.html"
     out.write_text(_snapshot(hostile_system))
+    # the page's log holds console errors, page errors and dialogs from before it loads
     with chromium() as browser, offline_page(browser) as (page, log):
-        dialogs = []
-        page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
         page.goto(out.as_uri())
         page.wait_for_selector(".bk-Canvas", timeout=30_000)
         page.wait_for_timeout(1000)
         owned = page.evaluate("window.__owned")
         system_name_shown = _shown(page, HOSTILE["system"])
-        # hover every planet point of the first plot so tooltips render the names too
-        canvas = page.locator(".bk-Canvas").first
-        box = canvas.bounding_box()
-        for step in range(0, 10):
-            page.mouse.move(box["x"] + box["width"] * step / 10, box["y"] + box["height"] / 2)
+        _hover_every_plot(page)   # tooltips render the names too
         owned_after_hover = page.evaluate("window.__owned")
-    assert owned is None and owned_after_hover is None and dialogs == []
+    assert owned is None and owned_after_hover is None
     assert system_name_shown  # shown as text
-    assert log.page_errors == []
+    assert log.problems() == []
 
 
 def test_the_dashboard_downloads_a_snapshot_of_its_current_state():
