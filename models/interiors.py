@@ -50,7 +50,7 @@ ENVELOPE_FRACTION_RANGE = (0.001, 0.20)
 ENVELOPE_INSOLATION_RANGE = (0.1, 1000.0)
 #: age assumed for the envelope fit [Gyr]: the fit's own reference age (a field planet, old)
 ENVELOPE_AGE_GYR = 5.0
-_BISECTION_STEPS = 60
+_BISECTION_STEPS = 30   # halves a range of ln(200) in f to ~5e-9 relative
 
 
 def zeng2016_radius(curve: str, mass_mearth):
