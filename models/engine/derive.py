@@ -79,7 +79,8 @@ class Derived:
     fluxes). Missing values are NaN in float columns and None in object
     columns. ``intervals`` is empty without Monte Carlo draws; with them,
     ``fractions`` holds the fraction of draws in which each yes/no quantity
-    holds, by table and key.
+    holds, by table and key. ``provenance``, when attached, goes into the
+    document as its ``provenance`` object.
     """
 
     system_name: str
@@ -96,6 +97,8 @@ class Derived:
     intervals: Mapping = field(default_factory=dict)
     fractions: dict = field(default_factory=dict)
     extra: dict = field(default_factory=dict)
+    #: where the numbers came from (see :mod:`orbitdeck.models.engine.provenance`); None until attached
+    provenance: dict | None = None
 
     @property
     def planet_names(self) -> list[str]:
@@ -116,6 +119,8 @@ class Derived:
                     doc[table]["fraction"] = _plain(self.fractions[table])
             doc["samples"] = self.samples
             doc["seed"] = self.seed
+        if self.provenance is not None:
+            doc["provenance"] = _plain(self.provenance)
         return doc
 
 
