@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 from datetime import datetime, timezone
 
 import pytest
@@ -65,7 +66,8 @@ def test_provenance_names_version_time_file_hash_and_assumptions(demo_page):
 
     digest = hashlib.sha256(demo_path().read_bytes()).hexdigest()
     for expected in (__version__, "exported 2026-12-01T12:00:00Z", demo_path().name, digest,
-                     "Bond albedo 0.3", "heat redistribution full", "nominal values only"):
+                     "bond_albedo = 0.3", "heat_redistribution = full", "redistribution_factor = 0.25",
+                     "nominal values only", "kepler_third_law"):
         assert expected in demo_page, expected
 
 
@@ -152,7 +154,8 @@ def test_the_dashboard_downloads_a_snapshot_of_its_current_state():
     kept = loads_system(extract_system_text(page).encode(), "downloaded")
     assert kept.star.mass == 0.125
     assert f"BJD_TDB {app.time:.5f}" in page
-    assert "edited in the dashboard" in page
+    assert "the state shown was edited after reading" in page
+    assert hashlib.sha256(extract_system_text(page).encode()).hexdigest() in page
 
 
 @pytest.mark.browser

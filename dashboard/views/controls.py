@@ -17,6 +17,7 @@ from functools import partial
 import panel as pn
 
 from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
+from orbitdeck.models.sources import SystemSource
 
 from .common import escape
 from .sky_from import TimePlayer
@@ -337,7 +338,7 @@ class Controls:
             text = "; ".join(str(p) for p in shown) + (f"; and {more} more" if more > 0 else "")
             _message(self.file_message, f"not loaded, the current system is kept: {text}")
             return
-        self.app.replace_system(system)
+        self.app.replace_system(system, SystemSource(source, bytes(event.new)))
         if self.app.problem:
             _message(self.file_message, f"loaded {source}, but: {self.app.problem}")
         else:
@@ -351,9 +352,9 @@ class Controls:
         from orbitdeck.dashboard.snapshot import render_snapshot
 
         app = self.app
-        text = dumps_system(app.system).encode("utf-8")
-        page = render_snapshot(app.system, "edited in the dashboard", text, time=app.time,
-                               samples=app.draws, seed=app.seed if app.draws else None)
+        page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
+                               samples=app.draws, seed=app.seed if app.draws else None,
+                               pinned=app.pinned, pinned_label=app.pinned_label)
         return io.BytesIO(page.encode("utf-8"))
 
     # -- layout ------------------------------------------------------------------
