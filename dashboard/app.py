@@ -91,6 +91,8 @@ class OrbitDeckApp(param.Parameterized):
                              before_show=self._catch_up)
         self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = pn.Column(self.tools.panel(), self.controls.panel())
+        self._locked_widgets: list = []
+        self.param.watch(self._lock_controls, "read_only")
         self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
         self.param.watch(self._texts, ["derived", "problem", "elements"])
         self._texts()
@@ -148,19 +150,38 @@ class OrbitDeckApp(param.Parameterized):
 
     def install(self, system: System, derived: Derived, elements, **shown) -> None:
         """Show ``system`` with its ``derived`` and ``elements`` as given (nothing is derived), and set the
-        app parameters in ``shown`` (time, selected, tab-independent settings) in the same update."""
+        app parameters in ``shown`` (time, selected, uncertainty...) in the same update; only what
+        differs is set, so watchers of what stays run not at all."""
         names = derived.planet_names
         selected = shown.pop("selected", self.selected)
         shown["selected"] = selected if selected in names else (names[0] if names else None)
+        wanted = dict(system=system, derived=derived, elements=elements, problem="", **shown)
+        changed = {name: value for name, value in wanted.items() if not _same_value(getattr(self, name), value)}
+        if not changed:
+            return
         self._installing = True
         try:
             if system is not self.system:
                 self.system.param.unwatch(self._revision_watcher)
                 self._revision_watcher = system.param.watch(self._on_revision, "revision")
             with pn.io.hold():
-                self.param.update(system=system, derived=derived, elements=elements, problem="", **shown)
+                self.param.update(**changed)
         finally:
             self._installing = False
+
+    def _lock_controls(self, *_):
+        """Disable every control that edits (downloads stay) while ``read_only``; enable them again after."""
+        if self.read_only:
+            tools = set(map(id, self.tools.widgets()))
+            for widget in self.sidebar.select(pn.widgets.Widget):
+                if id(widget) in tools or isinstance(widget, pn.widgets.FileDownload) or widget.disabled:
+                    continue
+                self._locked_widgets.append(widget)
+                widget.disabled = True
+        else:
+            for widget in self._locked_widgets:
+                widget.disabled = False
+            self._locked_widgets = []
 
     # -- where the numbers came from, and the pinned reference --------------------------
     def _set_source(self, source: SystemSource | None, system: System | None = None) -> None:
@@ -365,6 +386,13 @@ class PlainTemplate(pn.template.VanillaTemplate):
         super()._update_vars(*args)
         self._render_variables["app_title"] = "orbitdeck"
         self._render_variables["meta_name"] = "orbitdeck"
+
+
+def _same_value(old, new) -> bool:
+    """Plain values by equality, objects (a System, a Derived) by identity."""
+    if isinstance(new, (str, int, float, bool, type(None))) and isinstance(old, (str, int, float, bool, type(None))):
+        return old == new and type(old) is type(new)
+    return old is new
 
 
 def _derive(system: System, samples: int = 0, seed: int | None = None):

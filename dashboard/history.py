@@ -123,6 +123,10 @@ class SessionTools:
                                "no reference pinned: pin a state, edit, and the Compare tab lists what "
                                "changed") + "</div>")
 
+    def widgets(self) -> list:
+        """The widgets of these tools (they follow ``read_only`` themselves)."""
+        return [self.undo, self.redo, self.pin, self.unpin]
+
     def panel(self):
         return pn.Card(pn.Row(self.undo, self.redo), self.pin, self.unpin, self.note, title="Edits and reference",
                        width=320, margin=(4, 4))
