@@ -198,7 +198,9 @@ class OrbitDeckApp(param.Parameterized):
                              edited_text=None if text == self._source_text else text)
 
     def pin_reference(self) -> None:
-        """Pin the state shown as the reference that the Compare tab compares with."""
+        """Pin the state shown as the reference that the Compare tab compares with (not while read-only)."""
+        if self.read_only:
+            return
         derived = self.derived
         if derived.intervals:
             derived.intervals["skies"]   # worked out now: the pinned state outlives its draws
@@ -207,8 +209,9 @@ class OrbitDeckApp(param.Parameterized):
                           pinned_label=f"{self.system.name}, edit {self.history.position} ({draws})")
 
     def clear_reference(self) -> None:
-        """Forget the pinned reference."""
-        self.param.update(pinned=None, pinned_label="")
+        """Forget the pinned reference (not while read-only)."""
+        if not self.read_only:
+            self.param.update(pinned=None, pinned_label="")
 
     # -- text around the views ----------------------------------------------------
     def _texts(self, *_):
@@ -407,7 +410,11 @@ def build_app(system: System) -> pn.layout.Row:
     The dashboard edits ``system`` in place; pass ``system.copy()`` to keep
     the original. Use :class:`OrbitDeckApp` directly to reach the state
     (``app.derived``, ``app.selected``) from code; its ``layout`` is what this
-    function returns.
+    function returns. Panel's extension is loaded here only when it is not
+    yet (with ``inline=True``: every resource inside the notebook, which then
+    needs no network); loading it again would put its resources into the
+    notebook a second time.
     """
-    pn.extension("tabulator")
+    if not (pn.extension._loaded and "tabulator" in pn.extension._loaded_extensions):
+        pn.extension("tabulator", inline=True)
     return OrbitDeckApp(system).layout

@@ -38,6 +38,7 @@ class EditHistory(param.Parameterized):
         self._at = 0
         self._restoring = False
         app.param.watch(self._record, "derived")
+        app.param.watch(self._read_only, "read_only")
 
     @property
     def position(self) -> int:
@@ -54,8 +55,13 @@ class EditHistory(param.Parameterized):
         self._states, self._at = [dumps_system(self.app.system)], 0
         self._flags()
 
+    def _read_only(self, event):
+        """A page that follows a presenter keeps no history; when it may edit again, it starts afresh."""
+        if not event.new:
+            self.reset()
+
     def _record(self, *_):
-        if self._restoring:
+        if self._restoring or self.app.read_only:
             return
         text = dumps_system(self.app.system)
         if text == self._states[self._at]:
@@ -71,7 +77,7 @@ class EditHistory(param.Parameterized):
             self.param.update(can_undo=self._at > 0, can_redo=self._at < len(self._states) - 1)
 
     def _go(self, index: int) -> bool:
-        if not 0 <= index < len(self._states) or index == self._at:
+        if self.app.read_only or not 0 <= index < len(self._states) or index == self._at:
             return False
         self._restoring = True
         try:

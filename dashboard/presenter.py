@@ -4,9 +4,10 @@
 server share, and the only state shared between sessions. It knows the
 sessions that joined (their names, in order of joining), which one
 presents, and the last state the presenter published: a frozen copy of
-the system, its derivation (read, never written, by the followers), the
-selected planet, the tab, the time, the uncertainty setting and the
-pinned reference. It never touches a session's models: it wakes each
+the system and its derivation (both read, never written, by the
+followers: a read-only page refuses every edit before it reaches the
+system), the selected planet, the tab, the time, the uncertainty setting
+and the pinned reference. It never touches a session's models: it wakes each
 session, and the session brings itself up to date on its own document
 through ``Document.add_next_tick_callback`` (the one thread-safe way into
 a Bokeh document), holding that document's lock, with Panel's current
@@ -48,7 +49,7 @@ class SharedState:
     """What the presenter shows, as published: never changed after publishing."""
 
     version: int
-    system: object          # a System nobody edits: followers show copies of it
+    system: object          # a System nobody edits (followers show it; a new presenter edits a copy)
     derived: object
     elements: object
     tab: int
@@ -225,11 +226,17 @@ class PresenterLink(param.Parameterized):
         with param.edit_constant(self):
             self.param.update(role=role, presenter_name=roster.name_of(roster.presenter) or "")
         with pn.io.hold(self.doc):
-            self.app.read_only = role == "follower"
             # a follower shows each new state; a session that starts presenting carries on from the room's
             if state is not None and state.version != self._applied_version and (role == "follower"
                                                                                   or became_presenter):
                 self._apply(state)
+            if became_presenter:   # the room's frozen system, which nobody edits, becomes a copy to edit
+                self._applying = True
+                try:
+                    self.app.install(self.app.system.copy(), self.app.derived, self.app.elements)
+                finally:
+                    self._applying = False
+            self.app.read_only = role == "follower"
             self._show_roster(roster)
         if became_presenter:
             self._publish()
@@ -255,8 +262,9 @@ class PresenterLink(param.Parameterized):
         app = self.app
         self._applying = True
         try:
-            system = app.system if app.derived is state.derived else state.system.copy()
-            app.install(system, state.derived, state.elements, **state.shown)
+            # the room's frozen system itself: the controls of a read-only page refuse every edit before it
+            # reaches the system (Controls._refused), so no follower ever changes it
+            app.install(state.system, state.derived, state.elements, **state.shown)
             if app.tabs.active != state.tab:
                 app.tabs.active = state.tab
             self._applied_version = state.version

@@ -111,12 +111,13 @@ def test_followers_follow_the_presenter_and_cannot_edit(browser, presenting):
 
             # the follower's own edit, sent past its disabled box, is taken back and said so
             set_model_value(follower, "Mass [Msun]", "0.3")
-            wait_for(lambda: shows(follower, "read-only: only Session 1 can change what is shown"),
-                     what="the refusal")
+            wait_for(lambda: shows(follower, "read-only: this page follows the presenter"), what="the refusal")
             wait_for(lambda: shows(follower, "M = 0.125 Msun"), what="the follower back at the presenter's state")
             assert not shows(presenter, "M = 0.3 Msun") and not shows(follower, "M = 0.3 Msun")
             follower.locator(".bk-tab", has_text="Layout").first.click()
             wait_for(lambda: active_tab(follower) == "Flux & temperature", what="the follower's tab to be taken back")
+            wait_for(lambda: shows(follower, "read-only: only Session 1 can change what is shown"),
+                     what="the refusal of the tab")
 
             # the presenter hands over: roles swap, and the new presenter leads
             presenter.get_by_label("Hand over to").select_option(label="Session 2")

@@ -33,6 +33,8 @@ PLANET_ENTRIES = (("period", "Period [d]", "d", False), ("radius", "Radius [Rear
                   ("omega", "Argument of periastron omega [deg]", "deg", False))
 REDISTRIBUTION_CHOICES = {"full (f = 1/4)": "full", "dayside only (f = 1/2)": "dayside", "none (f = 2/3)": "none"}
 MAX_NAME_LENGTH = 40
+#: what a page that follows a presenter says when a change reaches it anyway
+READ_ONLY = "read-only: this page follows the presenter; the change was not applied"
 WIDGET_WIDTH = 290
 
 
@@ -202,8 +204,19 @@ class Controls:
             '<div style="font-size:12px;color:#444">nominal values only</div>')
 
     # -- widgets -> model ------------------------------------------------------
+    def _refused(self, pane=None) -> bool:
+        """True (and the widgets shown as they were) when the page is read-only: it follows a presenter."""
+        if not self.app.read_only:
+            return False
+        if pane is not None:
+            _message(pane, READ_ONLY)
+        self.sync()
+        return True
+
     def _apply(self, obj, field: str, value, label: str, pane) -> bool:
         """Set ``obj.field``; undo it when the system cannot be derived with it."""
+        if self._refused(pane):
+            return False
         old = getattr(obj, field)
         if value == old:
             _message(pane)
@@ -245,7 +258,7 @@ class Controls:
                         self.assumption_message)
 
     def _pick(self, event):
-        if not self._quiet and event.new:
+        if not self._quiet and event.new and not self._refused():
             self.app.selected = event.new
 
     def _current_planet(self) -> Planet | None:
@@ -272,6 +285,8 @@ class Controls:
                         self.planet_message)
 
     def _remove(self, _):
+        if self._refused(self.planet_message):
+            return
         system, planet = self.app.system, self._current_planet()
         if planet is None:
             return
@@ -282,6 +297,8 @@ class Controls:
         _message(self.planet_message, f"removed planet {planet.name}", ok=True)
 
     def _add(self, _):
+        if self._refused(self.add_message):
+            return
         name = (self.new_name.value_input or self.new_name.value or "").strip()
         try:
             if not name:
@@ -309,6 +326,8 @@ class Controls:
         _message(self.add_message, f"added planet {name} (no transit time: its phase is arbitrary)", ok=True)
 
     def _set_time(self, value: float) -> None:
+        if self._refused(self.time_message):
+            return
         self.app.time = float(value)
         _message(self.time_message)
 
@@ -327,7 +346,7 @@ class Controls:
             self._set_time(self.app.system.epoch + float(event.new))
 
     def _load(self, event):
-        if not event.new:
+        if not event.new or self._refused(self.file_message):
             return
         source = self.file_input.filename or "uploaded file"
         try:

@@ -1,0 +1,157 @@
+"""Presenter mode: from a change on the presenter's page to the change painted on every follower's page.
+
+Starts ``orbitdeck serve --present`` in a subprocess on a free port of
+127.0.0.1 and opens the presenter's page and N followers' pages in headless
+Chromium (one browser context each, so one session each). Each change is
+made in the presenter's page as its text box would send it (the value of the
+star-mass box, or of the planet selector, set in the page's document); the
+clock starts there. Every follower page watches, once per animation frame,
+the model that shows the change (the header with the star's mass, or the
+planet selector) and notes the frame after the one in which the change
+arrived, i.e. when it has been painted. All pages run in one browser on
+this machine and read the same wall clock.
+
+Prints, per kind of change, the median and 95th percentile of the latency
+of every follower and of the last follower of each change.
+
+Run: python tests/benchmarks/bench_presenter.py [--followers 10] [--changes 20] [--file FILE]
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from browser_support import CHROMIUM_ARGS, CHROMIUM_PATH, free_port, stop, wait_until_serving  # noqa: E402
+
+TARGET_MEDIAN_MS = 300.0
+TIMEOUT_S = 20.0
+
+#: in a follower page: watch a model until ``test(model)`` holds, then note the time of the next frame
+WATCH = """([kind, target]) => {
+    const models = [...Bokeh.documents[0]._all_models.values()];
+    const model = kind == "mass"
+        ? models.find(m => typeof m.text === "string" && m.text.includes("star ") && m.text.includes(" Msun"))
+        : models.find(m => m.type.endsWith("Select") && String(m.title).startsWith("Planet"));
+    const shown = () => kind == "mass" ? model.text.includes(target) : model.value == target;
+    window.__painted = null;
+    const look = () => {
+        if (shown()) {
+            requestAnimationFrame(() => { window.__painted = performance.timeOrigin + performance.now(); });
+        } else {
+            requestAnimationFrame(look);
+        }
+    };
+    requestAnimationFrame(look);
+}"""
+#: in the presenter's page: make the change and return the time it was made
+CHANGE = """([kind, value]) => {
+    const models = [...Bokeh.documents[0]._all_models.values()];
+    const box = kind == "mass"
+        ? models.find(m => m.type.endsWith("TextInput") && m.title == "Mass [Msun]")
+        : models.find(m => m.type.endsWith("Select") && String(m.title).startsWith("Planet"));
+    const start = performance.timeOrigin + performance.now();
+    box.value = value;
+    return start;
+}"""
+
+
+def _open(browser, url):
+    context = browser.new_context(viewport={"width": 1400, "height": 900})
+    page = context.new_page()
+    page.goto(url)
+    page.wait_for_selector(".bk-Canvas", timeout=120_000)
+    return page
+
+
+def _role(page) -> str:
+    return page.evaluate("""() => {
+        const m = [...Bokeh.documents[0]._all_models.values()].find(m => typeof m.text === "string"
+                                                                      && m.text.includes("data-role="));
+        const found = m && m.text.match(/data-role=(?:"|&quot;)(\\w+)/);
+        return found ? found[1] : "";
+    }""")
+
+
+def measure(presenter, followers, kind: str, values) -> tuple[list[float], list[float]]:
+    """Latencies [ms] of every follower, and of the last follower, for each value in turn."""
+    each, last = [], []
+    for value in values:
+        target = f"M = {float(value):.4g} Msun" if kind == "mass" else value
+        for page in followers:
+            page.evaluate(WATCH, [kind, target])
+        start = presenter.evaluate(CHANGE, [kind, value])
+        deadline = time.monotonic() + TIMEOUT_S
+        painted = [None] * len(followers)
+        while None in painted:
+            if time.monotonic() > deadline:
+                raise RuntimeError(f"a follower did not show {target!r} within {TIMEOUT_S} s")
+            time.sleep(0.02)
+            for i, page in enumerate(followers):
+                if painted[i] is None:
+                    painted[i] = page.evaluate("() => window.__painted")
+        latencies = [p - start for p in painted]
+        each += latencies
+        last.append(max(latencies))
+        time.sleep(0.3)
+    return each, last
+
+
+def _summary(name: str, values: list[float]) -> str:
+    ordered = sorted(values)
+    p95 = ordered[min(len(ordered) - 1, int(round(0.95 * (len(ordered) - 1))))]
+    return f"{name}: median {statistics.median(values):.0f} ms, p95 {p95:.0f} ms (n = {len(values)})"
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--followers", type=int, default=10)
+    parser.add_argument("--changes", type=int, default=20)
+    parser.add_argument("--file", default=None, help="system file (default: the bundled demo)")
+    args = parser.parse_args(argv)
+
+    from playwright.sync_api import sync_playwright
+
+    port = free_port()
+    with tempfile.TemporaryDirectory() as folder:
+        log = open(Path(folder) / "serve.log", "w+")
+        command = [sys.executable, "-m", "orbitdeck.dashboard.serve", *([args.file] if args.file else []),
+                   "--present", "--no-show", "--port", str(port)]
+        server = subprocess.Popen(command, stdout=log, stderr=subprocess.STDOUT)
+        try:
+            wait_until_serving(server, port, log)
+            url = f"http://127.0.0.1:{port}/orbitdeck"
+            with sync_playwright() as pw:
+                browser = pw.chromium.launch(executable_path=CHROMIUM_PATH, args=CHROMIUM_ARGS, headless=True)
+                presenter = _open(browser, url)
+                followers = [_open(browser, url) for _ in range(args.followers)]
+                time.sleep(2.0)
+                roles = [_role(p) for p in (presenter, *followers)]
+                if roles[0] != "presenter" or set(roles[1:]) != {"follower"}:
+                    raise RuntimeError(f"unexpected roles {roles}")
+                masses = [f"{0.1101 + 0.0007 * i:.4f}" for i in range(args.changes)]
+                planets = [("c", "e", "b", "g")[i % 4] for i in range(args.changes)]
+                print(f"presenter mode, {args.followers} followers, {args.changes} changes of each kind "
+                      f"(target: median under {TARGET_MEDIAN_MS:.0f} ms from the presenter's change to every "
+                      "follower painted)")
+                for kind, values, what in (("mass", masses, "star mass edited (derive, every view of the tab)"),
+                                           ("planet", planets, "planet selected")):
+                    each, last = measure(presenter, followers, kind, values)
+                    print(f"  {what}")
+                    print("    " + _summary("each follower", each))
+                    print("    " + _summary("last follower of a change", last))
+                browser.close()
+        finally:
+            stop(server)
+            log.close()
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
