@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+import re
 from datetime import datetime, timezone
 
 import pytest
@@ -177,3 +178,39 @@ def test_the_served_page_downloads_a_working_snapshot(tmp_path):
             offline.wait_for_selector(".bk-Canvas", timeout=30_000)
             assert offline_log.problems() == []
     assert extract_system_text(saved.read_text()).startswith('format = "orbitdeck-system/1"')
+
+
+#: every element, through the shadow roots, whose computed style starts a new printed page
+_PAGE_BREAKS = """() => {
+    const found = [];
+    const walk = (root) => {
+        for (const el of root.querySelectorAll("*")) {
+            if (getComputedStyle(el).breakBefore == "page") found.push(el.tagName);
+            if (el.shadowRoot) walk(el.shadowRoot);
+        }
+    };
+    walk(document);
+    return found.length;
+}"""
+
+
+@pytest.mark.browser
+def test_printed_snapshot_puts_each_view_and_the_comparison_on_a_page_of_its_own(tmp_path):
+    system = load_system(demo_path("amber_pair"))
+    pinned = derive(system, samples=200, seed=4)
+    system.star.mass = 1.05
+    page = _snapshot(system, samples=200, seed=4, pinned=pinned, pinned_label="the fit")
+    assert "the fit" in page
+    path = tmp_path / "print.html"
+    path.write_text(page)
+    with chromium() as browser, offline_page(browser) as (view, log):
+        view.goto(path.as_uri())
+        view.wait_for_selector(".bk-Canvas", timeout=30_000)
+        assert view.evaluate(_PAGE_BREAKS) == 0          # on screen: one long page
+        view.emulate_media(media="print")
+        sections = len(VIEW_TITLES) + 1                  # and the comparison
+        assert view.evaluate(_PAGE_BREAKS) == sections
+        pdf = view.pdf(format="A4", landscape=True)
+        # a title page (the header) and at least one page per section
+        assert pdf.startswith(b"%PDF") and len(re.findall(rb"/Type\s*/Page[^s]", pdf)) >= sections + 1
+        assert log.problems() == []
