@@ -301,7 +301,10 @@ class PresenterLink(param.Parameterized):
 
     def _show_roster(self, roster: Roster) -> None:
         presenting = self.role == "presenter"
-        others = {name: member for member, name in roster.members if member != self.id}
+        names = [name for _, name in roster.members]
+        # (a name two pages share is told apart by the page's number)
+        others = {(name if names.count(name) == 1 else f"{name} (#{member})"): member
+                  for member, name in roster.members if member != self.id}
         own = roster.name_of(self.id) or ""
         if self.name_entry.value != own:
             self.name_entry.value = own

@@ -16,7 +16,12 @@ not.
 Prints, per kind of change, the median and 95th percentile of the latency
 of every follower and of the last follower of each change.
 
-Run: python tests/benchmarks/bench_presenter.py [--followers 10] [--changes 20] [--file FILE]
+With ``--light-clients`` the pages are Bokeh client sessions in this
+process (``bokeh.client.pull_session``, one thread and IO loop each), not
+browsers: the figures are then the server's part alone, from the
+presenter's change sent to its arrival in each follower's document.
+
+Run: python tests/benchmarks/bench_presenter.py [--followers 10] [--changes 20] [--file FILE] [--light-clients]
 """
 
 from __future__ import annotations
@@ -26,6 +31,7 @@ import statistics
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -109,6 +115,78 @@ def measure(presenter, followers, kind: str, values) -> tuple[list[float], list[
     return each, last, arrived
 
 
+class LightClient:
+    """One session as a Bokeh client in its own thread and IO loop (no browser)."""
+
+    def __init__(self, url: str):
+        self.url, self.ready, self.error = url, threading.Event(), None
+        self.arrived: float | None = None
+        self._want = None
+        threading.Thread(target=self._run, daemon=True).start()
+        if not self.ready.wait(120) or self.error:
+            raise RuntimeError(f"a client session did not open: {self.error}")
+
+    def _run(self):
+        from bokeh.client import pull_session
+        from bokeh.events import DocumentReady
+        from tornado.ioloop import IOLoop
+
+        try:
+            self.loop = IOLoop()
+            self.session = pull_session(url=self.url, io_loop=self.loop)
+            self.doc = self.session.document
+            # as a browser does once it has rendered: until then Panel keeps held changes back
+            self.doc.callbacks.send_event(DocumentReady())
+            models = list(self.doc.models)
+            self.header = next(m for m in models if isinstance(getattr(m, "text", None), str)
+                               and "star " in m.text and " Msun" in m.text)
+            self.mass = next(m for m in models if getattr(m, "title", None) == "Mass [Msun]")
+            self.planet = next(m for m in models if type(m).__name__.endswith("Select")
+                               and str(getattr(m, "title", "")).startswith("Planet"))
+            self.doc.on_change(self._changed)
+        except Exception as error:   # reported by the constructor
+            self.error = f"{type(error).__name__}: {error}"
+            self.ready.set()
+            return
+        self.ready.set()
+        self.session._connection.loop_until_closed()
+
+    def _changed(self, event):
+        if self.arrived is None and self._want is not None and self._want():
+            self.arrived = time.perf_counter()
+
+    def expect(self, kind: str, target: str) -> None:
+        self.arrived = None
+        self._want = ((lambda: target in self.header.text) if kind == "mass"
+                      else (lambda: self.planet.value == target))
+
+    def change(self, kind: str, value: str) -> float:
+        start = time.perf_counter()
+        model = self.mass if kind == "mass" else self.planet
+        self.loop.add_callback(lambda: setattr(model, "value", value))
+        return start
+
+
+def measure_light(presenter: LightClient, followers, kind: str, values) -> tuple[list[float], list[float]]:
+    """Latencies [ms] of every follower document, and of the last one of each change."""
+    each, last = [], []
+    for value in values:
+        target = f"M = {float(value):.4g} Msun" if kind == "mass" else value
+        for client in followers:
+            client.expect(kind, target)
+        start = presenter.change(kind, value)
+        deadline = time.monotonic() + TIMEOUT_S
+        while any(c.arrived is None for c in followers):
+            if time.monotonic() > deadline:
+                raise RuntimeError(f"a follower did not receive {target!r} within {TIMEOUT_S} s")
+            time.sleep(0.005)
+        latencies = [(c.arrived - start) * 1000 for c in followers]
+        each += latencies
+        last.append(max(latencies))
+        time.sleep(0.3)
+    return each, last
+
+
 def _summary(name: str, values: list[float]) -> str:
     ordered = sorted(values)
     p95 = ordered[min(len(ordered) - 1, int(round(0.95 * (len(ordered) - 1))))]
@@ -120,6 +198,7 @@ def main(argv=None) -> int:
     parser.add_argument("--followers", type=int, default=10)
     parser.add_argument("--changes", type=int, default=20)
     parser.add_argument("--file", default=None, help="system file (default: the bundled demo)")
+    parser.add_argument("--light-clients", action="store_true", help="Bokeh client sessions instead of browsers")
     args = parser.parse_args(argv)
 
     from playwright.sync_api import sync_playwright
@@ -133,6 +212,30 @@ def main(argv=None) -> int:
         try:
             wait_until_serving(server, port, log)
             url = f"http://127.0.0.1:{port}/orbitdeck"
+            masses = [f"{0.1101 + 0.0007 * i:.4f}" for i in range(args.changes)]
+            planets = [("c", "e", "b", "g")[i % 4] for i in range(args.changes)]
+            kinds = (("mass", masses, "star mass edited (derive, every view of the tab)"),
+                     ("planet", planets, "planet selected"))
+            if args.light_clients:
+                # the client must know Panel's model types to read the documents
+                import panel.models  # noqa: F401
+                import panel.models.location  # noqa: F401
+                import panel.models.tabulator  # noqa: F401
+                import panel.models.widgets  # noqa: F401
+
+                presenter = LightClient(url)
+                time.sleep(1.0)   # the first session presents
+                followers = [LightClient(url) for _ in range(args.followers)]
+                time.sleep(2.0)
+                print(f"presenter mode, {args.followers} followers as Bokeh client sessions (no browser), "
+                      f"{args.changes} changes of each kind: the server's part, from the change sent to its "
+                      "arrival in each follower's document")
+                for kind, values, what in kinds:
+                    each, last = measure_light(presenter, followers, kind, values)
+                    print(f"  {what}")
+                    print("    " + _summary("each follower", each))
+                    print("    " + _summary("last follower of a change", last))
+                return 0
             with sync_playwright() as pw:
                 browser = pw.chromium.launch(executable_path=CHROMIUM_PATH, args=CHROMIUM_ARGS, headless=True)
                 presenter = _open(browser, url)
@@ -141,13 +244,10 @@ def main(argv=None) -> int:
                 roles = [_role(p) for p in (presenter, *followers)]
                 if roles[0] != "presenter" or set(roles[1:]) != {"follower"}:
                     raise RuntimeError(f"unexpected roles {roles}")
-                masses = [f"{0.1101 + 0.0007 * i:.4f}" for i in range(args.changes)]
-                planets = [("c", "e", "b", "g")[i % 4] for i in range(args.changes)]
                 print(f"presenter mode, {args.followers} followers, {args.changes} changes of each kind "
                       f"(target: median under {TARGET_MEDIAN_MS:.0f} ms from the presenter's change to every "
                       "follower painted)")
-                for kind, values, what in (("mass", masses, "star mass edited (derive, every view of the tab)"),
-                                           ("planet", planets, "planet selected")):
+                for kind, values, what in kinds:
                     each, last, arrived = measure(presenter, followers, kind, values)
                     print(f"  {what}")
                     print("    " + _summary("each follower, painted", each))
