@@ -41,10 +41,14 @@ def default_columns() -> list[str]:
 
 
 def unit_latex(quantity: Quantity) -> str:
-    """A quantity's unit as LaTeX ("" for none): astropy's form of its unit, else its unit label as text."""
+    """A quantity's unit as LaTeX ("" for none): astropy's form of its unit (the astronomical unit as
+    "au", IAU 2012 Resolution B2), else its unit label (``S_earth`` as ``$S_\oplus$``, other labels as text)."""
     if quantity.unit:
-        return u.Unit(quantity.unit).to_string("latex_inline")
-    return latex_text(quantity.unit_label) if quantity.unit_label else ""
+        return u.Unit(quantity.unit).to_string("latex_inline").replace("\\mathrm{AU}", "\\mathrm{au}")
+    label = quantity.unit_label
+    if label.endswith("_earth") and label[:-6].isalpha():
+        return f"${label[:-6]}_\\oplus$"
+    return latex_text(label) if label else ""
 
 
 def heading(quantity: Quantity) -> str:
