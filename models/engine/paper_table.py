@@ -42,7 +42,7 @@ def default_columns() -> list[str]:
 
 def unit_latex(quantity: Quantity) -> str:
     """A quantity's unit as LaTeX ("" for none): astropy's form of its unit (the astronomical unit as
-    "au", IAU 2012 Resolution B2), else its unit label (``S_earth`` as ``$S_\oplus$``, other labels as text)."""
+    "au", IAU 2012 Resolution B2), else its unit label (``S_earth`` as ``$S_\\oplus$``, other labels as text)."""
     if quantity.unit:
         return u.Unit(quantity.unit).to_string("latex_inline").replace("\\mathrm{AU}", "\\mathrm{au}")
     label = quantity.unit_label
