@@ -122,3 +122,15 @@ def test_snapshot_includes_the_comparison_only_when_pinned(app):
     app.system.star.mass = 0.75
     page = app.controls._snapshot().getvalue().decode()
     assert "od-compare" in page and "break-before: page" in page
+
+
+def test_names_in_the_comparison_are_text():
+    from orbitdeck.dashboard.views.compare import comparison_html
+
+    system = load_demo("skew_trio")
+    before = derive(system)
+    system.planets[0].name = "<script>window.__owned=1</script>"
+    system.star.mass = 0.9
+    html = comparison_html(before, derive(system), '<img src=x onerror="alert(1)">')
+    assert "<script>" not in html and "<img" not in html
+    assert "&lt;script&gt;" in html and "&lt;img" in html
