@@ -91,8 +91,7 @@ class OrbitDeckApp(param.Parameterized):
                              before_show=self._catch_up)
         self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
         self.sidebar = pn.Column(self.tools.panel(), self.controls.panel())
-        self._locked_widgets: list = []
-        self.param.watch(self._lock_controls, "read_only")
+        self.param.watch(lambda event: self.controls.lock(event.new), "read_only")
         self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
         self.param.watch(self._texts, ["derived", "problem", "elements"])
         self._texts()
@@ -168,20 +167,6 @@ class OrbitDeckApp(param.Parameterized):
                 self.param.update(**changed)
         finally:
             self._installing = False
-
-    def _lock_controls(self, *_):
-        """Disable every control that edits (downloads stay) while ``read_only``; enable them again after."""
-        if self.read_only:
-            tools = set(map(id, self.tools.widgets()))
-            for widget in self.sidebar.select(pn.widgets.Widget):
-                if id(widget) in tools or isinstance(widget, pn.widgets.FileDownload) or widget.disabled:
-                    continue
-                self._locked_widgets.append(widget)
-                widget.disabled = True
-        else:
-            for widget in self._locked_widgets:
-                widget.disabled = False
-            self._locked_widgets = []
 
     # -- where the numbers came from, and the pinned reference --------------------------
     def _set_source(self, source: SystemSource | None, system: System | None = None) -> None:

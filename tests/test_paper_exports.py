@@ -17,7 +17,7 @@ from cli_harness import ForkedCli
 from orbitdeck import __version__
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
-from orbitdeck.models.engine.methods import bibtex, depends_on, methods_used
+from orbitdeck.models.engine.methods import bibtex, depends_on, methods_used, probe_failures
 from orbitdeck.models.engine.paper_table import default_columns, heading, latex_text, write_paper_table
 from orbitdeck.models.engine.provenance import assumptions_of, provenance_of
 from orbitdeck.models.engine.references import REFERENCES
@@ -128,6 +128,13 @@ def test_bibtex_parses_and_lists_exactly_the_methods_used(cli, tmp_path):
     expected = {REGISTRY[n].source for q in REGISTRY.values() if q.document
                 for n in depends_on(q.name) if REGISTRY[n].source and not REGISTRY[n].source_when}
     assert cited["skew_trio"] == expected
+
+
+def test_every_quantity_can_be_traced_on_the_probe_system():
+    # what each quantity reads is recorded on a small probe system: a quantity failing there would leave
+    # its methods out of the references
+    assert probe_failures() == ()
+    assert {"a_m", "star_radius_m", "star_teff"} & set(depends_on("teq_k")) == {"a_m", "star_radius_m"}
 
 
 def test_bibtex_of_chosen_columns_follows_what_they_read(cli, tmp_path):

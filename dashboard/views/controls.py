@@ -107,6 +107,7 @@ class Controls:
     def __init__(self, app):
         self.app = app
         self._quiet = False
+        self._locked: list = []   # widgets lock() disabled
         entry = partial(Entry, width=WIDGET_WIDTH)
         self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
@@ -376,10 +377,22 @@ class Controls:
                                pinned=app.pinned, pinned_label=app.pinned_label)
         return io.BytesIO(page.encode("utf-8"))
 
+    def lock(self, locked: bool) -> None:
+        """Disable every control that edits (downloads stay), or enable again those this disabled."""
+        if locked:
+            for widget in self._panel.select(pn.widgets.Widget):
+                if not (isinstance(widget, pn.widgets.FileDownload) or widget.disabled):
+                    self._locked.append(widget)
+                    widget.disabled = True
+        else:
+            for widget in self._locked:
+                widget.disabled = False
+            self._locked = []
+
     # -- layout ------------------------------------------------------------------
     def panel(self):
         card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
-        return pn.Column(
+        self._panel = pn.Column(
             card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
                  self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
@@ -392,3 +405,4 @@ class Controls:
                  self.reference, title="Time and display"),
             card(self.uncertainty, self.samples, self.uncertainty_message, title="Uncertainties"),
             width=WIDGET_WIDTH + 40)
+        return self._panel
