@@ -49,6 +49,12 @@ class Entry(pn.widgets.TextInput):
     _debounce = 0
 
 
+class Picker(pn.widgets.Select):
+    """A drop-down list whose choice is applied at once (one choice per pick: no burst to wait for)."""
+
+    _debounce = 0
+
+
 class Rejected(ValueError):
     """An entry that cannot be applied; the message is shown to the user."""
 
@@ -124,8 +130,8 @@ class Controls:
         self.redistribution = pn.widgets.Select(label="Heat redistribution", options=REDISTRIBUTION_CHOICES,
                                                 width=WIDGET_WIDTH)
         self.assumption_message = pn.pane.HTML("", width=WIDGET_WIDTH)
-        self.planet_select = pn.widgets.Select(label="Planet (also picked by clicking it in a view)",
-                                               width=WIDGET_WIDTH)
+        self.planet_select = Picker(label="Planet (also picked by clicking it in a view)",
+                                    width=WIDGET_WIDTH)
         self.planet_entries = {f: entry(label=label) for f, label, _, _ in PLANET_ENTRIES}
         self.eccentricity = pn.widgets.FloatSlider(label="Eccentricity e", start=0.0, end=0.99, step=0.005,
                                                    width=WIDGET_WIDTH)
