@@ -16,18 +16,23 @@ from collections.abc import Mapping
 import panel as pn
 import param
 
-from orbitdeck.models import Derived, System, derive, ephemeris
+from orbitdeck.models import Derived, System, derive, dumps_system, ephemeris
+from orbitdeck.models.engine.provenance import provenance_of
+from orbitdeck.models.sources import SystemSource
 
 from .cli import DEFAULT_SEED
+from .history import EditHistory, SessionTools
 from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
 from .views.bulk import BulkView
 from .views.common import escape
+from .views.compare import CompareView
 from .views.controls import Controls
 from .views.layout import REFERENCE_ORBITS
 from .views.transits import TransitPlannerView
 
 #: view classes in the order of the tabs
-VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, BulkView, TransitPlannerView)
+VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, BulkView, TransitPlannerView,
+                CompareView)
 SIDEBAR_WIDTH = 350
 #: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
 #: opened most; every other view is built when its tab is first opened or the view is read from code
@@ -50,14 +55,20 @@ class OrbitDeckApp(param.Parameterized):
     uncertainty = param.Boolean(default=False, doc="Derive with Monte Carlo draws and show their intervals")
     samples = param.Integer(default=4000, bounds=(100, 20000), doc="Monte Carlo draws when uncertainty is on")
     seed = param.Integer(default=DEFAULT_SEED, constant=True, doc="Seed of the Monte Carlo draws (fixed)")
+    pinned = param.ClassSelector(class_=Derived, allow_None=True, instantiate=False,
+                                 doc="The derivation pinned as the reference that the Compare tab compares with")
+    pinned_label = param.String(default="", doc="What the pinned reference was (for the Compare tab)")
+    read_only = param.Boolean(default=False, doc="True while this session follows a presenter (no edits)")
 
-    def __init__(self, system: System, **params):
+    def __init__(self, system: System, source: SystemSource | None = None, **params):
         cls = type(self)
         draws = params.get("samples", cls.param.samples.default) if params.get("uncertainty") else 0
         derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
         names = derived.planet_names
         params.setdefault("selected", names[0] if names else None)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
+        self._installing = False   # True while a state is shown as given (no derivation of its own)
+        self._set_source(source)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
         #: True in a served page (see page()): views of hidden tabs wait until their tab is opened
@@ -70,6 +81,8 @@ class OrbitDeckApp(param.Parameterized):
         for title in BUILT_AT_ONCE:
             self.views[title]
         self.controls = Controls(self)
+        self.history = EditHistory(self)
+        self.tools = SessionTools(self, self.history)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=(0, 10))
         self.header_name = pn.pane.HTML("", styles={"color": "white", "font-size": "18px"}, margin=(0, 10))
         # the browser's document.title follows this hidden widget (set as text, never parsed as HTML)
@@ -80,7 +93,8 @@ class OrbitDeckApp(param.Parameterized):
         self.tabs = ViewTabs(*self._tab_bodies.items(), sizing_mode="stretch_width", dynamic=True,
                              before_show=self._catch_up)
         self.main = pn.Column(self.header, self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
-        self.sidebar = self.controls.panel()
+        self.sidebar = pn.Column(self.tools.panel(), self.controls.panel())
+        self.param.watch(lambda event: self.controls.lock(event.new), "read_only")
         self.layout = pn.Row(self.sidebar, self.main, sizing_mode="stretch_width")
         self.param.watch(self._texts, ["derived", "problem", "elements"])
         self._texts()
@@ -93,11 +107,15 @@ class OrbitDeckApp(param.Parameterized):
 
     def _on_draws(self, *events):
         """Derive again when the switch changes, or the sample count while the switch is on."""
+        if self._installing:
+            return
         if any(e.name == "uncertainty" for e in events) or self.uncertainty:
             self._on_revision()
 
     def _on_revision(self, *_):
         """Derive the system once for a change of anything in it."""
+        if self._installing:
+            return
         try:
             derived, elements = _derive(self.system, self.draws, self.seed)
         except Exception as error:  # a valid but underivable state: keep the last views, say why
@@ -108,19 +126,80 @@ class OrbitDeckApp(param.Parameterized):
         with pn.io.hold():
             self.param.update(derived=derived, elements=elements, selected=selected, problem="")
 
-    def replace_system(self, system: System) -> None:
-        """Show ``system`` instead of the current one (the current one is kept if it cannot be derived)."""
+    def replace_system(self, system: System, source: SystemSource | None = None) -> None:
+        """Show ``system`` (read from ``source``) instead of the current one: a new file, with a fresh
+        edit history (the current one is kept if it cannot be derived)."""
         try:
             derived, elements = _derive(system, self.draws, self.seed)
         except Exception as error:
             self.problem = f"{type(error).__name__}: {error}"
             return
-        self.system.param.unwatch(self._revision_watcher)
         names = derived.planet_names
-        with pn.io.hold():
-            self.param.update(system=system, derived=derived, elements=elements, time=system.epoch,
-                              selected=names[0] if names else None, problem="")
-        self._revision_watcher = system.param.watch(self._on_revision, "revision")
+        self._set_source(source, system)
+        self.install(system, derived, elements, time=system.epoch, selected=names[0] if names else None)
+        self.history.reset()
+
+    def restore_system(self, system: System) -> bool:
+        """Show ``system``, an earlier or later state of the same one (undo, redo), keeping the time and,
+        where it still exists, the selected planet. False (and ``problem`` says why) if it cannot be derived."""
+        try:
+            derived, elements = _derive(system, self.draws, self.seed)
+        except Exception as error:
+            self.problem = f"{type(error).__name__}: {error}"
+            return False
+        self.install(system, derived, elements)
+        return True
+
+    def install(self, system: System, derived: Derived, elements, **shown) -> None:
+        """Show ``system`` with its ``derived`` and ``elements`` as given (nothing is derived), and set the
+        app parameters in ``shown`` (time, selected, uncertainty...) in the same update; only what
+        differs is set, so watchers of what stays run not at all."""
+        names = derived.planet_names
+        selected = shown.pop("selected", self.selected)
+        shown["selected"] = selected if selected in names else (names[0] if names else None)
+        wanted = dict(system=system, derived=derived, elements=elements, problem="", **shown)
+        changed = {name: value for name, value in wanted.items() if not _same_value(getattr(self, name), value)}
+        if not changed:
+            return
+        self._installing = True
+        try:
+            if system is not self.system:
+                self.system.param.unwatch(self._revision_watcher)
+                self._revision_watcher = system.param.watch(self._on_revision, "revision")
+            with pn.io.hold():
+                self.param.update(**changed)
+        finally:
+            self._installing = False
+
+    # -- where the numbers came from, and the pinned reference --------------------------
+    def _set_source(self, source: SystemSource | None, system: System | None = None) -> None:
+        """Remember what the system was read from (for the provenance of exports)."""
+        text = dumps_system(system or self.system)
+        self.source = source or SystemSource("a System object made in Python", text.encode("utf-8"))
+        self._source_text = text
+
+    def provenance(self) -> dict:
+        """The provenance of the state shown: the input read, whether (and to what) it was edited since,
+        the assumptions, the draws and seed, the methods used."""
+        text = dumps_system(self.system)
+        return provenance_of(self.system, self.derived, self.source.name, self.source.sha256,
+                             edited_text=None if text == self._source_text else text)
+
+    def pin_reference(self) -> None:
+        """Pin the state shown as the reference that the Compare tab compares with (not while read-only)."""
+        if self.read_only:
+            return
+        derived = self.derived
+        if derived.intervals:
+            derived.intervals["skies"]   # worked out now: the pinned state outlives its draws
+        draws = f"{derived.samples} Monte Carlo draws" if derived.samples else "nominal values only"
+        self.param.update(pinned=derived,
+                          pinned_label=f"{self.system.name}, edit {self.history.position} ({draws})")
+
+    def clear_reference(self) -> None:
+        """Forget the pinned reference (not while read-only)."""
+        if not self.read_only:
+            self.param.update(pinned=None, pinned_label="")
 
     # -- text around the views ----------------------------------------------------
     def _texts(self, *_):
@@ -300,6 +379,13 @@ class PlainTemplate(pn.template.VanillaTemplate):
         self._render_variables["meta_name"] = "orbitdeck"
 
 
+def _same_value(old, new) -> bool:
+    """Plain values by equality, objects (a System, a Derived) by identity."""
+    if isinstance(new, (str, int, float, bool, type(None))) and isinstance(old, (str, int, float, bool, type(None))):
+        return old == new and type(old) is type(new)
+    return old is new
+
+
 def _derive(system: System, samples: int = 0, seed: int | None = None):
     derived = derive(system, samples=samples, seed=seed) if samples else derive(system)
     elements = ephemeris.orbital_elements(system, a_au=derived.planets["semi_major_axis_au"])
@@ -312,7 +398,11 @@ def build_app(system: System) -> pn.layout.Row:
     The dashboard edits ``system`` in place; pass ``system.copy()`` to keep
     the original. Use :class:`OrbitDeckApp` directly to reach the state
     (``app.derived``, ``app.selected``) from code; its ``layout`` is what this
-    function returns.
+    function returns. Panel's extension is loaded here only when it is not
+    yet (with ``inline=True``: every resource inside the notebook, which then
+    needs no network); loading it again would put its resources into the
+    notebook a second time.
     """
-    pn.extension("tabulator")
+    if not (pn.extension._loaded and "tabulator" in pn.extension._loaded_extensions):
+        pn.extension("tabulator", inline=True)
     return OrbitDeckApp(system).layout

@@ -15,36 +15,93 @@ DEFAULT_SAMPLES = 4000
 DEFAULT_SEED = 20261201
 
 
-def _load(path):
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import load_system
+def _source(path):
+    """The bytes of the system file ``path`` (the bundled demo when None), with their name and SHA-256."""
+    from orbitdeck.models.sources import demo_source, read_source
 
-    return load_system(path if path else demo_path())
+    return read_source(path) if path else demo_source()
+
+
+def _load(path):
+    return _source(path).system()
 
 
 def _derive(args):
+    """Derive the system of ``args.file`` with the draws asked for; the provenance attached."""
     from orbitdeck.models import derive
+    from orbitdeck.models.engine.provenance import provenance_of
 
-    return derive(_load(args.file), samples=args.samples, seed=args.seed)
+    source = _source(args.file)
+    system = source.system()
+    derived = derive(system, samples=args.samples, seed=args.seed)
+    derived.provenance = provenance_of(system, derived, source.name, source.sha256)
+    return system, derived
+
+
+def _write(path, text: str) -> None:
+    from orbitdeck.models.files import atomic_write
+
+    atomic_write(path, text.encode("utf-8"))
+    print(f"wrote {path}", file=sys.stderr)
+
+
+def _columns(text):
+    """The keys of ``--columns a,b,c`` (None when not given)."""
+    return [key.strip() for key in text.split(",") if key.strip()] if text else None
 
 
 def cmd_table(args) -> int:
     from orbitdeck.dashboard.text_tables import document_text
 
-    derived = _derive(args)
+    columns = _columns(args.columns)
+    if columns is not None:
+        from orbitdeck.models.engine.registry import by_key
+
+        unknown = [key for key in columns if key not in by_key("planets")]
+        if unknown:
+            print(f"orbitdeck table: --columns: not a planet quantity: {', '.join(unknown)} (the keys are: "
+                  f"{', '.join(by_key('planets'))})", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    system, derived = _derive(args)
     if args.ecsv:
         from orbitdeck.models.engine.export import planet_table
-        from orbitdeck.models.files import atomic_write
 
         buffer = io.StringIO()
         planet_table(derived).write(buffer, format="ascii.ecsv")
-        atomic_write(args.ecsv, buffer.getvalue().encode("utf-8"))
-        print(f"wrote {args.ecsv}", file=sys.stderr)
+        _write(args.ecsv, buffer.getvalue())
+    for style in ("latex", "aastex"):
+        if getattr(args, style):
+            from orbitdeck.models.engine.paper_table import write_paper_table
+
+            _write(getattr(args, style), write_paper_table(derived, style, columns))
+    if args.bibtex:
+        from orbitdeck.models.engine.methods import bibtex
+        from orbitdeck.models.engine.provenance import provenance_lines
+
+        keys = None if columns is None else [f"planets.{key}" for key in columns]
+        _write(args.bibtex, bibtex(system, derived, keys, provenance_lines(derived.provenance)))
     if args.json:
         json.dump(derived.to_dict(), sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
-    elif not args.ecsv:
+    elif not any((args.ecsv, args.latex, args.aastex, args.bibtex)):
         sys.stdout.write(document_text(derived.to_dict()))
+    return 0
+
+
+def cmd_cite(args) -> int:
+    from orbitdeck.models import derive
+    from orbitdeck.models.engine.methods import bibtex
+    from orbitdeck.models.engine.provenance import provenance_lines, provenance_of
+
+    source = _source(args.file)
+    system = source.system()
+    derived = derive(system)
+    provenance = provenance_of(system, derived, source.name, source.sha256)
+    text = bibtex(system, derived, None, provenance_lines(provenance, sampling=False))
+    if args.output:
+        _write(args.output, text)
+    else:
+        sys.stdout.write(text)
     return 0
 
 
@@ -78,8 +135,23 @@ def build_parser() -> argparse.ArgumentParser:
     _add_file(table)
     table.add_argument("--json", action="store_true", help="print the orbitdeck-derived/1 JSON document instead")
     table.add_argument("--ecsv", metavar="OUT", help="write the planet table, units attached, as ECSV to OUT")
+    table.add_argument("--latex", metavar="OUT", help="write the planet table as a LaTeX table to OUT (values "
+                                                      "with intervals as x^{+a}_{-b}, rounded by the PDG rule)")
+    table.add_argument("--aastex", metavar="OUT", help="write the planet table as an AASTeX deluxetable to OUT")
+    table.add_argument("--columns", metavar="KEY[,KEY...]",
+                       help="the planet quantities of the LaTeX/AASTeX table, by document key (default: those "
+                            "of the text tables); --bibtex then cites the methods of these only")
+    table.add_argument("--bibtex", metavar="OUT", help="write BibTeX of the methods the numbers used to OUT")
     _add_sampling(table, DEFAULT_SAMPLES)
     table.set_defaults(run=cmd_table)
+
+    cite = commands.add_parser("cite", help="print BibTeX of the methods a system's numbers use",
+                               description="Print (or write with -o) BibTeX entries of exactly the published "
+                                           "methods behind the derived quantities of a system, each entry "
+                                           "preceded by a comment naming the quantities that use it.")
+    _add_file(cite)
+    cite.add_argument("-o", "--output", metavar="OUT", help="write the BibTeX to OUT instead of printing it")
+    cite.set_defaults(run=cmd_cite)
 
     check = commands.add_parser("check", help="check a system file",
                                 description="Check a system file: print 'ok' and exit 0, or one line per problem "

@@ -6,7 +6,7 @@ import sys
 import time
 from pathlib import Path
 
-from orbitdeck.models.files import MAX_FILE_BYTES, Problem, SystemFileError
+from orbitdeck.models.files import Problem, SystemFileError
 
 #: snapshots are larger than system files: refuse pages above this when extracting [bytes]
 MAX_SNAPSHOT_BYTES = 64 * 1024 * 1024
@@ -33,14 +33,12 @@ def cmd_snapshot(args) -> int:
     if not args.output:
         print("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)", file=sys.stderr)
         return EXIT_BAD_INPUT
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import loads_system
+    from orbitdeck.dashboard.cli import _source
 
-    source = args.file or str(demo_path())
-    data = _read(source, MAX_FILE_BYTES)
-    system = loads_system(data, source)
+    source = _source(args.file)
+    system = source.system()
     start = time.perf_counter()
-    size = write_snapshot(args.output, system, Path(source).name, data, time=args.time,
+    size = write_snapshot(args.output, system, source.name, source.data, time=args.time,
                           samples=args.samples, seed=args.seed)
     print(f"wrote {args.output} ({size / 1e6:.1f} MB in {time.perf_counter() - start:.1f} s)", file=sys.stderr)
     return 0
@@ -48,7 +46,7 @@ def cmd_snapshot(args) -> int:
 
 def register(commands) -> None:
     """Add the ``snapshot`` subcommand."""
-    from orbitdeck.dashboard.cli import DEFAULT_SEED, _add_file
+    from orbitdeck.dashboard.cli import DEFAULT_SAMPLES, DEFAULT_SEED, _add_file
 
     snapshot = commands.add_parser(
         "snapshot", help="write every view to one self-contained HTML file",
@@ -59,8 +57,9 @@ def register(commands) -> None:
     snapshot.add_argument("-o", "--output", metavar="OUT.html", help="the page to write")
     snapshot.add_argument("--time", type=float, metavar="BJD", help="time of the positions [BJD_TDB]; "
                                                                     "default: the system epoch")
-    snapshot.add_argument("--samples", type=int, default=0, metavar="N",
-                          help="Monte Carlo samples for intervals (default 0: nominal values only)")
+    snapshot.add_argument("--samples", type=int, default=DEFAULT_SAMPLES, metavar="N",
+                          help=f"Monte Carlo samples for 16th-84th percentile intervals; 0 for nominal values only "
+                               f"(default {DEFAULT_SAMPLES}, as for table)")
     snapshot.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
                           help=f"seed of the random generator (default {DEFAULT_SEED})")
     snapshot.add_argument("--extract", metavar="PAGE", help="print the system file embedded in a snapshot page")

@@ -61,11 +61,15 @@ def choose_port(requested: int | None) -> int:
     raise OSError(f"no free port in {DEFAULT_PORT}-{DEFAULT_PORT + PORT_SEARCH - 1} on {HOST}")
 
 
-def _read(path_or_none):
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import load_system
+def _source(path_or_none):
+    """The bytes of the system file (the bundled demo when None), with their name and SHA-256."""
+    from orbitdeck.models.sources import demo_source, read_source
 
-    return load_system(path_or_none if path_or_none else demo_path())
+    return read_source(path_or_none) if path_or_none else demo_source()
+
+
+def _read(path_or_none):
+    return _source(path_or_none).system()
 
 
 def server_settings() -> dict:
@@ -83,20 +87,29 @@ def warm_up() -> None:
     pn.extension("tabulator")
 
 
-def session_factory(system):
-    """A function building one session's page around a fresh copy of ``system``."""
+def session_factory(system, source=None, channel=None):
+    """A function building one session's page around a fresh copy of ``system`` (read from ``source``);
+    with a presenter ``channel``, the session joins it (see :mod:`orbitdeck.dashboard.presenter`)."""
     def make_app():
         import panel as pn
 
         from .app import OrbitDeckApp
 
         pn.extension("tabulator")
-        return OrbitDeckApp(system.copy()).page()
+        app = OrbitDeckApp(system.copy(), source=source)
+        page = app.page()
+        if channel is not None:
+            from .presenter import PresenterLink, session_token
+
+            link = PresenterLink(app, channel, pn.state.curdoc, session_token())
+            app.main.insert(0, link.strip)
+        return page
 
     return make_app
 
 
-def serve(path_or_none=None, port: int | None = None, show: bool = True, share: list[str] | None = None) -> int:
+def serve(path_or_none=None, port: int | None = None, show: bool = True, share: list[str] | None = None,
+          present: bool = False) -> int:
     """Serve the dashboard of a system file (the bundled demo when None) until interrupted.
 
     Parameters
@@ -110,6 +123,10 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     share : list of str, optional
         ``host:port`` origins allowed to open sessions; when given, the
         server listens on every interface (see :mod:`orbitdeck.dashboard.sharing`).
+    present : bool
+        Presenter mode: one session presents, the others follow read-only
+        (see :mod:`orbitdeck.dashboard.presenter`); the token that lets a
+        page present is printed.
 
     Returns
     -------
@@ -119,7 +136,8 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     from orbitdeck.models import SystemFileError
 
     try:
-        system = _read(path_or_none)
+        source = _source(path_or_none)
+        system = source.system()
     except SystemFileError as error:
         for problem in error.problems:
             print(problem, file=sys.stderr)
@@ -145,8 +163,16 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     notice = share_notice(settings, ROUTE)
     if notice:
         print(notice, flush=True)
+    channel = None
+    if present:
+        from .presenter import QUERY_ARGUMENT, PresenterChannel
+
+        channel = PresenterChannel()
+        print(f"presenter mode: the first page opened presents and every other page follows it, read-only. "
+              f"To present from another page, open {url}?{QUERY_ARGUMENT}={channel.token} or type the token "
+              f"{channel.token} into the page.", flush=True)
     try:
-        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title="orbitdeck",
+        pn.serve({ROUTE: session_factory(system, source, channel)}, show=show, start=True, title="orbitdeck",
                  threaded=False, verbose=False, **server_settings(), **settings)
     except KeyboardInterrupt:
         pass
@@ -155,7 +181,7 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
 
 def run(args) -> int:
     """The ``serve`` subcommand (argparse namespace -> exit code)."""
-    return serve(args.file, port=args.port, show=not args.no_show, share=args.share)
+    return serve(args.file, port=args.port, show=not args.no_show, share=args.share, present=args.present)
 
 
 def _port(text: str) -> int:
@@ -178,6 +204,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--share", type=origins_argument, default=None, metavar="HOST:PORT[,HOST:PORT...]",
                         help="let browsers at these origins open sessions: listens on every interface, with no "
                              "log-in; only on a trusted network (a caution is printed)")
+    parser.add_argument("--present", action="store_true",
+                        help="presenter mode: the first page (or one given the printed token) presents; every "
+                             "other page follows it live and read-only; the presenter can hand over")
     parser.set_defaults(run=run)
 
 

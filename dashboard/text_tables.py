@@ -1,10 +1,17 @@
-"""Readable plain-text tables of a derived document, for the terminal."""
+"""Readable plain-text tables of a derived document, for the terminal.
+
+A value with an interval is written ``value +plus -minus``, rounded by the
+Particle Data Group's rule (:mod:`orbitdeck.models.rounding`); a value
+without one, to four significant figures.
+"""
 
 from __future__ import annotations
 
 import math
 
 from orbitdeck.models.engine.registry import declared
+from orbitdeck.models.rounding import from_interval
+
 
 def planet_groups() -> list[tuple[str, tuple]]:
     """(title, ((document key, heading), ...)) of each block of planet columns, from the registry."""
@@ -49,8 +56,9 @@ def format_cell(row: dict, key: str) -> str:
     text = format_number(value)
     interval = row.get("interval", {}).get(key)
     if interval and value is not None and None not in interval and isinstance(value, float):
-        low, high = interval
-        text += f" +{format_number(high - value)} -{format_number(value - low)}"
+        rounded = from_interval(value, *interval)
+        if rounded.plus is not None:   # rounded with its interval by the PDG rule
+            text = rounded.text()
     if key == "mass_mearth" and row.get("mass_estimated"):
         text += " (est.)"
     return text
@@ -79,7 +87,8 @@ def document_text(doc: dict) -> str:
         lines.append("habitable zone [au]: " + ", ".join(
             f"{k.replace('_', ' ')} {format_number(v)}" for k, v in star["hz_au"].items()))
     if "samples" in doc:
-        lines.append(f"intervals: 16th-84th percentiles of {doc['samples']} Monte Carlo samples (seed {doc['seed']})")
+        lines.append(f"intervals: 16th-84th percentiles of {doc['samples']} Monte Carlo samples (seed {doc['seed']}); "
+                     "values and intervals rounded by the Particle Data Group's rule")
     blocks = ["\n".join(lines)]
     blocks += [table_block(title, cols, doc["planets"]) for title, cols in planet_groups()]
     for table, title, labels in (("pairs", "Adjacent pairs", PAIR_LABELS),
@@ -89,5 +98,9 @@ def document_text(doc: dict) -> str:
     notes = ["Results are model estimates under the stated assumptions "
              "(albedo, heat redistribution, mass-radius relation)."]
     notes += [f"warning: {w}" for w in doc["warnings"]]
+    if doc.get("provenance"):
+        source = doc["provenance"]["input"]
+        notes.append(f"orbitdeck {doc['provenance']['orbitdeck']}; input {source['name']} "
+                     f"(SHA-256 {source['sha256']})")
     blocks.append("\n".join(notes))
     return "\n\n".join(blocks) + "\n"

@@ -259,16 +259,20 @@ def load_system(path) -> System:
     SystemFileError
         With every problem found, each naming the file, field and reason.
     """
+    return loads_system(read_system_bytes(path), str(path))
+
+
+def read_system_bytes(path) -> bytes:
+    """The bytes of a system file, refused (SystemFileError) when unreadable or over the size limit."""
     source = str(path)
     try:
         size = os.stat(path).st_size
         if size > MAX_FILE_BYTES:
             raise SystemFileError([Problem(source, "", f"file is {size} bytes; system files are limited to "
                                                         f"{MAX_FILE_BYTES} bytes")])
-        data = Path(path).read_bytes()
+        return Path(path).read_bytes()
     except OSError as error:
         raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
-    return loads_system(data, source)
 
 
 def loads_system(data: bytes | str, source: str = "<text>") -> System:

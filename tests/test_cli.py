@@ -7,6 +7,7 @@ through the installed console script and ``python -m``.
 from __future__ import annotations
 
 import argparse
+import hashlib
 import json
 import math
 import re
@@ -25,7 +26,7 @@ from orbitdeck.models.engine.derive import document_keys
 PLANET_KEYS, PAIR_KEYS, TRIPLE_KEYS, SKY_KEYS = (document_keys(t) for t in ("planets", "pairs", "triples", "skies"))
 
 DEMOS = demo_names()
-DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies"}
+DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies", "provenance"}
 STAR_KEYS = {"name", "mass_msun", "radius_rsun", "teff_k", "luminosity_lsun", "hz_au", "hz_extrapolated"}
 
 
@@ -245,6 +246,7 @@ def test_json_nominal(cli, name):
     doc = _strict_json(_ok(cli.run("table", "--json", "--samples", "0", demo_path(name))).stdout)
     _assert_document_shape(doc, system, sampled=False)
     assert not _contains_key(doc, "interval")
+    assert doc.pop("provenance")["input"]["sha256"] == hashlib.sha256(demo_path(name).read_bytes()).hexdigest()
     assert doc == json.loads(json.dumps(derive(system).to_dict()))
 
 
@@ -261,6 +263,8 @@ def test_json_sampled_is_reproducible(cli, name):
         assert set(row["interval"]) <= set(PLANET_KEYS) and "period_d" in row["interval"]
         for low, high in row["interval"].values():
             assert low is None or high is None or low <= high
+    assert (doc["provenance"]["samples"], doc["provenance"]["seed"]) == (200, 3)
+    del doc["provenance"]
     assert doc == json.loads(json.dumps(derive(system, samples=200, seed=3).to_dict()))
     other = _ok(cli.run("table", "--json", "--samples", "200", "--seed", "4", demo_path(name))).stdout
     assert other != first  # the seed is the one used

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import hashlib
+import re
 from datetime import datetime, timezone
 
 import pytest
@@ -66,7 +68,8 @@ def test_provenance_names_version_time_file_hash_and_assumptions(demo_page):
 
     digest = hashlib.sha256(demo_path().read_bytes()).hexdigest()
     for expected in (__version__, "exported 2026-12-01T12:00:00Z", demo_path().name, digest,
-                     "Bond albedo 0.3", "heat redistribution full", "nominal values only"):
+                     "bond_albedo = 0.3", "heat_redistribution = full", "redistribution_factor = 0.25",
+                     "nominal values only", "kepler_third_law"):
         assert expected in demo_page, expected
 
 
@@ -179,7 +182,8 @@ def test_the_dashboard_downloads_a_snapshot_of_its_current_state():
     kept = loads_system(extract_system_text(page).encode(), "downloaded")
     assert kept.star.mass == 0.125
     assert f"BJD_TDB {app.time:.5f}" in page
-    assert "edited in the dashboard" in page
+    assert "the state shown was edited after reading" in page
+    assert hashlib.sha256(extract_system_text(page).encode()).hexdigest() in page
 
 
 @pytest.mark.browser
@@ -201,3 +205,39 @@ def test_the_served_page_downloads_a_working_snapshot(tmp_path):
             offline.wait_for_selector(".bk-Canvas", timeout=30_000)
             assert offline_log.problems() == []
     assert extract_system_text(saved.read_text()).startswith('format = "orbitdeck-system/1"')
+
+
+#: every element, through the shadow roots, whose computed style starts a new printed page
+_PAGE_BREAKS = """() => {
+    const found = [];
+    const walk = (root) => {
+        for (const el of root.querySelectorAll("*")) {
+            if (getComputedStyle(el).breakBefore == "page") found.push(el.tagName);
+            if (el.shadowRoot) walk(el.shadowRoot);
+        }
+    };
+    walk(document);
+    return found.length;
+}"""
+
+
+@pytest.mark.browser
+def test_printed_snapshot_puts_each_view_and_the_comparison_on_a_page_of_its_own(tmp_path):
+    system = load_system(demo_path("amber_pair"))
+    pinned = derive(system, samples=200, seed=4)
+    system.star.mass = 1.05
+    page = _snapshot(system, samples=200, seed=4, pinned=pinned, pinned_label="the fit")
+    assert "the fit" in page
+    path = tmp_path / "print.html"
+    path.write_text(page)
+    with chromium() as browser, offline_page(browser) as (view, log):
+        view.goto(path.as_uri())
+        view.wait_for_selector(".bk-Canvas", timeout=30_000)
+        assert view.evaluate(_PAGE_BREAKS) == 0          # on screen: one long page
+        view.emulate_media(media="print")
+        sections = len(VIEW_TITLES) + 1                  # and the comparison
+        assert view.evaluate(_PAGE_BREAKS) == sections
+        pdf = view.pdf(format="A4", landscape=True)
+        # a title page (the header) and at least one page per section
+        assert pdf.startswith(b"%PDF") and len(re.findall(rb"/Type\s*/Page[^s]", pdf)) >= sections + 1
+        assert log.problems() == []

@@ -17,6 +17,7 @@ from functools import partial
 import panel as pn
 
 from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
+from orbitdeck.models.sources import SystemSource
 
 from .common import escape
 from .sky_from import TimePlayer
@@ -32,6 +33,8 @@ PLANET_ENTRIES = (("period", "Period [d]", "d", False), ("radius", "Radius [Rear
                   ("omega", "Argument of periastron omega [deg]", "deg", False))
 REDISTRIBUTION_CHOICES = {"full (f = 1/4)": "full", "dayside only (f = 1/2)": "dayside", "none (f = 2/3)": "none"}
 MAX_NAME_LENGTH = 40
+#: what a page that follows a presenter says when a change reaches it anyway
+READ_ONLY = "read-only: this page follows the presenter; the change was not applied"
 WIDGET_WIDTH = 290
 
 
@@ -42,6 +45,12 @@ class Entry(pn.widgets.TextInput):
     that a burst of changes (a dragged slider) is handled once; an entry sends
     one value per Enter, so the wait would only add to every edit's latency.
     """
+
+    _debounce = 0
+
+
+class Picker(pn.widgets.Select):
+    """A drop-down list whose choice is applied at once (one choice per pick: no burst to wait for)."""
 
     _debounce = 0
 
@@ -104,6 +113,7 @@ class Controls:
     def __init__(self, app):
         self.app = app
         self._quiet = False
+        self._locked: list = []   # widgets lock() disabled
         entry = partial(Entry, width=WIDGET_WIDTH)
         self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
@@ -120,8 +130,8 @@ class Controls:
         self.redistribution = pn.widgets.Select(label="Heat redistribution", options=REDISTRIBUTION_CHOICES,
                                                 width=WIDGET_WIDTH)
         self.assumption_message = pn.pane.HTML("", width=WIDGET_WIDTH)
-        self.planet_select = pn.widgets.Select(label="Planet (also picked by clicking it in a view)",
-                                               width=WIDGET_WIDTH)
+        self.planet_select = Picker(label="Planet (also picked by clicking it in a view)",
+                                    width=WIDGET_WIDTH)
         self.planet_entries = {f: entry(label=label) for f, label, _, _ in PLANET_ENTRIES}
         self.eccentricity = pn.widgets.FloatSlider(label="Eccentricity e", start=0.0, end=0.99, step=0.005,
                                                    width=WIDGET_WIDTH)
@@ -201,8 +211,19 @@ class Controls:
             '<div style="font-size:12px;color:#444">nominal values only</div>')
 
     # -- widgets -> model ------------------------------------------------------
+    def _refused(self, pane=None) -> bool:
+        """True (and the widgets shown as they were) when the page is read-only: it follows a presenter."""
+        if not self.app.read_only:
+            return False
+        if pane is not None:
+            _message(pane, READ_ONLY)
+        self.sync()
+        return True
+
     def _apply(self, obj, field: str, value, label: str, pane) -> bool:
         """Set ``obj.field``; undo it when the system cannot be derived with it."""
+        if self._refused(pane):
+            return False
         old = getattr(obj, field)
         if value == old:
             _message(pane)
@@ -244,7 +265,7 @@ class Controls:
                         self.assumption_message)
 
     def _pick(self, event):
-        if not self._quiet and event.new:
+        if not self._quiet and event.new and not self._refused():
             self.app.selected = event.new
 
     def _current_planet(self) -> Planet | None:
@@ -271,6 +292,8 @@ class Controls:
                         self.planet_message)
 
     def _remove(self, _):
+        if self._refused(self.planet_message):
+            return
         system, planet = self.app.system, self._current_planet()
         if planet is None:
             return
@@ -281,6 +304,8 @@ class Controls:
         _message(self.planet_message, f"removed planet {planet.name}", ok=True)
 
     def _add(self, _):
+        if self._refused(self.add_message):
+            return
         name = (self.new_name.value_input or self.new_name.value or "").strip()
         try:
             if not name:
@@ -308,6 +333,8 @@ class Controls:
         _message(self.add_message, f"added planet {name} (no transit time: its phase is arbitrary)", ok=True)
 
     def _set_time(self, value: float) -> None:
+        if self._refused(self.time_message):
+            return
         self.app.time = float(value)
         _message(self.time_message)
 
@@ -326,7 +353,7 @@ class Controls:
             self._set_time(self.app.system.epoch + float(event.new))
 
     def _load(self, event):
-        if not event.new:
+        if not event.new or self._refused(self.file_message):
             return
         source = self.file_input.filename or "uploaded file"
         try:
@@ -337,7 +364,7 @@ class Controls:
             text = "; ".join(str(p) for p in shown) + (f"; and {more} more" if more > 0 else "")
             _message(self.file_message, f"not loaded, the current system is kept: {text}")
             return
-        self.app.replace_system(system)
+        self.app.replace_system(system, SystemSource(source, bytes(event.new)))
         if self.app.problem:
             _message(self.file_message, f"loaded {source}, but: {self.app.problem}")
         else:
@@ -351,15 +378,27 @@ class Controls:
         from orbitdeck.dashboard.snapshot import render_snapshot
 
         app = self.app
-        text = dumps_system(app.system).encode("utf-8")
-        page = render_snapshot(app.system, "edited in the dashboard", text, time=app.time,
-                               samples=app.draws, seed=app.seed if app.draws else None)
+        page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
+                               samples=app.draws, seed=app.seed if app.draws else None,
+                               pinned=app.pinned, pinned_label=app.pinned_label)
         return io.BytesIO(page.encode("utf-8"))
+
+    def lock(self, locked: bool) -> None:
+        """Disable every control that edits (downloads stay), or enable again those this disabled."""
+        if locked:
+            for widget in self._panel.select(pn.widgets.Widget):
+                if not (isinstance(widget, pn.widgets.FileDownload) or widget.disabled):
+                    self._locked.append(widget)
+                    widget.disabled = True
+        else:
+            for widget in self._locked:
+                widget.disabled = False
+            self._locked = []
 
     # -- layout ------------------------------------------------------------------
     def panel(self):
         card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
-        return pn.Column(
+        self._panel = pn.Column(
             card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
                  self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
@@ -372,3 +411,4 @@ class Controls:
                  self.reference, title="Time and display"),
             card(self.uncertainty, self.samples, self.uncertainty_message, title="Uncertainties"),
             width=WIDGET_WIDTH + 40)
+        return self._panel

@@ -18,6 +18,7 @@ from .. import irradiation
 from ..system import System
 from .draws import percentile_bounds, sampled_inputs
 from .inputs import nominal_inputs
+from .methods import depends_on
 from .registry import ONE_ROW_TABLES, Context, declared
 from .quantities.skies import all_sky_rows
 from .checks import collect_warnings
@@ -81,7 +82,8 @@ class Derived:
     (``star["hz_extrapolated"]`` whether beyond its fit's calibrated range).
     ``intervals`` is empty without Monte Carlo draws; with them,
     ``fractions`` holds the fraction of draws in which each yes/no quantity
-    holds, by table and key.
+    holds, by table and key. ``provenance``, when attached, goes into the
+    document as its ``provenance`` object.
     """
 
     system_name: str
@@ -98,6 +100,8 @@ class Derived:
     intervals: Mapping = field(default_factory=dict)
     fractions: dict = field(default_factory=dict)
     extra: dict = field(default_factory=dict)
+    #: where the numbers came from (see :mod:`orbitdeck.models.engine.provenance`); None until attached
+    provenance: dict | None = None
 
     @property
     def planet_names(self) -> list[str]:
@@ -118,6 +122,8 @@ class Derived:
                     doc[table]["fraction"] = _plain(self.fractions[table])
             doc["samples"] = self.samples
             doc["seed"] = self.seed
+        if self.provenance is not None:
+            doc["provenance"] = _plain(self.provenance)
         return doc
 
 
@@ -166,18 +172,26 @@ def _nest(flat: dict) -> dict:
     return nested
 
 
+def rests_on_habitable_zone(quantity) -> bool:
+    """Whether ``quantity`` is computed from the habitable-zone limits (withheld where they do not apply)."""
+    return "hz_limit_flux" in depends_on(quantity.name)
+
+
 def _nominal_column(quantity, value: np.ndarray, hz_valid: bool) -> np.ndarray:
-    """Row 0 of a computed array, as the document shows it (labels as text)."""
+    """Row 0 of a computed array, as the document shows it (labels as text; None where the
+    habitable-zone limits it rests on are withheld)."""
     column = np.asarray(value)[0]
+    if not hz_valid and rests_on_habitable_zone(quantity):
+        return np.full(column.shape, None, dtype=object)
     if quantity.kind == "label":
-        return np.array([quantity.labels[i] if hz_valid else None for i in column], dtype=object)
+        return np.array([quantity.labels[i] for i in column], dtype=object)
     return column
 
 
 def _one_row_table(table: str, context: Context, hz_valid: bool) -> dict:
     """The values of a one-row table (the system's or the star's), dotted keys nested."""
     values = {q.key: _nominal_column(q, getattr(context, q.name), hz_valid)[0] for q in declared(table)
-              if hz_valid or not q.key.startswith("hz_au.")}
+              if hz_valid or not rests_on_habitable_zone(q)}
     return _nest(values)
 
 
@@ -220,7 +234,7 @@ def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals,
     and the fraction of draws in which each yes/no quantity holds."""
     tables, fractions = {}, {}
     for table in ("system", "star", "planets", "pairs", "triples"):
-        wanted = [q for q in declared(table) if hz_valid or not q.key.startswith("hz_au.")]
+        wanted = [q for q in declared(table) if hz_valid or not rests_on_habitable_zone(q)]
         sampled = [q for q in wanted if q.sampled]
         arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
         rows = max((a.shape[1] for a in arrays), default=0)

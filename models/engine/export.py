@@ -1,4 +1,5 @@
-"""Derived tables as astropy Tables, with units and descriptions from the registry (for ECSV)."""
+"""Derived tables as astropy Tables, with units and descriptions from the registry (for ECSV),
+and the derivation's provenance in the table's metadata."""
 
 from __future__ import annotations
 
@@ -7,16 +8,16 @@ import numpy as np
 from astropy.table import Table
 
 from .derive import Derived, document_keys
+from .provenance import CAUTION
 from .registry import by_key
-
-#: what every export says of its numbers
-CAUTION = "Model estimates under the stated assumptions, not measurements."
 
 
 def planet_table(derived: Derived) -> Table:
     """The planet table with units, one row per planet, 16th/84th percentile columns when sampled."""
     table = Table(meta={"system": derived.system_name, "format": "orbitdeck-derived/1 planets",
                         "caution": CAUTION, "warnings": list(derived.warnings)})
+    if derived.provenance is not None:
+        table.meta["provenance"] = derived.provenance
     intervals = derived.intervals.get("planets", {}) if derived.intervals else {}
     declared = by_key("planets")
     for key in document_keys("planets"):

@@ -19,7 +19,8 @@ def teq_k(c):
     return irradiation.equilibrium_temperature(c.insolation_earth, c.bond_albedo, c.redistribution)
 
 
-@intermediate("planets", unit="K", description="Teq for zero albedo and full redistribution (the TSM/ESM convention)")
+@intermediate("planets", unit="K", description="Teq for zero albedo and full redistribution (the TSM/ESM convention)",
+              source="equilibrium_temperature")
 def teq_zero_albedo_k(c):
     return irradiation.equilibrium_temperature(c.insolation_earth, 0.0, 0.25)
 
