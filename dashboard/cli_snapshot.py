@@ -6,20 +6,10 @@ import sys
 import time
 from pathlib import Path
 
-from orbitdeck.models.files import MAX_FILE_BYTES, Problem, SystemFileError
+from orbitdeck.models.files import MAX_FILE_BYTES, read_regular_file
 
 #: snapshots are larger than system files: refuse pages above this when extracting [bytes]
 MAX_SNAPSHOT_BYTES = 64 * 1024 * 1024
-
-
-def _read(path, limit: int) -> bytes:
-    try:
-        size = Path(path).stat().st_size
-        if size > limit:
-            raise SystemFileError([Problem(str(path), "", f"file is {size} bytes; the limit is {limit} bytes")])
-        return Path(path).read_bytes()
-    except OSError as error:
-        raise SystemFileError([Problem(str(path), "", f"cannot be read: {error.strerror or error}")]) from None
 
 
 def cmd_snapshot(args) -> int:
@@ -27,7 +17,7 @@ def cmd_snapshot(args) -> int:
     from orbitdeck.dashboard.snapshot import extract_system_text, write_snapshot
 
     if args.extract:
-        page = _read(args.extract, MAX_SNAPSHOT_BYTES).decode("utf-8", errors="replace")
+        page = read_regular_file(args.extract, MAX_SNAPSHOT_BYTES, "snapshot pages").decode("utf-8", errors="replace")
         sys.stdout.write(extract_system_text(page, args.extract))
         return 0
     if not args.output:
@@ -37,7 +27,7 @@ def cmd_snapshot(args) -> int:
     from orbitdeck.models import loads_system
 
     source = args.file or str(demo_path())
-    data = _read(source, MAX_FILE_BYTES)
+    data = read_regular_file(source, MAX_FILE_BYTES)
     system = loads_system(data, source)
     start = time.perf_counter()
     size = write_snapshot(args.output, system, Path(source).name, data, time=args.time,

@@ -9,6 +9,7 @@ the target and renames it over, so a failed save never damages a file.
 
 from __future__ import annotations
 
+import errno
 import json
 import math
 import os
@@ -253,29 +254,84 @@ def system_from_document(doc: dict, source: str = "<document>") -> System:
     return System(name=name, notes=notes, epoch=epoch, star=star, assumptions=assumptions, planets=planets)
 
 
+_FILE_KINDS = ((stat.S_ISFIFO, "a named pipe"), (stat.S_ISCHR, "a character device"),
+               (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def _not_regular(source: str, mode: int) -> SystemFileError:
+    if stat.S_ISDIR(mode):
+        return SystemFileError([Problem(source, "", f"cannot be read: {os.strerror(errno.EISDIR)}")])
+    kind = next((name for test, name in _FILE_KINDS if test(mode)), "not a plain file")
+    return SystemFileError([Problem(source, "", f"is not a regular file ({kind}); only regular files are read")])
+
+
+def read_regular_file(path, limit: int, what: str = "system files") -> bytes:
+    """The content of the regular file at ``path`` (links followed), at most ``limit`` bytes.
+
+    Devices, named pipes and sockets are refused before they are opened
+    (and again after, in case the path changed in between: the file is
+    opened without blocking and checked with ``fstat``); a file is read up
+    to ``limit`` + 1 bytes whatever size it reports, so ``/dev/zero`` behind
+    a link, a ``/proc`` file or a growing file cannot fill the memory.
+
+    Raises
+    ------
+    SystemFileError
+        Naming the file and the reason: missing, unreadable, not a regular
+        file, or larger than ``limit`` (``what`` names the kind of file in
+        that message).
+    """
+    source = str(path)
+
+    def too_large(reason: str) -> SystemFileError:
+        return SystemFileError([Problem(source, "", f"{reason}; {what} are limited to {limit} bytes")])
+
+    try:
+        info = os.stat(path)
+        if not stat.S_ISREG(info.st_mode):
+            raise _not_regular(source, info.st_mode)
+        if info.st_size > limit:
+            raise too_large(f"file is {info.st_size} bytes")
+        descriptor = os.open(path, os.O_RDONLY | os.O_NONBLOCK | os.O_NOCTTY | getattr(os, "O_CLOEXEC", 0))
+    except OSError as error:
+        raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
+    try:
+        info = os.fstat(descriptor)
+        if not stat.S_ISREG(info.st_mode):
+            raise _not_regular(source, info.st_mode)
+        if info.st_size > limit:
+            raise too_large(f"file is {info.st_size} bytes")
+        chunks, held = [], 0
+        while held <= limit:
+            chunk = os.read(descriptor, min(limit + 1 - held, 1 << 20))
+            if not chunk:
+                break
+            chunks.append(chunk)
+            held += len(chunk)
+    except OSError as error:
+        raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
+    finally:
+        os.close(descriptor)
+    if held > limit:
+        raise too_large(f"holds more than {limit} bytes")
+    return b"".join(chunks)
+
+
 def load_system(path) -> System:
     """Read a system file.
 
     Parameters
     ----------
     path : str or os.PathLike
-        The ``orbitdeck-system/1`` TOML file.
+        The ``orbitdeck-system/1`` TOML file: a regular file (or a link to
+        one) of at most :data:`MAX_FILE_BYTES` bytes.
 
     Raises
     ------
     SystemFileError
         With every problem found, each naming the file, field and reason.
     """
-    source = str(path)
-    try:
-        size = os.stat(path).st_size
-        if size > MAX_FILE_BYTES:
-            raise SystemFileError([Problem(source, "", f"file is {size} bytes; system files are limited to "
-                                                        f"{MAX_FILE_BYTES} bytes")])
-        data = Path(path).read_bytes()
-    except OSError as error:
-        raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
-    return loads_system(data, source)
+    return loads_system(read_regular_file(path, MAX_FILE_BYTES), str(path))
 
 
 def loads_system(data: bytes | str, source: str = "<text>") -> System:
@@ -291,6 +347,8 @@ def loads_system(data: bytes | str, source: str = "<text>") -> System:
     elif len(data) > MAX_FILE_BYTES:
         raise SystemFileError([Problem(source, "", f"content is over {MAX_FILE_BYTES} characters; system files "
                                                     f"are limited to {MAX_FILE_BYTES} bytes")])
+    if data.startswith("\ufeff"):  # a byte-order mark, which some editors write before UTF-8 text
+        data = data[1:]
     if not data.strip():
         raise SystemFileError([Problem(source, "", "is empty")])
     try:
