@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import io
 import json
+import math
 import os
 import sys
 
@@ -13,13 +14,57 @@ from orbitdeck import __version__
 EXIT_BAD_INPUT = 2
 DEFAULT_SAMPLES = 4000
 DEFAULT_SEED = 20261201
+#: most Monte Carlo samples a command draws (100 planets with 20000 draws: about 7 s and 0.7 GB)
+MAX_SAMPLES = 20000
+#: seeds of the random generator: 0 to 2**32 - 1
+MAX_SEED = 2**32 - 1
+
+
+def say(text: str, stream=None) -> None:
+    """Print one message line to stderr (or ``stream``), every unprintable character escaped."""
+    from orbitdeck.dashboard.text_tables import terminal_safe
+
+    print(terminal_safe(text, keep=""), file=stream or sys.stderr)
 
 
 def _load(path):
+    """The system of ``path`` (the default demo when None); notes on it are printed to stderr."""
     from orbitdeck.demo_systems import demo_path
     from orbitdeck.models import load_system
 
-    return load_system(path if path else demo_path())
+    notes = []
+    system = load_system(path if path else demo_path(), notes)
+    for note in notes:
+        say(f"warning: {note}")
+    return system
+
+
+def bounded(low, high, whole: bool = False):
+    """An ``argparse`` type: a finite number (a whole one with ``whole``) from ``low`` to ``high``."""
+    def parse(text: str):
+        try:
+            value = int(text) if whole else float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a {'whole ' if whole else ''}number") from None
+        if not math.isfinite(value):
+            raise argparse.ArgumentTypeError(f"must be a finite number, not {text!r}")
+        if not low <= value <= high:
+            shown = (f"{low}", f"{high}") if whole else (f"{low:g}", f"{high:g}")
+            raise argparse.ArgumentTypeError(f"must be from {shown[0]} to {shown[1]}, not {text}")
+        return value
+
+    parse.__name__ = "whole number" if whole else "number"
+    return parse
+
+
+def time_value(text: str) -> float:
+    """The ``argparse`` type of a time option: BJD_TDB within the time range of system files."""
+    from orbitdeck.models.system import TIME_BOUNDS  # imported when an option is given, not for --help
+
+    return bounded(*TIME_BOUNDS)(text)
+
+
+time_value.__name__ = "time"
 
 
 def _derive(args):
@@ -38,8 +83,8 @@ def cmd_table(args) -> int:
 
         buffer = io.StringIO()
         planet_table(derived).write(buffer, format="ascii.ecsv")
-        atomic_write(args.ecsv, buffer.getvalue().encode("utf-8"))
-        print(f"wrote {args.ecsv}", file=sys.stderr)
+        atomic_write(args.ecsv, buffer.getvalue().encode("utf-8"), overwrite=args.overwrite)
+        say(f"wrote {args.ecsv}")
     if args.json:
         json.dump(derived.to_dict(), sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
@@ -61,11 +106,18 @@ def _add_file(parser, required=False):
 
 
 def _add_sampling(parser, default_samples):
-    parser.add_argument("--samples", type=int, default=default_samples, metavar="N",
-                        help=f"Monte Carlo samples for 16th-84th percentile intervals; 0 for nominal values only "
-                             f"(default {default_samples})")
-    parser.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
-                        help=f"seed of the random generator (default {DEFAULT_SEED})")
+    parser.add_argument("--samples", type=bounded(0, MAX_SAMPLES, whole=True), default=default_samples, metavar="N",
+                        help=f"Monte Carlo samples for 16th-84th percentile intervals, 0 to {MAX_SAMPLES}; 0 for "
+                             f"nominal values only (default {default_samples})")
+    parser.add_argument("--seed", type=bounded(0, MAX_SEED, whole=True), default=DEFAULT_SEED, metavar="S",
+                        help=f"seed of the random generator, 0 to {MAX_SEED} (default {DEFAULT_SEED})")
+
+
+def add_overwrite(parser, target: str) -> None:
+    """The ``--overwrite`` switch of a command that writes ``target``."""
+    parser.add_argument("--overwrite", action="store_true",
+                        help=f"replace {target} even when it is read-only or has other hard links (a link "
+                             "then keeps the old content)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -78,6 +130,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_file(table)
     table.add_argument("--json", action="store_true", help="print the orbitdeck-derived/1 JSON document instead")
     table.add_argument("--ecsv", metavar="OUT", help="write the planet table, units attached, as ECSV to OUT")
+    add_overwrite(table, "OUT")
     _add_sampling(table, DEFAULT_SAMPLES)
     table.set_defaults(run=cmd_table)
 
@@ -118,14 +171,11 @@ def main(argv=None) -> int:
     from orbitdeck.models import SystemFileError
 
     args = build_parser().parse_args(argv)
-    if getattr(args, "samples", 0) < 0:
-        print("orbitdeck: --samples must be >= 0", file=sys.stderr)
-        return EXIT_BAD_INPUT
     try:
         return args.run(args)
     except SystemFileError as error:
         for problem in error.problems:
-            print(problem, file=sys.stderr)
+            say(str(problem))
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         return 130
@@ -134,8 +184,7 @@ def main(argv=None) -> int:
     except Exception as error:  # a bug of ours: say so briefly, traceback only on request
         if os.environ.get("ORBITDECK_DEBUG"):
             raise
-        print(f"orbitdeck: internal error: {type(error).__name__}: {error} "
-              "(set ORBITDECK_DEBUG=1 for the traceback)", file=sys.stderr)
+        say(f"orbitdeck: internal error: {type(error).__name__}: {error} (set ORBITDECK_DEBUG=1 for the traceback)")
         return 1
 
 

@@ -8,37 +8,37 @@ from pathlib import Path
 
 from orbitdeck.models.files import MAX_FILE_BYTES, read_regular_file
 
-#: snapshots are larger than system files: refuse pages above this when extracting [bytes]
-MAX_SNAPSHOT_BYTES = 64 * 1024 * 1024
-
 
 def cmd_snapshot(args) -> int:
-    from orbitdeck.dashboard.cli import EXIT_BAD_INPUT
-    from orbitdeck.dashboard.snapshot import extract_system_text, write_snapshot
+    from orbitdeck.dashboard.cli import EXIT_BAD_INPUT, say
+    from orbitdeck.dashboard.snapshot import MAX_SNAPSHOT_BYTES, extract_system_text, write_snapshot
 
     if args.extract:
         page = read_regular_file(args.extract, MAX_SNAPSHOT_BYTES, "snapshot pages").decode("utf-8", errors="replace")
         sys.stdout.write(extract_system_text(page, args.extract))
         return 0
     if not args.output:
-        print("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)", file=sys.stderr)
+        say("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)")
         return EXIT_BAD_INPUT
     from orbitdeck.demo_systems import demo_path
     from orbitdeck.models import loads_system
 
     source = args.file or str(demo_path())
     data = read_regular_file(source, MAX_FILE_BYTES)
-    system = loads_system(data, source)
+    notes = []
+    system = loads_system(data, source, notes)
+    for note in notes:
+        say(f"warning: {note}")
     start = time.perf_counter()
     size = write_snapshot(args.output, system, Path(source).name, data, time=args.time,
-                          samples=args.samples, seed=args.seed)
-    print(f"wrote {args.output} ({size / 1e6:.1f} MB in {time.perf_counter() - start:.1f} s)", file=sys.stderr)
+                          samples=args.samples, seed=args.seed, overwrite=args.overwrite)
+    say(f"wrote {args.output} ({size / 1e6:.1f} MB in {time.perf_counter() - start:.1f} s)")
     return 0
 
 
 def register(commands) -> None:
     """Add the ``snapshot`` subcommand."""
-    from orbitdeck.dashboard.cli import DEFAULT_SEED, _add_file
+    from orbitdeck.dashboard.cli import DEFAULT_SEED, MAX_SAMPLES, MAX_SEED, _add_file, add_overwrite, bounded, time_value
 
     snapshot = commands.add_parser(
         "snapshot", help="write every view to one self-contained HTML file",
@@ -47,11 +47,12 @@ def register(commands) -> None:
                     "the system file embedded in such a page.")
     _add_file(snapshot)
     snapshot.add_argument("-o", "--output", metavar="OUT.html", help="the page to write")
-    snapshot.add_argument("--time", type=float, metavar="BJD", help="time of the positions [BJD_TDB]; "
-                                                                    "default: the system epoch")
-    snapshot.add_argument("--samples", type=int, default=0, metavar="N",
-                          help="Monte Carlo samples for intervals (default 0: nominal values only)")
-    snapshot.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
-                          help=f"seed of the random generator (default {DEFAULT_SEED})")
+    add_overwrite(snapshot, "OUT.html")
+    snapshot.add_argument("--time", type=time_value, metavar="BJD", help="time of the positions [BJD_TDB]; "
+                                                                         "default: the system epoch")
+    snapshot.add_argument("--samples", type=bounded(0, MAX_SAMPLES, whole=True), default=0, metavar="N",
+                          help=f"Monte Carlo samples for intervals, 0 to {MAX_SAMPLES} (default 0: nominal values only)")
+    snapshot.add_argument("--seed", type=bounded(0, MAX_SEED, whole=True), default=DEFAULT_SEED, metavar="S",
+                          help=f"seed of the random generator, 0 to {MAX_SEED} (default {DEFAULT_SEED})")
     snapshot.add_argument("--extract", metavar="PAGE", help="print the system file embedded in a snapshot page")
     snapshot.set_defaults(run=cmd_snapshot)

@@ -84,7 +84,39 @@ def test_usage_errors_exit_2_without_traceback(cli, argv):
 
 def test_negative_samples_are_refused(cli):
     result = cli.run("table", "--samples", "-1", demo_path(DEFAULT_DEMO))
-    assert result.returncode == 2 and result.stderr == "orbitdeck: --samples must be >= 0\n"
+    assert result.returncode == 2 and result.stdout == ""
+    assert result.stderr.splitlines()[-1] == "orbitdeck table: error: argument --samples: must be from 0 to 20000, not -1"
+
+
+#: (command with its other options, the option, a bad value, a phrase of the reason)
+BAD_OPTIONS = [
+    (["positions"], "--time", "nan", "finite"), (["positions"], "--time", "inf", "finite"),
+    (["positions"], "--time", "-inf", "finite"), (["positions"], "--time", "1e308", "from -1e+07 to 1e+07"),
+    (["positions"], "--time", "tomorrow", "not a number"),
+    (["sky", "--observer", "b"], "--time", "nan", "finite"),
+    (["sky", "--observer", "b"], "--albedo", "-1", "from 0 to 2"),
+    (["sky", "--observer", "b"], "--albedo", "nan", "finite"),
+    (["sky", "--observer", "b"], "--events", "-3", "from 0 to 100"),
+    (["sky", "--observer", "b"], "--events", "1000000", "from 0 to 100"),
+    (["sky", "--observer", "b"], "--events", "2.5", "not a whole number"),
+    (["table"], "--seed", "-1", "from 0 to 4294967295"), (["table"], "--seed", "1e3", "not a whole number"),
+    (["table"], "--samples", "100000000", "from 0 to 20000"),
+    (["snapshot", "-o", "never.html"], "--time", "inf", "finite"),
+    (["snapshot", "-o", "never.html"], "--samples", "-5", "from 0 to 20000"),
+    (["snapshot", "-o", "never.html"], "--seed", "-1", "from 0 to"),
+]
+
+
+@pytest.mark.parametrize("command,option,value,reason", BAD_OPTIONS,
+                         ids=[f"{c[0]}{o}={v}" for c, o, v, _ in BAD_OPTIONS])
+def test_a_bad_option_value_is_a_usage_error_naming_the_option(cli, tmp_path, command, option, value, reason):
+    result = cli.run(*command, demo_path(DEFAULT_DEMO), f"{option}={value}", cwd=tmp_path)
+    assert result.returncode == 2, result.stderr
+    assert result.stdout == "" and "internal error" not in result.stderr and "Traceback" not in result.stderr
+    assert result.stderr.startswith(f"usage: orbitdeck {command[0]}")
+    last = result.stderr.splitlines()[-1]
+    assert last.startswith(f"orbitdeck {command[0]}: error: argument {option}: ") and reason in last, last
+    assert list(tmp_path.iterdir()) == []
 
 
 # -- check ---------------------------------------------------------------------------------------

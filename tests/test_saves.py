@@ -17,7 +17,7 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, dumps_system, load_system, save_system
-from orbitdeck.models import files
+from orbitdeck.models import safe_io
 
 TEMPORARY = re.compile(r"\.(?P<target>.+)\.[^.]+\.tmp")
 
@@ -52,7 +52,7 @@ def test_save_replaces_the_file_through_a_temporary_one(monkeypatch, target, old
         renames.append((os.fspath(source), os.fspath(destination)))
         return real_replace(source, destination)
 
-    monkeypatch.setattr(files.os, "replace", watching_replace)
+    monkeypatch.setattr(safe_io.os, "replace", watching_replace)
     save_system(old_and_new[1], target)
     ((source, destination),) = renames
     assert os.path.dirname(source) == str(target.parent)  # same folder, so the rename is atomic
@@ -76,7 +76,7 @@ def test_failed_rename_leaves_the_old_file(monkeypatch, target, old_and_new):
     def failing_replace(source, destination):
         raise OSError(errno.EIO, os.strerror(errno.EIO))
 
-    monkeypatch.setattr(files.os, "replace", failing_replace)
+    monkeypatch.setattr(safe_io.os, "replace", failing_replace)
     reason = _refused(lambda: save_system(old_and_new[1], target), target)
     assert reason == f"cannot be written: {os.strerror(errno.EIO)}"
     assert target.read_bytes() == before
@@ -104,7 +104,7 @@ def test_disk_full_half_way_leaves_the_old_file(monkeypatch, target, old_and_new
         def __exit__(self, *exc):
             self.stream.close()
 
-    monkeypatch.setattr(files.os, "fdopen", HalfWritten)
+    monkeypatch.setattr(safe_io.os, "fdopen", HalfWritten)
     reason = _refused(lambda: save_system(old_and_new[1], target), target)
     assert os.strerror(errno.ENOSPC) in reason
     assert target.read_bytes() == before
@@ -117,7 +117,7 @@ def test_failed_flush_to_disk_leaves_the_old_file(monkeypatch, target, old_and_n
     def failing_fsync(fd):
         raise OSError(errno.EIO, os.strerror(errno.EIO))
 
-    monkeypatch.setattr(files.os, "fsync", failing_fsync)
+    monkeypatch.setattr(safe_io.os, "fsync", failing_fsync)
     _refused(lambda: save_system(old_and_new[1], target), target)
     assert target.read_bytes() == before
     assert _listing(target.parent) == [target.name]
@@ -129,7 +129,7 @@ def test_interrupted_save_leaves_no_temporary_file(monkeypatch, target, old_and_
     def interrupted_fsync(fd):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(files.os, "fsync", interrupted_fsync)
+    monkeypatch.setattr(safe_io.os, "fsync", interrupted_fsync)
     with pytest.raises(KeyboardInterrupt):
         save_system(old_and_new[1], target)
     assert target.read_bytes() == before

@@ -21,7 +21,7 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, load_system
-from orbitdeck.models import files
+from orbitdeck.models import safe_io
 from orbitdeck.models.files import MAX_FILE_BYTES, read_regular_file
 
 #: address-space ceiling of a command's child process [bytes]: the interpreter with astropy needs far less
@@ -126,8 +126,8 @@ def test_a_file_that_reports_less_than_it_holds_is_read_only_up_to_the_limit(tmp
         def __getattr__(self, name):
             return 0 if name == "st_size" else getattr(self._info, name)
 
-    monkeypatch.setattr(files.os, "fstat", lambda fd: Shrunk(REAL_FSTAT(fd)))
-    monkeypatch.setattr(files.os, "stat", lambda path, *a, **k: Shrunk(REAL_STAT(path, *a, **k)))
+    monkeypatch.setattr(safe_io.os, "fstat", lambda fd: Shrunk(REAL_FSTAT(fd)))
+    monkeypatch.setattr(safe_io.os, "stat", lambda path, *a, **k: Shrunk(REAL_STAT(path, *a, **k)))
     tracemalloc.start()
     try:
         with pytest.raises(SystemFileError) as caught:
