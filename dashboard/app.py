@@ -19,6 +19,7 @@ import param
 from orbitdeck.models import Derived, System, derive, ephemeris
 
 from .cli import DEFAULT_SEED
+from .text_tables import unsigned_zeros
 from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
 from .views.common import escape
 from .views.controls import Controls
@@ -146,7 +147,7 @@ class OrbitDeckApp(param.Parameterized):
                               '<div role="alert" style="background:#fff3cd;border:1px solid #e6c65c;color:#5c4400;'
                               'padding:6px 10px;border-radius:4px;font-size:13px;max-height:9.5em;overflow-y:auto">'
                               '<b>Warnings</b><ul style="margin:2px 0 0 0;padding-left:18px">'
-                              + "".join(f"<li>{escape(n)}</li>" for n in notes) + "</ul></div>")
+                              + "".join(f"<li>{escape(unsigned_zeros(n))}</li>" for n in notes) + "</ul></div>")
         a = system.assumptions
         self.caution.object = (
             '<div style="font-size:12px;color:#555;margin:4px 0">All values are model estimates under the stated '

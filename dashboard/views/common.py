@@ -210,6 +210,27 @@ def fmt(value, digits: int = 4) -> str:
     return f"{value + 0.0 if value else 0.0:.{digits}g}"
 
 
+def number_texts(values, fmt: str = "0.00") -> list[str]:
+    """Each value written as the tooltip format ``fmt`` would write it, a dash where missing or infinite.
+
+    For tooltip columns that may hold NaN: a hover tool writes NaN as "NaN" before any formatter sees it.
+    """
+    found = _NUMBER_FORMAT.fullmatch(fmt)
+    if not found:
+        raise ValueError(f"unsupported number format {fmt!r}")
+    plus, places, exponent = found.group(1), len(found.group(2) or ""), found.group(3)
+    out = []
+    for value in as_floats(values):
+        if not math.isfinite(value):
+            out.append(MISSING)
+            continue
+        text = f"{value:.{places}e}" if exponent else f"{value:.{places}f}"
+        if float(text) == 0:
+            text = text.lstrip("-")
+        out.append(f"+{text}" if plus and not text.startswith("-") else text)
+    return out
+
+
 def finite_or_nan(values) -> np.ndarray:
     """``values`` as floats with every infinity (and None) turned into NaN, which tables show as a dash."""
     out = as_floats(values)
