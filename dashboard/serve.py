@@ -1,6 +1,7 @@
 """``orbitdeck serve``: the dashboard on a local Panel server.
 
-The server listens on 127.0.0.1 only. Every browser session gets its own
+The server listens on 127.0.0.1 only, and answers no request from a page of
+another website (:mod:`orbitdeck.dashboard.request_guard`). Every browser session gets its own
 app object built around its own copy of the system (``System.copy()``), so
 an edit in one tab never shows in another; the system read at start-up is
 only ever copied, never edited.
@@ -98,8 +99,15 @@ def run_with_system_allocator() -> None:
 
 
 def port_is_free(port: int, host: str = HOST) -> bool:
-    """True when ``host:port`` can be bound now."""
+    """True when ``host:port`` can be served on now.
+
+    The probe binds as the server does, with ``SO_REUSEADDR``: a port whose
+    last connections are in TIME_WAIT (the server stopped while a page was
+    open) can be served on at once, while one that another process listens on
+    still counts as taken.
+    """
     with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
+        probe.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
         try:
             probe.bind((host, port))
         except OSError:
@@ -317,9 +325,13 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     notice = share_notice(settings, ROUTE)
     if notice:
         print(notice, flush=True)
+    from .request_guard import guarded_server
+
+    server = guarded_server({ROUTE: session_factory(system, memory)}, settings, show=show, title="orbitdeck",
+                            threaded=False, verbose=False, **server_settings())
     try:
-        pn.serve({ROUTE: session_factory(system, memory)}, show=show, start=True, title="orbitdeck",
-                 threaded=False, verbose=False, **server_settings(), **settings)
+        server.start()
+        server.io_loop.start()
     except KeyboardInterrupt:
         pass
     return 0

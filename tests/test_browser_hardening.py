@@ -194,3 +194,36 @@ def test_an_oversize_upload_is_refused_and_the_session_lives_on(browser, demo_ur
         name = load_system(demo_path("amber_pair")).name
         wait_for(lambda: page.locator("h2", has_text=name).count() == 1, what="the valid file to load")
         assert len([w for w in log.websockets if w.endswith("/ws")]) <= 1  # never reconnected
+
+
+def test_another_site_cannot_show_the_dashboard_in_a_frame(browser, demo_url, tmp_path):
+    import functools
+    import http.server
+    import threading
+
+    from browser_support import free_port, open_page
+
+    (tmp_path / "index.html").write_text(f'<html><body><iframe id="f" src="{demo_url}" width="900" height="700">'
+                                         "</iframe></body></html>")
+    handler = functools.partial(http.server.SimpleHTTPRequestHandler, directory=str(tmp_path))
+    other = http.server.ThreadingHTTPServer(("127.0.0.1", free_port()), handler)
+    thread = threading.Thread(target=other.serve_forever, daemon=True)
+    thread.start()
+    try:
+        site = f"http://127.0.0.1:{other.server_address[1]}"
+        with open_page(browser, (site, demo_url.rsplit("/", 1)[0])) as (page, log):
+            page.goto(f"{site}/index.html")
+            page.wait_for_timeout(4000)
+            framed = [f for f in page.frames if f != page.main_frame]
+            assert framed, "the frame was not even created"
+            for frame in framed:
+                try:
+                    loaded = frame.evaluate("() => !!(window.Bokeh && Bokeh.documents.length)")
+                except Exception:  # a blocked frame holds an error page that scripts cannot reach
+                    loaded = False
+                assert not loaded
+            assert any("frame-ancestors" in m or "X-Frame-Options" in m or "refused" in m.lower()
+                       for m in log.console_errors), log.console_errors
+    finally:
+        other.shutdown()
+        other.server_close()
