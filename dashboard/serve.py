@@ -47,6 +47,9 @@ EXIT_BAD_INPUT = 2
 UNUSED_SESSION_LIFETIME_MS = 10_000
 #: how often the server looks for such sessions [ms] (Bokeh's default 17000)
 CHECK_UNUSED_SESSIONS_MS = 2_000
+#: largest message the server takes from a browser [bytes]: a system file of the largest size (2 MiB) takes
+#: 2.8 MB in base64; larger files are refused by the page before they are sent (views.upload)
+WEBSOCKET_MAX_MESSAGE_BYTES = 8 * 1024 * 1024
 #: quiet time after the last released session before freed memory is handed back [s]
 MEMORY_RETURN_DELAY_S = 2.0
 #: time after a session is built before its objects are frozen (see ServerMemory) [s]
@@ -134,16 +137,17 @@ def choose_port(requested: int | None) -> int:
 
 
 def _read(path_or_none):
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import load_system
+    """The system to serve (the default demo for None); notes on the file are printed as warnings."""
+    from .cli import _load
 
-    return load_system(path_or_none if path_or_none else demo_path())
+    return _load(path_or_none)
 
 
 def server_settings() -> dict:
-    """Bokeh server options that release the session of a closed page promptly."""
+    """Bokeh server options that release the session of a closed page promptly and bound a browser's messages."""
     return {"unused_session_lifetime_milliseconds": UNUSED_SESSION_LIFETIME_MS,
-            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS}
+            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS,
+            "websocket_max_message_size": WEBSOCKET_MAX_MESSAGE_BYTES}
 
 
 def _libc_malloc_trim():
@@ -290,16 +294,18 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     """
     from orbitdeck.models import SystemFileError
 
+    from .cli import say
+
     try:
         system = _read(path_or_none)
     except SystemFileError as error:
         for problem in error.problems:
-            print(problem, file=sys.stderr)
+            say(str(problem))
         return EXIT_BAD_INPUT
     try:
         port = choose_port(port)
     except OSError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
 
     from .sharing import share_notice, share_settings
@@ -307,7 +313,7 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     try:
         settings = share_settings(list(share or []), port)
     except ValueError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
     if wants_system_allocator():  # once the arguments are known to be good
         run_with_system_allocator()

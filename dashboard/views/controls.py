@@ -381,7 +381,8 @@ class Controls:
     def panel(self):
         card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
         return pn.Column(
-            card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
+            card(pn.pane.HTML(f"<small>Load an orbitdeck-system/1 TOML file (at most "
+                                      f"{MAX_FILE_BYTES // 2**20} MiB)</small>"), self.file_input,
                  self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
