@@ -15,7 +15,12 @@ def cmd_snapshot(args) -> int:
 
     if args.extract:
         page = read_regular_file(args.extract, MAX_SNAPSHOT_BYTES, "snapshot pages").decode("utf-8", errors="replace")
-        sys.stdout.write(extract_system_text(page, args.extract))
+        text = extract_system_text(page, args.extract)
+        if sys.stdout.isatty():  # for reading: a right-to-left override in the notes must not reorder the screen
+            from orbitdeck.dashboard.text_tables import terminal_safe
+
+            text = terminal_safe(text, keep="\n\t")
+        sys.stdout.write(text)
         return 0
     if not args.output:
         say("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)")

@@ -254,3 +254,35 @@ def test_the_served_page_downloads_a_working_snapshot(tmp_path):
             offline.wait_for_selector(".bk-Canvas", timeout=30_000)
             assert offline_log.problems() == []
     assert extract_system_text(saved.read_text()).startswith('format = "orbitdeck-system/1"')
+
+
+def test_extract_escapes_what_a_terminal_would_act_on_only_when_printing_to_one(tmp_path):
+    import os
+    import pty
+    import subprocess
+    import sys
+
+    text = demo_path().read_text().replace('notes = "', 'notes = "reordered \u202eby an override; ', 1)
+    page = tmp_path / "page.html"
+    page.write_text(_page_with(_b64(text)))
+    command = [sys.executable, "-m", "orbitdeck.dashboard.cli", "snapshot", "--extract", str(page)]
+    piped = subprocess.run(command, capture_output=True, timeout=120)
+    assert piped.returncode == 0 and piped.stdout.decode("utf-8") == text  # a file gets the text as it is
+    leader, follower = pty.openpty()
+    try:
+        shown = subprocess.run(command, stdout=follower, stderr=subprocess.PIPE, timeout=120)
+        os.close(follower)
+        received = b""
+        while True:
+            try:
+                chunk = os.read(leader, 65536)
+            except OSError:
+                break
+            if not chunk:
+                break
+            received += chunk
+    finally:
+        os.close(leader)
+    assert shown.returncode == 0
+    screen = received.decode("utf-8")
+    assert "\u202e" not in screen and "reordered \\u202eby an override" in screen

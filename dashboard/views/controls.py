@@ -19,7 +19,7 @@ import panel as pn
 from orbitdeck.models import Planet, System, SystemFileError, dumps_system, loads_system
 from orbitdeck.models.files import MAX_FILE_BYTES
 from orbitdeck.models.names import display_key, name_problem
-from orbitdeck.models.system import MAX_PLANETS
+from orbitdeck.models.system import MAX_PLANETS, TIME_BOUNDS
 
 from .common import escape
 from .sky_from import TimePlayer
@@ -190,7 +190,7 @@ class Controls:
                     widget.value = entry_text(getattr(planet, field))
                 self.eccentricity.value = min(planet.eccentricity, self.eccentricity.end)
             longest = max((p.period for p in system.planets), default=10.0)
-            self.time_slider.end = round(max(longest, 1.0), 2)
+            self.time_slider.end = round(max(min(longest, TIME_BOUNDS[1] - system.epoch), 1.0), 2)
             self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
             self.time_entry.value = entry_text(app.time)
             self.download.filename = file_name_for(system.name)
