@@ -22,6 +22,7 @@ from orbitdeck.models.sources import SystemSource
 
 from .cli import DEFAULT_SEED
 from .history import EditHistory, SessionTools
+from .text_tables import unsigned_zeros
 from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
 from .views.bulk import BulkView
 from .views.common import escape
@@ -227,7 +228,7 @@ class OrbitDeckApp(param.Parameterized):
                               '<div role="alert" style="background:#fff3cd;border:1px solid #e6c65c;color:#5c4400;'
                               'padding:6px 10px;border-radius:4px;font-size:13px;max-height:9.5em;overflow-y:auto">'
                               '<b>Warnings</b><ul style="margin:2px 0 0 0;padding-left:18px">'
-                              + "".join(f"<li>{escape(n)}</li>" for n in notes) + "</ul></div>")
+                              + "".join(f"<li>{escape(unsigned_zeros(n))}</li>" for n in notes) + "</ul></div>")
         a = system.assumptions
         self.caution.object = (
             '<div style="font-size:12px;color:#555;margin:4px 0">All values are model estimates under the stated '
@@ -354,9 +355,31 @@ class ViewTabs(pn.Tabs):
         self._before_show = before_show
 
     def _update_active(self, *events):
-        if self._before_show is not None and any(e.name == "active" for e in events):
-            self._before_show(self.active)
-        super()._update_active(*events)
+        # one batch of changes, whose later values replace earlier ones of the same property: see below
+        with pn.io.hold():
+            if self._before_show is not None and any(e.name == "active" for e in events):
+                self._before_show(self.active)
+            super()._update_active(*events)
+            self._local_style_sheets()
+
+    def _local_style_sheets(self) -> None:
+        """Point every style sheet of the page at the serving page's own copy again.
+
+        A pane updated while its tab is hidden has no document, and Panel then
+        resolves its style sheets to its CDN, also changing the style sheet
+        objects it shares with the shown components; a local page must not
+        reach out (and fails offline). Set back within the same batch, the
+        browser only receives the local addresses.
+        """
+        from bokeh.models import ImportedStyleSheet
+        from panel.io.resources import patch_stylesheet
+
+        for root, _ in list(self._models.values()):
+            document = root.document
+            dist_url = document._template_variables.get("dist_url") if document is not None else None
+            if dist_url:
+                for sheet in document.select({"type": ImportedStyleSheet}):
+                    patch_stylesheet(sheet, dist_url)
 
 
 class PlainTemplate(pn.template.VanillaTemplate):

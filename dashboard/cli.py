@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import io
 import json
+import math
 import os
 import sys
 
@@ -13,6 +14,17 @@ from orbitdeck import __version__
 EXIT_BAD_INPUT = 2
 DEFAULT_SAMPLES = 4000
 DEFAULT_SEED = 20261201
+#: most Monte Carlo samples a command draws (100 planets with 20000 draws: about 7 s and 0.7 GB)
+MAX_SAMPLES = 20000
+#: seeds of the random generator: 0 to 2**32 - 1
+MAX_SEED = 2**32 - 1
+
+
+def say(text: str, stream=None) -> None:
+    """Print one message line to stderr (or ``stream``), every unprintable character escaped."""
+    from orbitdeck.dashboard.text_tables import terminal_safe
+
+    print(terminal_safe(text, keep=""), file=stream or sys.stderr)
 
 
 def _source(path):
@@ -22,8 +34,46 @@ def _source(path):
     return read_source(path) if path else demo_source()
 
 
+def _system(source):
+    """The system of a :class:`~orbitdeck.models.sources.SystemSource`; notes on it are printed to stderr."""
+    notes = []
+    system = source.system(notes)
+    for note in notes:
+        say(f"warning: {note}")
+    return system
+
+
 def _load(path):
-    return _source(path).system()
+    """The system of ``path`` (the default demo when None); notes on it are printed to stderr."""
+    return _system(_source(path))
+
+
+def bounded(low, high, whole: bool = False):
+    """An ``argparse`` type: a finite number (a whole one with ``whole``) from ``low`` to ``high``."""
+    def parse(text: str):
+        try:
+            value = int(text) if whole else float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a {'whole ' if whole else ''}number") from None
+        if not math.isfinite(value):
+            raise argparse.ArgumentTypeError(f"must be a finite number, not {text!r}")
+        if not low <= value <= high:
+            shown = (f"{low}", f"{high}") if whole else (f"{low:g}", f"{high:g}")
+            raise argparse.ArgumentTypeError(f"must be from {shown[0]} to {shown[1]}, not {text}")
+        return value
+
+    parse.__name__ = "whole number" if whole else "number"
+    return parse
+
+
+def time_value(text: str) -> float:
+    """The ``argparse`` type of a time option: BJD_TDB within the time range of system files."""
+    from orbitdeck.models.system import TIME_BOUNDS  # imported when an option is given, not for --help
+
+    return bounded(*TIME_BOUNDS)(text)
+
+
+time_value.__name__ = "time"
 
 
 def _derive(args):
@@ -38,11 +88,11 @@ def _derive(args):
     return system, derived
 
 
-def _write(path, text: str) -> None:
+def _write(path, text: str, overwrite: bool = False) -> None:
     from orbitdeck.models.files import atomic_write
 
-    atomic_write(path, text.encode("utf-8"))
-    print(f"wrote {path}", file=sys.stderr)
+    atomic_write(path, text.encode("utf-8"), overwrite=overwrite)
+    say(f"wrote {path}")
 
 
 def _columns(text):
@@ -68,18 +118,18 @@ def cmd_table(args) -> int:
 
         buffer = io.StringIO()
         planet_table(derived).write(buffer, format="ascii.ecsv")
-        _write(args.ecsv, buffer.getvalue())
+        _write(args.ecsv, buffer.getvalue(), args.overwrite)
     for style in ("latex", "aastex"):
         if getattr(args, style):
             from orbitdeck.models.engine.paper_table import write_paper_table
 
-            _write(getattr(args, style), write_paper_table(derived, style, columns))
+            _write(getattr(args, style), write_paper_table(derived, style, columns), args.overwrite)
     if args.bibtex:
         from orbitdeck.models.engine.methods import bibtex
         from orbitdeck.models.engine.provenance import provenance_lines
 
         keys = None if columns is None else [f"planets.{key}" for key in columns]
-        _write(args.bibtex, bibtex(system, derived, keys, provenance_lines(derived.provenance)))
+        _write(args.bibtex, bibtex(system, derived, keys, provenance_lines(derived.provenance)), args.overwrite)
     if args.json:
         json.dump(derived.to_dict(), sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
@@ -94,12 +144,12 @@ def cmd_cite(args) -> int:
     from orbitdeck.models.engine.provenance import provenance_lines, provenance_of
 
     source = _source(args.file)
-    system = source.system()
+    system = _system(source)
     derived = derive(system)
     provenance = provenance_of(system, derived, source.name, source.sha256)
     text = bibtex(system, derived, None, provenance_lines(provenance, sampling=False))
     if args.output:
-        _write(args.output, text)
+        _write(args.output, text, args.overwrite)
     else:
         sys.stdout.write(text)
     return 0
@@ -118,11 +168,18 @@ def _add_file(parser, required=False):
 
 
 def _add_sampling(parser, default_samples):
-    parser.add_argument("--samples", type=int, default=default_samples, metavar="N",
-                        help=f"Monte Carlo samples for 16th-84th percentile intervals; 0 for nominal values only "
-                             f"(default {default_samples})")
-    parser.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
-                        help=f"seed of the random generator (default {DEFAULT_SEED})")
+    parser.add_argument("--samples", type=bounded(0, MAX_SAMPLES, whole=True), default=default_samples, metavar="N",
+                        help=f"Monte Carlo samples for 16th-84th percentile intervals, 0 to {MAX_SAMPLES}; 0 for "
+                             f"nominal values only (default {default_samples})")
+    parser.add_argument("--seed", type=bounded(0, MAX_SEED, whole=True), default=DEFAULT_SEED, metavar="S",
+                        help=f"seed of the random generator, 0 to {MAX_SEED} (default {DEFAULT_SEED})")
+
+
+def add_overwrite(parser, target: str) -> None:
+    """The ``--overwrite`` switch of a command that writes ``target``."""
+    parser.add_argument("--overwrite", action="store_true",
+                        help=f"replace {target} even when it is read-only or has other hard links (a link "
+                             "then keeps the old content)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -142,6 +199,7 @@ def build_parser() -> argparse.ArgumentParser:
                        help="the planet quantities of the LaTeX/AASTeX table, by document key (default: those "
                             "of the text tables); --bibtex then cites the methods of these only")
     table.add_argument("--bibtex", metavar="OUT", help="write BibTeX of the methods the numbers used to OUT")
+    add_overwrite(table, "OUT")
     _add_sampling(table, DEFAULT_SAMPLES)
     table.set_defaults(run=cmd_table)
 
@@ -151,6 +209,7 @@ def build_parser() -> argparse.ArgumentParser:
                                            "preceded by a comment naming the quantities that use it.")
     _add_file(cite)
     cite.add_argument("-o", "--output", metavar="OUT", help="write the BibTeX to OUT instead of printing it")
+    add_overwrite(cite, "OUT")
     cite.set_defaults(run=cmd_cite)
 
     check = commands.add_parser("check", help="check a system file",
@@ -196,14 +255,11 @@ def main(argv=None) -> int:
     from orbitdeck.models import SystemFileError
 
     args = build_parser().parse_args(argv)
-    if getattr(args, "samples", 0) < 0:
-        print("orbitdeck: --samples must be >= 0", file=sys.stderr)
-        return EXIT_BAD_INPUT
     try:
         return args.run(args)
     except SystemFileError as error:
         for problem in error.problems:
-            print(problem, file=sys.stderr)
+            say(str(problem))
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         return 130
@@ -212,8 +268,7 @@ def main(argv=None) -> int:
     except Exception as error:  # a bug of ours: say so briefly, traceback only on request
         if os.environ.get("ORBITDECK_DEBUG"):
             raise
-        print(f"orbitdeck: internal error: {type(error).__name__}: {error} "
-              "(set ORBITDECK_DEBUG=1 for the traceback)", file=sys.stderr)
+        say(f"orbitdeck: internal error: {type(error).__name__}: {error} (set ORBITDECK_DEBUG=1 for the traceback)")
         return 1
 
 

@@ -1,6 +1,7 @@
 """``orbitdeck serve``: the dashboard on a local Panel server.
 
-The server listens on 127.0.0.1 only. Every browser session gets its own
+The server listens on 127.0.0.1 only, and answers no request from a page of
+another website (:mod:`orbitdeck.dashboard.request_guard`). Every browser session gets its own
 app object built around its own copy of the system (``System.copy()``), so
 an edit in one tab never shows in another; the system read at start-up is
 only ever copied, never edited.
@@ -33,9 +34,19 @@ EXIT_BAD_INPUT = 2
 UNUSED_SESSION_LIFETIME_MS = 10_000
 #: how often the server looks for such sessions [ms] (Bokeh's default 17000)
 CHECK_UNUSED_SESSIONS_MS = 2_000
+#: largest message the server takes from a browser [bytes]: a system file of the largest size (2 MiB) takes
+#: 2.8 MB in base64; larger files are refused by the page before they are sent (views.upload)
+WEBSOCKET_MAX_MESSAGE_BYTES = 8 * 1024 * 1024
 def port_is_free(port: int, host: str = HOST) -> bool:
-    """True when ``host:port`` can be bound now."""
+    """True when ``host:port`` can be served on now.
+
+    The probe binds as the server does, with ``SO_REUSEADDR``: a port whose
+    last connections are in TIME_WAIT (the server stopped while a page was
+    open) can be served on at once, while one that another process listens on
+    still counts as taken.
+    """
     with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
+        probe.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
         try:
             probe.bind((host, port))
         except OSError:
@@ -69,13 +80,17 @@ def _source(path_or_none):
 
 
 def _read(path_or_none):
-    return _source(path_or_none).system()
+    """The system to serve (the default demo for None); notes on the file are printed as warnings."""
+    from .cli import _system
+
+    return _system(_source(path_or_none))
 
 
 def server_settings() -> dict:
-    """Bokeh server options that release the session of a closed page promptly."""
+    """Bokeh server options that release the session of a closed page promptly and bound a browser's messages."""
     return {"unused_session_lifetime_milliseconds": UNUSED_SESSION_LIFETIME_MS,
-            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS}
+            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS,
+            "websocket_max_message_size": WEBSOCKET_MAX_MESSAGE_BYTES}
 
 
 def warm_up() -> None:
@@ -135,17 +150,21 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     """
     from orbitdeck.models import SystemFileError
 
+    from .cli import say
+
     try:
+        from .cli import _system
+
         source = _source(path_or_none)
-        system = source.system()
+        system = _system(source)
     except SystemFileError as error:
         for problem in error.problems:
-            print(problem, file=sys.stderr)
+            say(str(problem))
         return EXIT_BAD_INPUT
     try:
         port = choose_port(port)
     except OSError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
 
     from .sharing import share_notice, share_settings
@@ -153,10 +172,8 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     try:
         settings = share_settings(list(share or []), port)
     except ValueError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
-    import panel as pn
-
     warm_up()
     url = f"http://{HOST}:{port}/{ROUTE}"
     print(f"orbitdeck: serving {system.name!r} at {url} (Ctrl+C to stop)", flush=True)
@@ -171,9 +188,13 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
         print(f"presenter mode: the first page opened presents and every other page follows it, read-only. "
               f"To present from another page, open {url}?{QUERY_ARGUMENT}={channel.token} or type the token "
               f"{channel.token} into the page.", flush=True)
+    from .request_guard import guarded_server
+
+    server = guarded_server({ROUTE: session_factory(system, source, channel)}, settings, show=show, title="orbitdeck",
+                            threaded=False, verbose=False, **server_settings())
     try:
-        pn.serve({ROUTE: session_factory(system, source, channel)}, show=show, start=True, title="orbitdeck",
-                 threaded=False, verbose=False, **server_settings(), **settings)
+        server.start()
+        server.io_loop.start()
     except KeyboardInterrupt:
         pass
     return 0

@@ -25,7 +25,7 @@ from datetime import datetime, timezone
 
 import panel as pn
 
-from orbitdeck.models import System, derive, dumps_system
+from orbitdeck.models import System, derive, dumps_system, loads_system
 from orbitdeck.models.engine.provenance import provenance_of
 from orbitdeck.models.files import Problem, SystemFileError, atomic_write
 from orbitdeck.models.sources import SystemSource
@@ -34,7 +34,12 @@ from .offline import render_offline
 
 #: name of the <meta> element that carries the input system (base64 of its TOML text)
 SYSTEM_META = "orbitdeck-system"
-_META_PATTERN = re.compile(r'<meta name="' + SYSTEM_META + r'" content="([A-Za-z0-9+/=]*)">')
+_META_PATTERN = re.compile(r'<meta name="' + SYSTEM_META + r'" content="([^"]*)">')
+#: the attribute that marks the tag; in a page of ours it stands once (names and notes are
+#: written with their quotes escaped, as &quot; in the markup and \" in the Bokeh document)
+_META_ATTRIBUTE = re.compile(r'name\s*=\s*"' + SYSTEM_META + '"', re.IGNORECASE)
+#: largest snapshot page written or read back [bytes]
+MAX_SNAPSHOT_BYTES = 64 * 1024 * 1024
 _EXPORT_TIME_PATTERN = re.compile(r"exported \d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ")
 #: one view per printed page (set inside each section's shadow root, where the page's own CSS cannot reach)
 PRINT_SECTION_CSS = "@media print { :host { break-before: page; break-inside: avoid-page; } }"
@@ -157,22 +162,57 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     return page
 
 
-def write_snapshot(path, system: System, source_name: str, source_bytes: bytes, **options) -> int:
-    """Write the snapshot atomically to ``path``; returns its size in bytes."""
+def write_snapshot(path, system: System, source_name: str, source_bytes: bytes, overwrite: bool = False,
+                   **options) -> int:
+    """Write the snapshot atomically to ``path``; returns its size in bytes.
+
+    Raises :class:`SystemFileError` when the page would be larger than
+    :data:`MAX_SNAPSHOT_BYTES` (which ``--extract`` would refuse to read) or
+    cannot be written (see :func:`~orbitdeck.models.files.atomic_write`,
+    which ``overwrite`` is passed to).
+    """
     data = render_snapshot(system, source_name, source_bytes, **options).encode("utf-8")
-    atomic_write(path, data)
+    if len(data) > MAX_SNAPSHOT_BYTES:
+        raise SystemFileError([Problem(str(path), "", f"not written: the page would be {len(data)} bytes; "
+                                                      f"snapshot pages are limited to {MAX_SNAPSHOT_BYTES} bytes")])
+    atomic_write(path, data, overwrite=overwrite)
     return len(data)
 
 
 def extract_system_text(page: str, source: str = "<snapshot>") -> str:
-    """The system file embedded in a snapshot page."""
+    """The system file embedded in a snapshot page, checked by the loader.
+
+    Raises
+    ------
+    SystemFileError
+        "is not an orbitdeck snapshot" for a page without the embedded
+        system; "has been altered" for one with more than one; "damaged"
+        (with the loader's problems, each naming the field) for one whose
+        embedded system cannot be decoded or is not a valid system file.
+    """
+    marks = len(_META_ATTRIBUTE.findall(page))
+    if not marks:
+        raise SystemFileError([Problem(source, "", "is not an orbitdeck snapshot (no embedded system file)")])
+    if marks > 1:
+        raise SystemFileError([Problem(source, "", f"has been altered: it holds {marks} embedded system files "
+                                                   "where a snapshot holds one")])
+
+    def damaged(reason: str, more=()) -> SystemFileError:
+        return SystemFileError([Problem(source, "", f"is an orbitdeck snapshot whose embedded system file is "
+                                                    f"damaged: {reason}"), *more])
+
     match = _META_PATTERN.search(page)
     if not match:
-        raise SystemFileError([Problem(source, "", "is not an orbitdeck snapshot (no embedded system file)")])
+        raise damaged("its tag is malformed")
     try:
-        return base64.b64decode(match.group(1), validate=True).decode("utf-8")
-    except (ValueError, UnicodeDecodeError):
-        raise SystemFileError([Problem(source, "", "the embedded system file is damaged")]) from None
+        text = base64.b64decode(match.group(1), validate=True).decode("utf-8")
+    except ValueError:  # binascii.Error and UnicodeDecodeError are ValueErrors
+        raise damaged("it is not base64-encoded UTF-8 text") from None
+    try:
+        loads_system(text, f"{source} (embedded system file)", notes=[])
+    except SystemFileError as error:
+        raise damaged("it is not a valid system file", error.problems) from None
+    return text
 
 
 def without_export_time(page: str) -> str:

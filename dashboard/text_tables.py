@@ -3,11 +3,16 @@
 A value with an interval is written ``value +plus -minus``, rounded by the
 Particle Data Group's rule (:mod:`orbitdeck.models.rounding`); a value
 without one, to four significant figures.
+
+Everything printed passes through :func:`terminal_safe`, so that no name,
+path or message can move the cursor, retitle or clear the terminal, or start
+a line of its own; numbers never show as ``nan``, ``inf`` or a negative zero.
 """
 
 from __future__ import annotations
 
 import math
+import re
 
 from orbitdeck.models.engine.registry import declared
 from orbitdeck.models.rounding import from_interval
@@ -32,8 +37,32 @@ TRIPLE_LABELS = (("planets", "planets"),)
 SKY_LABELS = (("observer", "observer"), ("body", "body"))
 
 
+def terminal_safe(text: str, keep: str = "\n") -> str:
+    """``text`` with every character a terminal would not show as itself written as an escape.
+
+    Control characters (``\\x1b``, ``\\x00``, a newline not in ``keep``),
+    bidirectional-text controls and invisible characters (``\\u202e``,
+    ``\\u200b``) become their Python escapes, so that printed text can
+    neither drive the terminal nor hide or reorder what follows it.
+    """
+    if text.isprintable():
+        return text
+    from orbitdeck.models.names import character_kind
+
+    return "".join(c if c in keep or (c.isprintable() and character_kind(c) is None)
+                   else c.encode("unicode_escape").decode("ascii") for c in text)
+
+
+_NEGATIVE_ZERO = re.compile(r"(?<![\w.])-(?=0(?:\.0*)?(?![0-9.]))")
+
+
+def unsigned_zeros(text: str) -> str:
+    """``text`` with the sign taken off numbers written as zero ("-0.00" -> "0.00"; "-0.01" stays)."""
+    return _NEGATIVE_ZERO.sub("", text)
+
+
 def format_number(value) -> str:
-    """Four significant figures, plain or scientific as the size asks."""
+    """Four significant figures, plain or scientific as the size asks; "-" for a missing or infinite value."""
     if value is None:
         return "-"
     if isinstance(value, bool):
@@ -42,7 +71,9 @@ def format_number(value) -> str:
         return str(value)
     if not math.isfinite(value):
         return "-"
-    if value != 0 and (abs(value) >= 1e5 or abs(value) < 1e-3):
+    if value == 0:
+        return "0"  # never "-0"
+    if abs(value) >= 1e5 or abs(value) < 1e-3:
         return f"{value:.3e}"
     return f"{value:.4g}"
 
@@ -65,6 +96,9 @@ def format_cell(row: dict, key: str) -> str:
 
 
 def render(headings: list[str], rows: list[list[str]]) -> str:
+    """An aligned table; every cell is made terminal-safe (a cell never spans two lines)."""
+    headings = [terminal_safe(h, keep="") for h in headings]
+    rows = [[terminal_safe(c, keep="") for c in r] for r in rows]
     widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(headings)]
     line = lambda cells: "  ".join(c.rjust(w) if i else c.ljust(w) for i, (c, w) in enumerate(zip(cells, widths)))
     return "\n".join([line(headings), line(["-" * w for w in widths]), *(line(r) for r in rows)])
@@ -97,10 +131,10 @@ def document_text(doc: dict) -> str:
         blocks.append(table_block(title, table_columns(table, labels), doc[table]))
     notes = ["Results are model estimates under the stated assumptions "
              "(albedo, heat redistribution, mass-radius relation)."]
-    notes += [f"warning: {w}" for w in doc["warnings"]]
+    notes += [f"warning: {terminal_safe(unsigned_zeros(w), keep='')}" for w in doc["warnings"]]
     if doc.get("provenance"):
         source = doc["provenance"]["input"]
         notes.append(f"orbitdeck {doc['provenance']['orbitdeck']}; input {source['name']} "
                      f"(SHA-256 {source['sha256']})")
     blocks.append("\n".join(notes))
-    return "\n\n".join(blocks) + "\n"
+    return terminal_safe("\n\n".join(blocks) + "\n")

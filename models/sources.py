@@ -27,9 +27,10 @@ class SystemSource:
         """SHA-256 of the bytes, as hexadecimal text."""
         return hashlib.sha256(self.data).hexdigest()
 
-    def system(self) -> System:
-        """A new :class:`System` read from the bytes (SystemFileError naming the source if they are bad)."""
-        return loads_system(self.data, self.name)
+    def system(self, notes: list | None = None) -> System:
+        """A new :class:`System` read from the bytes (SystemFileError naming the source if they are bad);
+        notes on usable oddities go to ``notes`` (see :func:`~orbitdeck.models.files.loads_system`)."""
+        return loads_system(self.data, self.name, notes)
 
 
 def read_source(path) -> SystemSource:

@@ -9,6 +9,13 @@ free-text citations go in ``refs`` (field name -> str).
 A :class:`System` keeps its planets ordered by period and increments its
 ``revision`` whenever anything inside it changes, so one watcher on
 ``System.param.revision`` sees every edit.
+
+The bounds of the parameters are those within which every derived quantity,
+position and sky can be computed (a period of 1e-300 d would give a zero
+semi-major axis, a time of 1e308 d an infinite mean anomaly); a system holds
+at most :data:`MAX_PLANETS` planets, whose names must show as themselves and
+differ on screen (:mod:`orbitdeck.models.names`; checked when a system is
+built and whenever its planet list is set, not when a name is changed later).
 """
 
 from __future__ import annotations
@@ -17,10 +24,45 @@ from dataclasses import dataclass
 
 import param
 
+from .names import display_key, name_problem
 from .quantity import Uncertainty
 
 #: heat-redistribution names and the factor f of Teq = Teff sqrt(R/a) [f(1-A)]^(1/4)
 REDISTRIBUTION_FACTORS = {"full": 0.25, "dayside": 0.5, "none": 2.0 / 3.0}
+#: most planets a system may hold: about ten times the richest known system, and few enough that the
+#: N^2 tables of pairs and skies stay small (100 planets with 4000 Monte Carlo draws: about 1 s, 0.2 GB)
+MAX_PLANETS = 100
+#: range of every time (system epoch, transit times, the time of positions) [BJD_TDB, d]: JD 0 is
+#: 4713 BC and 1e7 d is about AD 22,700; negative values leave room for reduced (BJD - 2450000) times
+TIME_BOUNDS = (-1.0e7, 1.0e7)
+#: range of orbital periods [d]: 1e-3 d is 86 s, far below any planet's period
+PERIOD_BOUNDS = (1.0e-3, 1.0e8)
+
+
+def check_name(name: str, what: str) -> None:
+    """ValueError naming ``what`` when ``name`` holds a character that does not show as itself."""
+    problem = name_problem(name) if isinstance(name, str) else None
+    if problem is not None:
+        raise ValueError(f"{what} {name!r}: {problem}")
+
+
+class PlanetList(param.List):
+    """The planets of a system: at most :data:`MAX_PLANETS`, no two whose names look the same."""
+
+    def _validate_bounds(self, value, bounds):
+        if value is not None and len(value) > MAX_PLANETS:
+            raise ValueError(f"a system holds at most {MAX_PLANETS} planets, not {len(value)}")
+        super()._validate_bounds(value, bounds)
+
+    def _validate(self, value):
+        super()._validate(value)
+        seen: dict[str, str] = {}
+        for planet in value or ():
+            check_name(planet.name, "planet name")
+            key = display_key(planet.name)
+            if key in seen:
+                raise ValueError(f"the planet names {seen[key]!r} and {planet.name!r} look the same")
+            seen[key] = planet.name
 
 
 class _Body(param.Parameterized):
@@ -82,7 +124,7 @@ class Star(_Body):
         "j_mag": "mag", "k_mag": "mag", "distance": "pc",
     }
 
-    name = param.String(default="star", constant=False, doc="Name of the star (free text)")
+    name = param.String(default="star", constant=False, doc="Name of the star (visible characters)")
     mass = param.Number(default=1.0, bounds=(1e-3, 300.0), inclusive_bounds=(False, True), doc="Mass [Msun]")
     radius = param.Number(default=1.0, bounds=(1e-3, 2000.0), inclusive_bounds=(False, True), doc="Radius [Rsun]")
     teff = param.Number(default=5772.0, bounds=(0.0, 60000.0), inclusive_bounds=(False, True),
@@ -122,15 +164,15 @@ class Planet(_Body):
         "inclination": "deg", "omega": "deg", "transit_time": "d", "tidal_q": None,
     }
 
-    name = param.String(default="b", constant=False, doc="Planet name, usually its letter")
-    period = param.Number(default=10.0, bounds=(0.0, 1e8), inclusive_bounds=(False, True), doc="Orbital period [d]")
+    name = param.String(default="b", constant=False, doc="Planet name, usually its letter (visible characters)")
+    period = param.Number(default=10.0, bounds=PERIOD_BOUNDS, doc="Orbital period [d]")
     radius = param.Number(default=1.0, bounds=(0.0, 1000.0), inclusive_bounds=(False, True), doc="Radius [Rearth]")
     mass = param.Number(default=None, allow_None=True, bounds=(0.0, 1e5), inclusive_bounds=(False, True),
                         doc="Mass [Mearth]; None: estimated from the radius (Chen & Kipping 2017)")
     eccentricity = param.Number(default=0.0, bounds=(0.0, 1.0), inclusive_bounds=(True, False), doc="Eccentricity e, 0 <= e < 1")
     inclination = param.Number(default=90.0, bounds=(0.0, 180.0), doc="Orbital inclination to the sky plane [deg]")
     omega = param.Number(default=90.0, bounds=(-360.0, 360.0), doc="Argument of periastron [deg]")
-    transit_time = param.Number(default=None, allow_None=True, doc="A mid-transit time [BJD_TDB, d]")
+    transit_time = param.Number(default=None, allow_None=True, bounds=TIME_BOUNDS, doc="A mid-transit time [BJD_TDB, d]")
     tidal_q = param.Number(default=None, allow_None=True, bounds=(0.0, 1e12), inclusive_bounds=(False, True),
                            doc="Modified tidal quality factor Q' of this planet; None: the assumption's")
 
@@ -193,12 +235,13 @@ class Site:
 class System(param.Parameterized):
     """A star, its planets ordered by period, and the assumptions in force."""
 
-    name = param.String(default="unnamed system", constant=False, doc="Name of the system (free text)")
+    name = param.String(default="unnamed system", constant=False, doc="Name of the system (visible characters)")
     notes = param.String(default="", doc="Free-text notes")
-    epoch = param.Number(default=2461000.0, doc="Default time for positions and skies [BJD_TDB, d]")
+    epoch = param.Number(default=2461000.0, bounds=TIME_BOUNDS, doc="Default time for positions and skies [BJD_TDB, d]")
     star = param.ClassSelector(class_=Star, instantiate=False, doc="The host star")
     assumptions = param.ClassSelector(class_=Assumptions, instantiate=False, doc="Albedo and heat redistribution")
-    planets = param.List(default=[], item_type=Planet, instantiate=True, doc="Planets, kept ordered by period")
+    planets = PlanetList(default=[], item_type=Planet, instantiate=True,
+                         doc=f"Planets, kept ordered by period (at most {MAX_PLANETS}, names that look different)")
     sites = param.List(default=[], item_type=Site, instantiate=True, doc="Observing sites named in the file")
     revision = param.Integer(default=0, doc="Incremented on every change to anything in the system")
 
@@ -206,6 +249,8 @@ class System(param.Parameterized):
         params.setdefault("star", Star())
         params.setdefault("assumptions", Assumptions())
         super().__init__(**params)
+        check_name(self.name, "system name")
+        check_name(self.star.name, "star name")
         self._item_watchers: list = []
         self.param.watch(self._on_own_change, ["name", "notes", "epoch", "star", "assumptions", "planets", "sites"])
         self._sort_planets()
@@ -252,9 +297,12 @@ class System(param.Parameterized):
         raise KeyError(f"no planet named {name!r} in {self.name!r}")
 
     def add_planet(self, planet: Planet) -> None:
-        """Add a planet (the list is re-sorted by period)."""
-        if planet.name in self.planet_names:
-            raise ValueError(f"a planet named {planet.name!r} already exists")
+        """Add a planet (the list is re-sorted by period); ValueError when its name looks like another's
+        or the system holds :data:`MAX_PLANETS` planets already."""
+        twins = [name for name in self.planet_names if display_key(name) == display_key(planet.name)]
+        if twins:
+            raise ValueError(f"a planet named {twins[0]!r} already exists"
+                             + ("" if twins[0] == planet.name else f" (it looks the same as {planet.name!r})"))
         self.planets = [*self.planets, planet]
 
     def remove_planet(self, name: str) -> None:

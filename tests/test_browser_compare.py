@@ -24,7 +24,7 @@ def test_pin_edit_compare_and_undo(browser, demo_url):
         undo = page.get_by_role("button", name="\u21b6 Undo")
         assert undo.is_disabled()
         page.get_by_role("button", name="Pin this state as the reference").click()
-        wait_for(lambda: shows(page, "reference pinned: Tamsin Reach"), what="the pin")
+        wait_for(lambda: shows(page, "reference pinned: Ossery Loom"), what="the pin")
         box = page.get_by_label("Mass [Msun]", exact=True)
         box.fill("0.13")
         box.press("Enter")

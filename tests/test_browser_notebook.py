@@ -58,7 +58,7 @@ def test_the_readme_notebook_runs_anywhere_and_its_html_renders_offline(tmp_path
         view.wait_for_selector(".bk-Canvas", timeout=60_000)
         canvas = view.locator(".bk-Canvas").first.bounding_box()
         assert canvas["width"] > 300 and canvas["height"] > 200
-        assert view.get_by_text("Tamsin Reach", exact=False).count() > 0
+        assert view.get_by_text("Ossery Loom", exact=False).count() > 0
         # every plot of the first tab has a rendered view (their titles are drawn on the canvases)
         figures = view.evaluate("""() => [...Bokeh.index.all_views()].filter(v => v.model.type == "Figure")
                                                   .map(v => v.model.title ? v.model.title.text : "")""")

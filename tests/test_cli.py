@@ -87,7 +87,39 @@ def test_usage_errors_exit_2_without_traceback(cli, argv):
 
 def test_negative_samples_are_refused(cli):
     result = cli.run("table", "--samples", "-1", demo_path(DEFAULT_DEMO))
-    assert result.returncode == 2 and result.stderr == "orbitdeck: --samples must be >= 0\n"
+    assert result.returncode == 2 and result.stdout == ""
+    assert result.stderr.splitlines()[-1] == "orbitdeck table: error: argument --samples: must be from 0 to 20000, not -1"
+
+
+#: (command with its other options, the option, a bad value, a phrase of the reason)
+BAD_OPTIONS = [
+    (["positions"], "--time", "nan", "finite"), (["positions"], "--time", "inf", "finite"),
+    (["positions"], "--time", "-inf", "finite"), (["positions"], "--time", "1e308", "from -1e+07 to 1e+07"),
+    (["positions"], "--time", "tomorrow", "not a number"),
+    (["sky", "--observer", "b"], "--time", "nan", "finite"),
+    (["sky", "--observer", "b"], "--albedo", "-1", "from 0 to 2"),
+    (["sky", "--observer", "b"], "--albedo", "nan", "finite"),
+    (["sky", "--observer", "b"], "--events", "-3", "from 0 to 100"),
+    (["sky", "--observer", "b"], "--events", "1000000", "from 0 to 100"),
+    (["sky", "--observer", "b"], "--events", "2.5", "not a whole number"),
+    (["table"], "--seed", "-1", "from 0 to 4294967295"), (["table"], "--seed", "1e3", "not a whole number"),
+    (["table"], "--samples", "100000000", "from 0 to 20000"),
+    (["snapshot", "-o", "never.html"], "--time", "inf", "finite"),
+    (["snapshot", "-o", "never.html"], "--samples", "-5", "from 0 to 20000"),
+    (["snapshot", "-o", "never.html"], "--seed", "-1", "from 0 to"),
+]
+
+
+@pytest.mark.parametrize("command,option,value,reason", BAD_OPTIONS,
+                         ids=[f"{c[0]}{o}={v}" for c, o, v, _ in BAD_OPTIONS])
+def test_a_bad_option_value_is_a_usage_error_naming_the_option(cli, tmp_path, command, option, value, reason):
+    result = cli.run(*command, demo_path(DEFAULT_DEMO), f"{option}={value}", cwd=tmp_path)
+    assert result.returncode == 2, result.stderr
+    assert result.stdout == "" and "internal error" not in result.stderr and "Traceback" not in result.stderr
+    assert result.stderr.startswith(f"usage: orbitdeck {command[0]}")
+    last = result.stderr.splitlines()[-1]
+    assert last.startswith(f"orbitdeck {command[0]}: error: argument {option}: ") and reason in last, last
+    assert list(tmp_path.iterdir()) == []
 
 
 # -- check ---------------------------------------------------------------------------------------
@@ -315,3 +347,84 @@ def test_ecsv_into_a_missing_folder_is_a_clear_error(cli, tmp_path):
     assert result.returncode == 2 and "Traceback" not in result.stderr
     assert result.stderr == f"{out}: cannot be written: No such file or directory\n"
     assert not out.parent.exists()
+
+
+def test_ecsv_never_replaces_a_pipe_and_a_read_only_file_only_when_told(cli, tmp_path):
+    import os
+    import stat
+
+    fifo = tmp_path / "pipe.ecsv"
+    os.mkfifo(fifo)
+    result = cli.run("table", "--ecsv", fifo, "--samples", "0", demo_path(DEFAULT_DEMO))
+    assert result.returncode == 2
+    assert result.stderr == f"{fifo}: is not a regular file (a named pipe); only regular files are replaced\n"
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
+    kept = tmp_path / "kept.ecsv"
+    kept.write_text("earlier table\n")
+    kept.chmod(0o444)
+    result = cli.run("table", "--ecsv", kept, "--samples", "0", demo_path(DEFAULT_DEMO))
+    assert result.returncode == 2 and "is read-only" in result.stderr and "--overwrite" in result.stderr
+    assert kept.read_text() == "earlier table\n"
+    _ok(cli.run("table", "--ecsv", kept, "--overwrite", "--samples", "0", demo_path(DEFAULT_DEMO)))
+    assert Table.read(kept, format="ascii.ecsv")["name"][0] == load_system(demo_path(DEFAULT_DEMO)).planet_names[0]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["kept.ecsv", "pipe.ecsv"]
+
+
+# -- notes and warnings, printed once and with their place ------------------------------------------
+
+EQUAL_PERIODS = """format = "orbitdeck-system/1"
+[system]
+name = "Crowded"
+[star]
+name = "S"
+mass = 0.2
+radius = 0.2
+teff = 3000
+[[planets]]
+name = "b"
+period = 2.0
+radius = 1.0
+mass = 1.0
+[[planets]]
+name = "c"
+period = 4.0
+radius = 1.5
+mass = 30.0
+[[planets]]
+name = "d"
+period = 4.0
+radius = 1.0
+mass = 1.0
+"""
+
+
+def test_an_unusual_unit_is_reported_with_the_file_and_the_field(cli, tmp_path):
+    path = tmp_path / "units.toml"
+    path.write_text(demo_path(DEFAULT_DEMO).read_text().replace(
+        "radius = { value = 0.246,", 'radius = { value = 0.246, unit = "Rsun s2/s/s",', 1))
+    result = _ok(cli.run("check", path))
+    assert result.stdout == "ok\n"
+    assert result.stderr.splitlines() == [f"warning: {path}: star.radius.unit: astropy: 'Rsun s2/s/s' contains "
+                                          "multiple slashes, which is discouraged by the FITS standard"]
+
+
+def test_sky_with_events_prints_each_warning_once(cli, tmp_path):
+    # planets without a transit time each give a note, from the sky and again from the close approaches
+    path = tmp_path / "crowded.toml"
+    path.write_text(EQUAL_PERIODS)
+    result = _ok(cli.run("sky", path, "--observer", "b", "--events", "2"))
+    warnings = [line for line in result.stdout.splitlines() if line.startswith("warning: ")]
+    assert any("transit_time" in w for w in warnings)
+    assert len(warnings) == len(set(warnings)), warnings
+
+
+def test_no_negative_zero_and_no_infinity_in_the_tables(cli, tmp_path):
+    # b-c is exactly 2:1 (an infinite super-period); c and d share a period, and d's smaller mass puts
+    # it a hair inside c: a spacing of about -0.003 mutual Hill radii, written -0.00 to two places
+    path = tmp_path / "crowded.toml"
+    path.write_text(EQUAL_PERIODS)
+    text = _ok(cli.run("table", path, "--samples", "0")).stdout
+    assert re.search(r"(?<![\w.])-0(\.0*)?(?![\d.e])", text) is None, text
+    for word in ("inf", "nan", "Infinity", "NaN"):
+        assert re.search(rf"\b{word}\b", text) is None, word
+    assert "spacing 0.00 mutual Hill radii" in text

@@ -16,6 +16,8 @@ from orbitdeck.demo_systems import demo_names, demo_path
 from orbitdeck.models import (Assumptions, Planet, Star, System, SystemFileError, Uncertainty, derive, dumps_system,
                               load_system, loads_system, save_system)
 from orbitdeck.models.files import FORMAT, Problem, system_from_document, system_to_document
+from orbitdeck.models.names import display_key, name_problem
+from orbitdeck.models.system import PERIOD_BOUNDS, TIME_BOUNDS
 
 DEMOS = demo_names()
 
@@ -106,7 +108,8 @@ def test_planets_written_out_of_order_are_kept_in_period_order():
     assert [p["name"] for p in tomllib.loads(dumps_system(reordered))["planets"]] == reordered.planet_names
 
 
-names = st.text(min_size=1, max_size=12).filter(lambda s: s.strip())
+names = st.text(min_size=1, max_size=12).filter(lambda s: s.strip() and name_problem(s) is None)
+times = st.floats(*TIME_BOUNDS)
 free_text = st.text(max_size=40)
 spreads = st.one_of(
     st.none(),
@@ -141,13 +144,13 @@ def _build(cls, fields: dict, **plain):
 @st.composite
 def planets(draw, name):
     fields = {
-        "period": draw(measured(positive(1e8))),
+        "period": draw(measured(st.floats(*PERIOD_BOUNDS))),
         "radius": draw(measured(positive(1000.0))),
         "mass": draw(st.none() | measured(positive(1e5))),
         "eccentricity": draw(measured(st.floats(0, 1, exclude_max=True))),
         "inclination": draw(measured(st.floats(0, 180))),
         "omega": draw(measured(st.floats(-360, 360))),
-        "transit_time": draw(st.none() | measured(st.floats(allow_nan=False, allow_infinity=False))),
+        "transit_time": draw(st.none() | measured(times)),
     }
     return _build(Planet, fields, name=name)
 
@@ -165,9 +168,8 @@ def systems(draw):
     }, name=draw(names))
     assumptions = _build(Assumptions, {"bond_albedo": draw(measured(st.floats(0, 1, exclude_max=True)))},
                          heat_redistribution=draw(st.sampled_from(["full", "dayside", "none"])))
-    planet_names = draw(st.lists(names, min_size=1, max_size=5, unique=True))
-    return System(name=draw(names), notes=draw(free_text),
-                  epoch=draw(st.floats(allow_nan=False, allow_infinity=False)), star=star,
+    planet_names = draw(st.lists(names, min_size=1, max_size=5, unique_by=display_key))
+    return System(name=draw(names), notes=draw(free_text), epoch=draw(times), star=star,
                   assumptions=assumptions, planets=[draw(planets(n)) for n in planet_names])
 
 

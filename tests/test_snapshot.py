@@ -111,6 +111,86 @@ MIN_PIXELS_OF_A_PLANET = 20
 MIN_HZ_PIXELS = 2000
 
 
+def _page_with(*contents: str, before: str = "<html><head><title>t</title>", after: str = "</head><body></body></html>"):
+    """A page shaped like a snapshot's head, with one embedded-system tag per content."""
+    return before + "".join(f'<meta name="orbitdeck-system" content="{c}">' for c in contents) + after
+
+
+def _b64(text: str) -> str:
+    import base64
+
+    return base64.b64encode(text.encode("utf-8")).decode("ascii")
+
+
+def _extract_problems(page: str):
+    from orbitdeck.models import SystemFileError
+
+    with pytest.raises(SystemFileError) as caught:
+        extract_system_text(page, "page.html")
+    return caught.value.problems
+
+
+DAMAGED = "page.html: is an orbitdeck snapshot whose embedded system file is damaged: "
+
+
+def test_extract_tells_a_damaged_snapshot_from_a_foreign_page():
+    good = demo_path().read_text()
+    assert extract_system_text(_page_with(_b64(good)), "page.html") == good
+    # an empty embedded system, base64 that is not, bytes that are not UTF-8, a tag cut short
+    for page, reason in ((_page_with(""), "it is not a valid system file"),
+                         (_page_with("@@not base64@@"), "it is not base64-encoded UTF-8 text"),
+                         (_page_with(_b64("x")[:-1]), "it is not base64-encoded UTF-8 text"),
+                         (_page_with("//79"), "it is not base64-encoded UTF-8 text"),
+                         ('<meta name="orbitdeck-system" content="' + _b64(good), "its tag is malformed")):
+        problems = _extract_problems(page)
+        assert str(problems[0]) == DAMAGED + reason, (page[:80], problems)
+    (problem,) = _extract_problems("<html><head></head></html>")
+    assert str(problem) == "page.html: is not an orbitdeck snapshot (no embedded system file)"
+
+
+def test_extract_checks_the_embedded_system_with_the_loader():
+    tampered = demo_path().read_text().replace('name = "b"', 'name = "b\\u001b]0;owned\\u0007"', 1)
+    problems = _extract_problems(_page_with(_b64(tampered)))
+    assert str(problems[0]) == DAMAGED + "it is not a valid system file"
+    (field,) = problems[1:]
+    assert field.file == "page.html (embedded system file)" and field.field.endswith(".name")
+    assert "control character" in field.reason
+
+
+def test_extract_refuses_a_page_with_a_second_embedded_system():
+    good, other = demo_path().read_text(), demo_path("amber_pair").read_text()
+    for page in (_page_with(_b64(other), _b64(good)),
+                 "<html><head><META NAME=\"orbitdeck-system\" content=\"" + _b64(other) + "\">"
+                 + _page_with(_b64(good), before="")):
+        (problem,) = _extract_problems(page)
+        assert str(problem) == ("page.html: has been altered: it holds 2 embedded system files where a "
+                                "snapshot holds one")
+
+
+def test_a_system_whose_text_holds_the_tag_still_extracts():
+    # names and notes are free text: written into the page they must not pass for a second tag
+    system = load_system(demo_path())
+    system.notes = '<meta name="orbitdeck-system" content="QUFB"> and name="orbitdeck-system"'
+    system.planets[1].name = 'c name="orbitdeck-system"'
+    page = _snapshot(system)
+    assert loads_system(extract_system_text(page), "x").notes == system.notes
+
+
+def test_the_command_line_reports_a_damaged_snapshot_without_printing_it(tmp_path):
+    from cli_harness import ForkedCli
+
+    tampered = demo_path().read_text().replace('name = "b"', 'name = "\\u001b[2J"', 1)
+    page = tmp_path / "page.html"
+    page.write_text(_page_with(_b64(tampered)))
+    empty = tmp_path / "empty.html"
+    empty.write_text(_page_with(""))
+    with ForkedCli() as cli:
+        for path in (page, empty):
+            result = cli.run("snapshot", "--extract", path)
+            assert result.returncode == 2 and result.stdout == "" and "\x1b" not in result.stderr
+            assert result.stderr.startswith(f"{path}: is an orbitdeck snapshot whose embedded system file is damaged")
+
+
 @pytest.mark.browser
 @pytest.mark.parametrize("name", demo_names())
 def test_every_demo_snapshot_renders_offline(tmp_path, name):
@@ -241,3 +321,35 @@ def test_printed_snapshot_puts_each_view_and_the_comparison_on_a_page_of_its_own
         # a title page (the header) and at least one page per section
         assert pdf.startswith(b"%PDF") and len(re.findall(rb"/Type\s*/Page[^s]", pdf)) >= sections + 1
         assert log.problems() == []
+
+
+def test_extract_escapes_what_a_terminal_would_act_on_only_when_printing_to_one(tmp_path):
+    import os
+    import pty
+    import subprocess
+    import sys
+
+    text = demo_path().read_text().replace('notes = "', 'notes = "reordered \u202eby an override; ', 1)
+    page = tmp_path / "page.html"
+    page.write_text(_page_with(_b64(text)))
+    command = [sys.executable, "-m", "orbitdeck.dashboard.cli", "snapshot", "--extract", str(page)]
+    piped = subprocess.run(command, capture_output=True, timeout=120)
+    assert piped.returncode == 0 and piped.stdout.decode("utf-8") == text  # a file gets the text as it is
+    leader, follower = pty.openpty()
+    try:
+        shown = subprocess.run(command, stdout=follower, stderr=subprocess.PIPE, timeout=120)
+        os.close(follower)
+        received = b""
+        while True:
+            try:
+                chunk = os.read(leader, 65536)
+            except OSError:
+                break
+            if not chunk:
+                break
+            received += chunk
+    finally:
+        os.close(leader)
+    assert shown.returncode == 0
+    screen = received.decode("utf-8")
+    assert "\u202e" not in screen and "reordered \\u202eby an override" in screen

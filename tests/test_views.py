@@ -345,11 +345,10 @@ def test_adding_and_removing_planets(app):
 
 def test_file_input_errors_are_shown_and_the_system_kept(app):
     system = app.system
-    app.controls.file_input.filename = "broken.toml"
-    app.controls.file_input.value = b"format = 3\n[star\n"
+    app.controls.file_input.receive("broken.toml", b"format = 3\n[star\n")
     assert "not loaded" in shown(app.controls.file_message) and app.system is system
     text = dumps_system(system).replace("Ossery Loom", "Edited <b>copy</b>")
-    app.controls.file_input.value = text.encode()
+    app.controls.file_input.receive("edited.toml", text.encode())
     assert app.system is not system and app.system.name == "Edited <b>copy</b>"
     assert "&lt;b&gt;copy&lt;/b&gt;" in app.header.object and "<b>copy" not in app.header.object
     downloaded = loads_system(app.controls._download().getvalue(), "download")

@@ -11,11 +11,12 @@ from __future__ import annotations
 import functools
 import html
 import math
+import re
 
 import numpy as np
 import pandas as pd
 import panel as pn
-from bokeh.models import ColumnDataSource, HoverTool, NumberFormatter
+from bokeh.models import ColumnDataSource, CustomJSHover, HTMLTemplateFormatter, HoverTool
 from bokeh.plotting import figure
 
 #: tools of every plot; "tap" picks a planet where the view allows it
@@ -115,9 +116,52 @@ def new_figure(title: str, x_label: str, y_label: str, tap: bool = False, **opti
     return fig
 
 
+#: a numbro-style number format as the views write them: "0.000", "+0.00000", "0", "0.000e"
+_NUMBER_FORMAT = re.compile(r"(\+?)0(?:\.(0+))?(e?)")
+#: JavaScript (the body of a function of ``v``, a finite number, and ``format``) writing ``v`` as the
+#: format says, with no sign on a number written as zero ("-0.00" is "0.00")
+_WRITE_NUMBER_JS = """
+const m = /^(\\+?)0(?:\\.(0+))?(e?)$/.exec(format || "");
+if (m === null) return String(v);
+const digits = m[2] ? m[2].length : 0;
+let text = m[3] ? v.toExponential(digits) : v.toFixed(digits);
+if (Number(text) === 0) text = text.replace("-", "");
+return (m[1] && text.charAt(0) !== "-") ? "+" + text : text;
+"""
+#: what a missing, infinite or undefined number shows as
+MISSING = "\u2014"
+_TOOLTIP_FIELD = re.compile(r"@(\w+)\{([^}]*)\}")
+
+
+def finite_number_hover() -> CustomJSHover:
+    """A tooltip formatter: numbers as their format says, a dash for a missing, NaN or infinite one."""
+    return CustomJSHover(code=f"""
+const v = (value === null || value === undefined || value === "") ? NaN : Number(value);
+if (!isFinite(v)) return "{MISSING}";
+return ((v, format) => {{{_WRITE_NUMBER_JS}}})(v, format);
+""")
+
+
+def finite_number_cell(fmt: str) -> HTMLTemplateFormatter:
+    """A table-cell formatter writing numbers as ``fmt`` (see :data:`_NUMBER_FORMAT`), a dash for a missing,
+    NaN or infinite one (a plain number format shows "Infinity", "NaN" and "-0.00")."""
+    if not _NUMBER_FORMAT.fullmatch(fmt):
+        raise ValueError(f"unsupported number format {fmt!r}")
+    return HTMLTemplateFormatter(template=(
+        "<%- ((v, format) => { if (typeof v !== 'number' || !isFinite(v)) return '" + MISSING + "';"
+        + _WRITE_NUMBER_JS.replace("\n", " ") + "})(value, '" + fmt + "') %>"))
+
+
 def add_hover(fig, renderers, tooltips) -> HoverTool:
-    """Attach a hover tool showing ``tooltips`` (label, "@column{format}") for ``renderers``."""
-    tool = HoverTool(renderers=list(renderers), tooltips=list(tooltips))
+    """Attach a hover tool showing ``tooltips`` (label, "@column{format}") for ``renderers``.
+
+    Every formatted number ("@column{0.00}") is written by :func:`finite_number_hover`, so that a
+    missing or infinite value shows as a dash, never as "NaN" or "Infinity".
+    """
+    fields = sorted({m.group(1) for _, text in tooltips for m in _TOOLTIP_FIELD.finditer(text)})
+    writer = finite_number_hover()
+    tool = HoverTool(renderers=list(renderers), tooltips=list(tooltips),
+                     formatters={f"@{field}": writer for field in fields})
     fig.add_tools(tool)
     return tool
 
@@ -157,13 +201,41 @@ def escape(text) -> str:
 
 
 def fmt(value, digits: int = 4) -> str:
-    """A number with ``digits`` significant digits; an em dash for a missing value."""
+    """A number with ``digits`` significant digits; an em dash for a missing or infinite value; never "-0"."""
     if value is None:
-        return "\u2014"
+        return MISSING
     value = float(value)
     if not math.isfinite(value):
-        return "\u2014"
-    return f"{value:.{digits}g}"
+        return MISSING
+    return f"{value + 0.0 if value else 0.0:.{digits}g}"
+
+
+def number_texts(values, fmt: str = "0.00") -> list[str]:
+    """Each value written as the tooltip format ``fmt`` would write it, a dash where missing or infinite.
+
+    For tooltip columns that may hold NaN: a hover tool writes NaN as "NaN" before any formatter sees it.
+    """
+    found = _NUMBER_FORMAT.fullmatch(fmt)
+    if not found:
+        raise ValueError(f"unsupported number format {fmt!r}")
+    plus, places, exponent = found.group(1), len(found.group(2) or ""), found.group(3)
+    out = []
+    for value in as_floats(values):
+        if not math.isfinite(value):
+            out.append(MISSING)
+            continue
+        text = f"{value:.{places}e}" if exponent else f"{value:.{places}f}"
+        if float(text) == 0:
+            text = text.lstrip("-")
+        out.append(f"+{text}" if plus and not text.startswith("-") else text)
+    return out
+
+
+def finite_or_nan(values) -> np.ndarray:
+    """``values`` as floats with every infinity (and None) turned into NaN, which tables show as a dash."""
+    out = as_floats(values)
+    out[~np.isfinite(out)] = np.nan
+    return out
 
 
 def as_floats(values) -> np.ndarray:
@@ -173,7 +245,7 @@ def as_floats(values) -> np.ndarray:
 
 def table_widget(columns: dict, formats: dict | None = None, height: int = 280, **options) -> pn.widgets.Tabulator:
     """A read-only, single-selection table; ``formats`` maps a column to a Bokeh number format."""
-    formatters = {name: NumberFormatter(format=f, nan_format="\u2014") for name, f in (formats or {}).items()}
+    formatters = {name: finite_number_cell(f) for name, f in (formats or {}).items()}
     options.setdefault("selectable", 1)
     return pn.widgets.Tabulator(pd.DataFrame(columns), disabled=True, show_index=False,
                                 formatters=formatters, layout="fit_data_table", height=height,

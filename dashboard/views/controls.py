@@ -16,11 +16,15 @@ from functools import partial
 
 import panel as pn
 
-from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
+from orbitdeck.models import Planet, System, SystemFileError, dumps_system, loads_system
+from orbitdeck.models.files import MAX_FILE_BYTES
+from orbitdeck.models.names import display_key, name_problem
+from orbitdeck.models.system import MAX_PLANETS, TIME_BOUNDS
 from orbitdeck.models.sources import SystemSource
 
 from .common import escape
 from .sky_from import TimePlayer
+from .upload import SystemFileUpload
 
 #: star entries: field, label, unit, optional (blank allowed)
 STAR_ENTRIES = (("mass", "Mass [Msun]", "Msun", False), ("radius", "Radius [Rsun]", "Rsun", False),
@@ -115,7 +119,7 @@ class Controls:
         self._quiet = False
         self._locked: list = []   # widgets lock() disabled
         entry = partial(Entry, width=WIDGET_WIDTH)
-        self.file_input = pn.widgets.FileInput(accept=".toml", multiple=False, width=WIDGET_WIDTH)
+        self.file_input = SystemFileUpload(accept=".toml", max_bytes=MAX_FILE_BYTES, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",
                                                 label="Download the edited system file", color="primary",
@@ -156,7 +160,8 @@ class Controls:
                                                       step=1000, width=WIDGET_WIDTH)
         self.uncertainty_message = pn.pane.HTML("", width=WIDGET_WIDTH)
 
-        self.file_input.param.watch(self._load, "value")
+        self.file_input.param.watch(self._load, "upload")
+        self.file_input.param.watch(self._too_large, "oversize")
         for field, widget in self.star_entries.items():
             widget.param.watch(partial(self._star_entry, field), "value")
         self.albedo.param.watch(self._albedo, "value_throttled")
@@ -195,7 +200,7 @@ class Controls:
                     widget.value = entry_text(getattr(planet, field))
                 self.eccentricity.value = min(planet.eccentricity, self.eccentricity.end)
             longest = max((p.period for p in system.planets), default=10.0)
-            self.time_slider.end = round(max(longest, 1.0), 2)
+            self.time_slider.end = round(max(min(longest, TIME_BOUNDS[1] - system.epoch), 1.0), 2)
             self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
             self.time_entry.value = entry_text(app.time)
             self.download.filename = file_name_for(system.name)
@@ -308,12 +313,18 @@ class Controls:
             return
         name = (self.new_name.value_input or self.new_name.value or "").strip()
         try:
+            if len(self.app.system.planets) >= MAX_PLANETS:
+                raise Rejected(f"new planet: a system holds at most {MAX_PLANETS} planets; remove one first")
             if not name:
                 raise Rejected("new planet: a name is needed")
             if len(name) > MAX_NAME_LENGTH:
                 raise Rejected(f"new planet: the name is longer than {MAX_NAME_LENGTH} characters")
-            if name in self.app.system.planet_names:
-                raise Rejected(f"new planet: a planet named {name!r} already exists")
+            if name_problem(name):
+                raise Rejected(f"new planet: the name {name!r} {name_problem(name)}")
+            twins = [n for n in self.app.system.planet_names if display_key(n) == display_key(name)]
+            if twins:
+                raise Rejected(f"new planet: a planet named {twins[0]!r} already exists"
+                               + ("" if twins[0] == name else f" (it looks the same as {name!r})"))
             period = parse_entry(self.new_period.value_input or self.new_period.value, Planet.param.period,
                                  "new planet: period", "d")
             radius = parse_entry(self.new_radius.value_input or self.new_radius.value, Planet.param.radius,
@@ -342,7 +353,7 @@ class Controls:
         if self._quiet:
             return
         try:
-            value = parse_entry(event.new, None, "time", "BJD_TDB")
+            value = parse_entry(event.new, System.param.epoch, "time", "d (BJD_TDB)")
         except Rejected as error:
             _message(self.time_message, str(error))
             return
@@ -352,23 +363,33 @@ class Controls:
         if not self._quiet and event.new is not None:
             self._set_time(self.app.system.epoch + float(event.new))
 
-    def _load(self, event):
-        if not event.new or self._refused(self.file_message):
+    def _too_large(self, event):
+        if event.new is None:
             return
-        source = self.file_input.filename or "uploaded file"
+        name, size = event.new
+        _message(self.file_message, f"not loaded, the current system is kept: {name or 'the file'}: file is {size} "
+                                    f"bytes; system files are limited to {MAX_FILE_BYTES} bytes")
+
+    def _load(self, event):
+        if event.new is None or self._refused(self.file_message):
+            return
+        name, data = event.new
+        source = name or "uploaded file"
+        notes = []
         try:
-            system = loads_system(event.new, source)
+            system = loads_system(data, source, notes)
         except SystemFileError as error:
             shown = error.problems[:12]
             more = len(error.problems) - len(shown)
             text = "; ".join(str(p) for p in shown) + (f"; and {more} more" if more > 0 else "")
             _message(self.file_message, f"not loaded, the current system is kept: {text}")
             return
-        self.app.replace_system(system, SystemSource(source, bytes(event.new)))
+        self.app.replace_system(system, SystemSource(source, bytes(data)))
+        remarks = "".join(f"; {note}" for note in notes)
         if self.app.problem:
-            _message(self.file_message, f"loaded {source}, but: {self.app.problem}")
+            _message(self.file_message, f"loaded {source}, but: {self.app.problem}{remarks}")
         else:
-            _message(self.file_message, f"loaded {source}: {len(system.planets)} planets", ok=True)
+            _message(self.file_message, f"loaded {source}: {len(system.planets)} planets{remarks}", ok=True)
 
     def _download(self):
         return io.BytesIO(dumps_system(self.app.system).encode("utf-8"))
@@ -399,7 +420,8 @@ class Controls:
     def panel(self):
         card = partial(pn.Card, width=WIDGET_WIDTH + 30, margin=(4, 4))
         self._panel = pn.Column(
-            card(pn.pane.HTML("<small>Load an orbitdeck-system/1 TOML file</small>"), self.file_input,
+            card(pn.pane.HTML(f"<small>Load an orbitdeck-system/1 TOML file (at most "
+                                      f"{MAX_FILE_BYTES // 2**20} MiB)</small>"), self.file_input,
                  self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),

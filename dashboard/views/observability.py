@@ -15,7 +15,7 @@ from bokeh.models import FactorRange
 
 from . import palette
 from .common import (add_hover, follow, as_floats, batched, calm_selection, empty_source, interval_caption,
-                     new_figure, planet_table, replace_data, watch_taps, while_shown)
+                     new_figure, number_texts, planet_table, replace_data, watch_taps, while_shown)
 from .flux import with_ranges
 
 TABLE_FORMATS = {"depth [ppm]": "0", "T14 [h]": "0.000", "b": "0.000", "transit probability": "0.0000",
@@ -51,12 +51,14 @@ class ObservabilityView:
         fig.xgrid.grid_line_color = None
         fig.y_range.start = 0
         self.figure = fig
-        self.sources = {"bars": empty_source("name", "tsm", "esm", "depth", "colour", "line_width", "line_colour")}
+        self.sources = {"bars": empty_source("name", "tsm", "esm", "tsm_text", "esm_text", "depth", "colour",
+                                             "line_width", "line_colour")}
         s = self.sources["bars"]
         bars = fig.vbar(x="name", top="tsm", width=0.7, fill_color="colour", line_color="line_colour",
                         line_width="line_width", source=s)
         calm_selection(bars)
-        add_hover(fig, [bars], [("planet", "@name"), ("TSM", "@tsm{0.00}"), ("ESM", "@esm{0.00}"),
+        # TSM and ESM as text: a star without J or K magnitude has none (a bar of height 0, NaN)
+        add_hover(fig, [bars], [("planet", "@name"), ("TSM", "@tsm_text"), ("ESM", "@esm_text"),
                                 ("transit depth", "@depth{0} ppm")])
         watch_taps(s, app)
         self.note = pn.pane.HTML("", styles={"color": "#8a2d00"})
@@ -74,6 +76,7 @@ class ObservabilityView:
         self.figure.x_range.factors = names
         replace_data(self.sources["bars"], {
             "name": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "esm": as_floats(pl["esm"]),
+            "tsm_text": number_texts(tsm), "esm_text": number_texts(pl["esm"]),
             "depth": as_floats(pl["transit_depth_ppm"]), "colour": palette.planet_colours(len(names)),
             **self._outline(names)})
         notes = [] if np.isfinite(tsm).any() else [
