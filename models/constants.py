@@ -26,6 +26,7 @@ AU = float(const.au.si.value)                    # m
 PC = float(const.pc.si.value)                    # m
 DAY = u.day.to(u.s)                              # s
 HOUR = u.hour.to(u.s)                            # s
+MINUTE = u.min.to(u.s)                           # s
 YEAR = u.year.to(u.s)                            # s (Julian year)
 GYR = 1e9 * YEAR                                 # s
 

@@ -104,13 +104,19 @@ class Planet(_Body):
 
 
 class Assumptions(_Body):
-    """Modelling assumptions that every derived temperature depends on."""
+    """Modelling assumptions: albedo and heat redistribution (temperatures), free eccentricity (TTVs)."""
 
     UNITS = {"bond_albedo": None}
 
     bond_albedo = param.Number(default=0.3, bounds=(0.0, 1.0), inclusive_bounds=(True, False), doc="Bond albedo A, 0 <= A < 1")
     heat_redistribution = param.Selector(default="full", objects=list(REDISTRIBUTION_FACTORS),
                                          doc="full: f=1/4; dayside: f=1/2; none: f=2/3")
+    free_eccentricity_amplitude = param.Number(
+        default=0.0, bounds=(0.0, 1.0), inclusive_bounds=(True, False),
+        doc="|Z_free|, the free-eccentricity combination f z_free + g z'_free of the TTV amplitudes "
+            "(Lithwick, Xie & Wu 2012), 0 <= |Z_free| < 1")
+    free_eccentricity_angle = param.Number(default=0.0, bounds=(-360.0, 360.0),
+                                           doc="arg Z_free, the angle of the free eccentricity [deg]")
 
     @property
     def redistribution_factor(self) -> float:

@@ -25,8 +25,8 @@ class Inputs:
 
     Units: periods [d], planet radius [Rearth], planet mass [Mearth],
     angles [deg], star mass [Msun], star radius [Rsun], Teff [K],
-    luminosity [Lsun], magnitudes [mag] (star values and the albedo
-    are (samples, 1)).
+    luminosity [Lsun], magnitudes [mag], free-eccentricity angle [deg]
+    (star values and the assumptions are (samples, 1)).
     """
 
     period: np.ndarray
@@ -43,6 +43,8 @@ class Inputs:
     redistribution: float
     j_mag: np.ndarray
     k_mag: np.ndarray
+    free_eccentricity_amplitude: np.ndarray
+    free_eccentricity_angle: np.ndarray
 
     @property
     def samples(self) -> int:
@@ -64,4 +66,6 @@ def nominal_inputs(system: System) -> Inputs:
     return Inputs(**columns, **stars,
                   bond_albedo=np.array([[system.assumptions.bond_albedo]]),
                   redistribution=system.assumptions.redistribution_factor,
-                  j_mag=np.array([[_value(star.j_mag)]]), k_mag=np.array([[_value(star.k_mag)]]))
+                  j_mag=np.array([[_value(star.j_mag)]]), k_mag=np.array([[_value(star.k_mag)]]),
+                  free_eccentricity_amplitude=np.array([[system.assumptions.free_eccentricity_amplitude]]),
+                  free_eccentricity_angle=np.array([[system.assumptions.free_eccentricity_angle]]))
