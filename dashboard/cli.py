@@ -32,18 +32,19 @@ def cmd_table(args) -> int:
     from orbitdeck.dashboard.text_tables import document_text
 
     derived = _derive(args)
-    if args.ecsv:
-        from orbitdeck.models.engine.export import planet_table
-        from orbitdeck.models.files import atomic_write
+    for out, table in ((args.ecsv, "planets"), (args.pairs_ecsv, "pairs")):
+        if out:
+            from orbitdeck.models.engine.export import derived_table
+            from orbitdeck.models.files import atomic_write
 
-        buffer = io.StringIO()
-        planet_table(derived).write(buffer, format="ascii.ecsv")
-        atomic_write(args.ecsv, buffer.getvalue().encode("utf-8"))
-        print(f"wrote {args.ecsv}", file=sys.stderr)
+            buffer = io.StringIO()
+            derived_table(derived, table).write(buffer, format="ascii.ecsv")
+            atomic_write(out, buffer.getvalue().encode("utf-8"))
+            print(f"wrote {out}", file=sys.stderr)
     if args.json:
         json.dump(derived.to_dict(), sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
-    elif not args.ecsv:
+    elif not (args.ecsv or args.pairs_ecsv):
         sys.stdout.write(document_text(derived.to_dict()))
     return 0
 
@@ -78,6 +79,9 @@ def build_parser() -> argparse.ArgumentParser:
     _add_file(table)
     table.add_argument("--json", action="store_true", help="print the orbitdeck-derived/1 JSON document instead")
     table.add_argument("--ecsv", metavar="OUT", help="write the planet table, units attached, as ECSV to OUT")
+    table.add_argument("--pairs-ecsv", metavar="OUT",
+                       help="write the table of adjacent pairs (period ratios, TTV amplitudes, AMD and Hill "
+                            "stability), units attached, as ECSV to OUT")
     _add_sampling(table, DEFAULT_SAMPLES)
     table.set_defaults(run=cmd_table)
 
