@@ -22,10 +22,11 @@ from .cli import DEFAULT_SEED
 from .views import FluxView, LadderView, LayoutView, ObservabilityView, SkiesView
 from .views.common import escape
 from .views.controls import Controls
+from .views.dynamics import DynamicsView
 from .views.layout import REFERENCE_ORBITS
 
 #: view classes in the order of the tabs
-VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView)
+VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, DynamicsView)
 SIDEBAR_WIDTH = 350
 #: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
 #: opened most; every other view is built when its tab is first opened or the view is read from code
