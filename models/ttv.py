@@ -38,9 +38,9 @@ INDIRECT_TERM_2_1 = -(2.0 ** (1.0 / 3.0))
 #: the quadrature's aliasing error falls as alpha^n: nodes for alpha^n below e^-40 (~4e-18)
 _QUADRATURE_DECAY = 40.0
 _MIN_NODES, _MAX_NODES = 32, 1 << 16
-#: Chebyshev nodes spanning the alphas of Monte Carlo draws of one pair
+#: Chebyshev points spanning the alphas of Monte Carlo draws of one pair, at most
 _CHEBYSHEV_NODES = 12
-#: draws whose alphas spread so widely that 12 Chebyshev nodes would not reach ~1e-13 are integrated one by one
+#: draws whose alphas spread so widely that 12 Chebyshev points would not reach ~1e-13 are integrated one by one
 _MIN_ELLIPSE_RATIO = 6.0
 
 
@@ -126,18 +126,21 @@ def resonance_coefficient_g(alpha, j):
 
 
 def resonance_coefficients(alpha, j):
-    """f and g (LXW12, Table 3) at every alpha of ``alpha`` shaped (draws, pairs), j shaped (1, pairs).
+    """f and g (LXW12, Table 3) at every alpha of ``alpha`` shaped (draws, pairs), j shaped (pairs,).
 
     With one draw they are integrated directly. With many, each pair's
     coefficients are integrated at Chebyshev points spanning its draws'
-    alphas and interpolated (an analytic function of alpha off the
-    singularity at alpha = 1, so 12 points give ~1e-13 while the span stays
-    well inside the Bernstein ellipse reaching 1); pairs whose draws spread
-    too widely for that are integrated draw by draw.
+    alphas and interpolated: they are analytic in alpha except at alpha = 1,
+    so the interpolant's error falls as rho^-n with n points, rho = r +
+    sqrt(r^2 - 1) and r the distance to 1 over the half-span (the Bernstein
+    ellipse; Trefethen 2013, Approximation Theory and Approximation
+    Practice, ch. 8). The points are as many as make rho^-n ~1e-16 (five for
+    draws spread by 1e-5), at most 12; pairs whose draws spread so widely
+    (r < 6) that 12 would not reach ~1e-13 are integrated draw by draw.
 
     Returns
     -------
-    f, g : ndarray shaped like ``alpha``
+    f, g : ndarray shaped like ``alpha`` (NaN where alpha is)
     """
     alpha = np.asarray(alpha, dtype=float)
     j = np.broadcast_to(np.asarray(j), alpha.shape[-1:])
@@ -146,28 +149,25 @@ def resonance_coefficients(alpha, j):
     known = ~np.isnan(alpha)
     low = np.min(alpha, axis=0, where=known, initial=np.inf)
     high = np.max(alpha, axis=0, where=known, initial=-np.inf)
+    some = known.any(axis=0)
     with np.errstate(divide="ignore", invalid="ignore"):   # columns with no known alpha are left out below
         middle, half = 0.5 * (low + high), 0.5 * (high - low)
-        ellipse_ratio = (1.0 - middle) / half                  # infinite where every draw is equal
-    some = known.any(axis=0)
-    interpolated = some & (ellipse_ratio >= _MIN_ELLIPSE_RATIO)
+        ratio = (1.0 - middle) / half                      # infinite where every draw is equal
+        interpolated = some & (ratio >= _MIN_ELLIPSE_RATIO)
+        rho = ratio[interpolated] + np.sqrt(ratio[interpolated] ** 2 - 1.0)
+        needed = np.ceil(np.log(1e16) / np.log(rho)) + 1
+    count = int(np.clip(np.max(needed, initial=2.0), 2, _CHEBYSHEV_NODES))
+    centre, radius = np.where(interpolated, middle, 0.5), np.where(interpolated, half, 0.0)
+    x = np.cos(np.pi * (np.arange(count) + 0.5) / count)            # Chebyshev points of the first kind
+    points = centre + radius * x[:, None]                           # (points, pairs)
+    scaled = (alpha - centre) / np.where(radius > 0.0, radius, 1.0)
+    f, g = (chebyshev.chebval(scaled, chebyshev.chebfit(x, values, count - 1), tensor=False)
+            for values in (resonance_coefficient_f(points, j), resonance_coefficient_g(points, j)))
     direct = some & ~interpolated
-    f, g = np.full(alpha.shape, np.nan), np.full(alpha.shape, np.nan)
-    if interpolated.any():
-        k = np.arange(_CHEBYSHEV_NODES)
-        x = np.cos(np.pi * (k + 0.5) / _CHEBYSHEV_NODES)[:, None]       # Chebyshev points of the first kind
-        points = middle[interpolated] + half[interpolated] * x          # (nodes, pairs)
-        jj = j[interpolated]
-        for out, values in ((f, resonance_coefficient_f(points, jj)), (g, resonance_coefficient_g(points, jj))):
-            series = chebyshev.chebfit(x[:, 0], values, _CHEBYSHEV_NODES - 1)
-            scaled = np.where(half[interpolated] > 0, (alpha[:, interpolated] - middle[interpolated])
-                              / np.where(half[interpolated] > 0, half[interpolated], 1.0), 0.0)
-            out[:, interpolated] = chebyshev.chebval(scaled, series, tensor=False)
     if direct.any():
-        wide = alpha[:, direct]
-        f[:, direct] = resonance_coefficient_f(wide, j[direct])
-        g[:, direct] = resonance_coefficient_g(wide, j[direct])
-    f[~known], g[~known] = np.nan, np.nan
+        f[:, direct] = resonance_coefficient_f(alpha[:, direct], j[direct])
+        g[:, direct] = resonance_coefficient_g(alpha[:, direct], j[direct])
+    f[:, ~some], g[:, ~some] = np.nan, np.nan
     return f, g
 
 

@@ -19,7 +19,7 @@ from synthetic import synthetic_system  # noqa: E402
 
 from orbitdeck.demo_systems import demo_path  # noqa: E402
 from orbitdeck.models import derive, load_system  # noqa: E402
-from orbitdeck.models.uncertainty import sampled_inputs  # noqa: E402
+from orbitdeck.models.engine.draws import sampled_inputs  # noqa: E402
 
 
 def best_of(function, repeat: int = 20) -> float:
