@@ -20,11 +20,11 @@ from orbitdeck.models import derive, load_system
 
 pytestmark = pytest.mark.browser
 
-VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
+VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics")
 VIEWPORT = {"width": 1500, "height": 1100}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "text_colour", "Period ladder": "delta_text",
-                  "Flux & temperature": "teq", "Observability": "tsm"}
+                  "Flux & temperature": "teq", "Observability": "tsm", "Dynamics": "ratio"}
 
 
 @contextlib.contextmanager
@@ -93,7 +93,7 @@ def test_every_view_renders_offline_without_errors(browser, demo_url):
     with dashboard(browser, demo_url) as (page, log):
         assert "Tamsin Reach" in page.title()
         shapes = {"Layout": 7, "Neighbour skies": 49, "Period ladder": 6, "Flux & temperature": 7,
-                  "Observability": 7}
+                  "Observability": 7, "Dynamics": 6}
         for view in VIEWS:
             show(page, view)
             canvases = page.locator(".bk-Canvas:visible")

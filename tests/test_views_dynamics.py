@@ -80,6 +80,8 @@ def test_choosing_a_pair_selects_its_inner_planet_and_selecting_a_planet_chooses
     assert view.pair == "g-h"
     app.selected = "h"       # the last planet is only an outer one
     assert view.pair == "g-h"
+    view.table.selection = [1]   # a row of the table chooses its pair
+    assert view.pair == "c-d" and app.selected == "c" and view.table.selection == [1]
 
 
 def test_beta_bars_and_overlap_zone_rows_follow_the_pairs():

@@ -13,7 +13,7 @@ changes (only while the tab is shown in a served page):
 
 The view is self-contained: it reads ``app.derived``, ``app.system`` and
 ``app.selected`` and sets ``app.selected`` to the inner planet of the pair
-chosen here, so every other view highlights it. Every number is a model
+chosen here (in its list or its table), so every other view highlights it. Every number is a model
 estimate under the assumptions said beside the figures.
 """
 
@@ -81,7 +81,8 @@ class DynamicsView(param.Parameterized):
         self.overlap_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
         self.note = pn.pane.HTML("", sizing_mode="stretch_width", styles={"font-size": "12px", "color": "#444"})
         self.table = pn.widgets.Tabulator(pd.DataFrame(), disabled=True, show_index=False, height=230,
-                                          sizing_mode="stretch_width")
+                                          selectable=1, sizing_mode="stretch_width")
+        self.table.param.watch(self._on_row, "selection")
         app.param.watch(self._on_derived, "derived")
         app.param.watch(self._on_selected, "selected")
         self.param.watch(self._on_pair, "pair")
@@ -108,6 +109,12 @@ class DynamicsView(param.Parameterized):
         touching = sorted((label.split("-").index(name), label) for label in labels if name in label.split("-"))
         if touching:
             self.pair = touching[0][1]
+
+    def _on_row(self, event):
+        """A row picked in the table chooses its pair."""
+        labels = list(self.param.pair.objects)
+        if event.new and 0 <= event.new[0] < len(labels):
+            self.pair = labels[event.new[0]]
 
     def _on_pair(self, *_):
         if self.pair is not None:
@@ -144,6 +151,8 @@ class DynamicsView(param.Parameterized):
         self.overlap_pane.object = self.overlap_figure(d, index)
         self.note.object = self.caution(d)
         self.table.value = self.pair_frame(d)
+        if self.table.selection != [index]:
+            self.table.selection = [index]
 
     # -- figures --------------------------------------------------------------------------------
     def ttv_figure(self, d, index: int):
@@ -181,7 +190,7 @@ class DynamicsView(param.Parameterized):
             layers.append(hv.Curve((t, curve), kdims="time", vdims="ttv", label=f"planet {name}")
                           .opts(color=colour, line_width=2.5 if name == self.app.selected else 1.6))
         return hv.Overlay(layers).opts(
-            title=title, height=FIGURE_HEIGHT, responsive=True, xlabel="time [BJD_TDB, d]",
+            title=title, height=FIGURE_HEIGHT, responsive=True, xlabel="time [BJD_TDB, d]", xformatter="%.1f",
             ylabel="TTV (model estimate) [min]", legend_position="top_right", show_grid=True)
 
     def beta_figure(self, d, index: int):
@@ -204,6 +213,9 @@ class DynamicsView(param.Parameterized):
         if clipped:
             layers.append(hv.Labels(clipped, kdims=["pair", "beta"], vdims="text").opts(text_font_size="10px",
                                                                                          yoffset=-0.25))
+        if not d.system.get("amd_kg_m2_s"):
+            layers.append(hv.Text(labels[(len(labels) - 1) // 2], 0.5, "AMD = 0 (circular orbits): beta = 0")
+                          .opts(text_font_size="11px", text_color=palette.NEUTRAL_COLOUR))
         stable = d.system.get("amd_stable")
         share = (d.fractions or {}).get("system", {}).get("amd_stable")
         verdict = ("AMD-stable" if stable else "not AMD-stable") + (f", {100 * share:.0f} % of draws" if share
@@ -233,7 +245,7 @@ class DynamicsView(param.Parameterized):
         layers.append(hv.Scatter(points, kdims="ratio", vdims=["row", "pair", "colour", "size"])
                       .opts(color="colour", size="size", line_color=palette.HIGHLIGHT_COLOUR, tools=["hover"]))
         return hv.Overlay(layers).opts(
-            title="Period ratios and the zones of overlapping first-order resonances (Deck, Payne & Holman 2013)",
+            title="Period ratios and first-order resonance overlap zones (Deck et al. 2013)",
             height=FIGURE_HEIGHT, responsive=True, xlim=(1.0, top), ylim=(-0.7, len(labels) - 0.3),
             xlabel="period ratio P_outer / P_inner (dotted: j:j-1)", ylabel="adjacent pair",
             yticks=list(zip(rows.tolist(), labels)), show_legend=False)
