@@ -121,3 +121,16 @@ def test_a_hidden_dynamics_tab_waits_and_catches_up():
     assert "Dynamics" in app.stale_tabs()
     app._catch_up(list(app.views).index("Dynamics"))
     assert float(view.table.value["TTV inner [min]"][0]) == pytest.approx(2 * float(before), rel=0.02)
+
+
+def test_the_free_eccentricity_entries_edit_the_assumption_and_refuse_bad_values():
+    app = OrbitDeckApp(load_system(demo_path()))
+    view = dynamics_of(app)
+    view.z_amplitude.value = 0.003
+    view.z_angle.value = 45.0
+    assert app.system.assumptions.free_eccentricity_amplitude == 0.003
+    assert app.derived.system["free_eccentricity"] == {"amplitude": 0.003, "angle": 45.0}
+    view.z_amplitude.value = -0.1
+    assert app.system.assumptions.free_eccentricity_amplitude == 0.003
+    assert "free eccentricity amplitude" in view.z_message.object and "-0.1" in view.z_message.object
+

@@ -79,6 +79,14 @@ class DynamicsView(param.Parameterized):
         self.ttv_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
         self.beta_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
         self.overlap_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
+        assumptions = app.system.assumptions
+        self.z_amplitude = pn.widgets.FloatInput(label="|Z_free| (free eccentricity, 0 to < 1)", step=0.001,
+                                                 value=assumptions.free_eccentricity_amplitude, width=220)
+        self.z_angle = pn.widgets.FloatInput(label="angle of Z_free [deg]", step=5.0,
+                                             value=assumptions.free_eccentricity_angle, width=160)
+        self.z_message = pn.pane.HTML("", styles={"color": "#8a2d00", "font-size": "12px"})
+        self.z_amplitude.param.watch(lambda e: self._set_free("free_eccentricity_amplitude", e.new), "value")
+        self.z_angle.param.watch(lambda e: self._set_free("free_eccentricity_angle", e.new), "value")
         self.note = pn.pane.HTML("", sizing_mode="stretch_width", styles={"font-size": "12px", "color": "#444"})
         self.table = pn.widgets.Tabulator(pd.DataFrame(), disabled=True, show_index=False, height=230,
                                           selectable=1, sizing_mode="stretch_width")
@@ -110,6 +118,16 @@ class DynamicsView(param.Parameterized):
         if touching:
             self.pair = touching[0][1]
 
+    def _set_free(self, field: str, value) -> None:
+        """Put an entered free eccentricity into the system's assumptions, or say why not."""
+        try:
+            setattr(self.app.system.assumptions, field, value)
+        except (ValueError, TypeError):
+            declared = type(self.app.system.assumptions).param[field]
+            self.z_message.object = html.escape(f"{field.replace('_', ' ')}: {value} is outside {declared.bounds}")
+            return
+        self.z_message.object = ""
+
     def _on_row(self, event):
         """A row picked in the table chooses its pair."""
         labels = list(self.param.pair.objects)
@@ -127,6 +145,9 @@ class DynamicsView(param.Parameterized):
     def update(self, *_):
         """Refresh the pair choices and then everything shown."""
         d = self.app.derived
+        assumptions = self.app.system.assumptions
+        self.z_amplitude.value = assumptions.free_eccentricity_amplitude   # a system loaded or edited elsewhere
+        self.z_angle.value = assumptions.free_eccentricity_angle
         labels = pair_labels(d) if d is not None else []
         keep = self.pair if self.pair in labels else None
         if keep is None and labels:
@@ -291,6 +312,7 @@ class DynamicsView(param.Parameterized):
             "Hill stable": yes_no("hill_stable"), "overlap zone": yes_no("in_overlap_zone")})
 
     def panel(self):
-        return pn.Column(pn.Row(self.pair_select), self.note, self.ttv_pane,
+        return pn.Column(pn.Row(self.pair_select, self.z_amplitude, self.z_angle, self.z_message), self.note,
+                         self.ttv_pane,
                          pn.Row(self.beta_pane, self.overlap_pane, sizing_mode="stretch_width"), self.table,
                          sizing_mode="stretch_width")
