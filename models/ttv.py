@@ -76,18 +76,19 @@ def laplace_coefficients(alpha, j):
     """
     alpha, j = np.broadcast_arrays(np.asarray(alpha, dtype=float), np.asarray(j))
     shape = alpha.shape
-    alpha, j = alpha.reshape(-1, 1), j.reshape(-1, 1)
-    if alpha.size == 0:
-        return np.empty(shape), np.empty(shape)
-    known = np.isfinite(alpha[:, 0])
-    nodes = _nodes_for(np.max(alpha[known], initial=0.0), int(np.max(j)))
+    b, db = np.full(alpha.size, np.nan), np.full(alpha.size, np.nan)
+    known = np.flatnonzero(np.isfinite(alpha.ravel()))   # NaN marks "does not apply": nothing to integrate
+    if known.size == 0:
+        return b.reshape(shape), db.reshape(shape)
+    alpha, j = alpha.ravel()[known, None], j.ravel()[known, None]
+    nodes = _nodes_for(np.max(alpha), int(np.max(j)))
     psi = 2.0 * np.pi * np.arange(nodes) / nodes
     cos_psi = np.cos(psi)
     inverse_distance = 1.0 / np.sqrt(1.0 - 2.0 * alpha * cos_psi + alpha * alpha)
     harmonic = np.cos(j * psi)
     weight = 2.0 / nodes   # (1/pi) x the trapezoid's step 2 pi / n
-    b = weight * np.sum(harmonic * inverse_distance, axis=1)
-    db = weight * np.sum(harmonic * (cos_psi - alpha) * inverse_distance**3, axis=1)
+    b[known] = weight * np.sum(harmonic * inverse_distance, axis=1)
+    db[known] = weight * np.sum(harmonic * (cos_psi - alpha) * inverse_distance**3, axis=1)
     return b.reshape(shape), db.reshape(shape)
 
 
