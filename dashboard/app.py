@@ -28,12 +28,13 @@ from .views.bulk import BulkView
 from .views.common import escape
 from .views.compare import CompareView
 from .views.controls import Controls
+from .views.dynamics import DynamicsView
 from .views.layout import REFERENCE_ORBITS
 from .views.transits import TransitPlannerView
 
 #: view classes in the order of the tabs
-VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, BulkView, TransitPlannerView,
-                CompareView)
+VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, DynamicsView, BulkView,
+                TransitPlannerView, CompareView)
 SIDEBAR_WIDTH = 350
 #: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
 #: opened most; every other view is built when its tab is first opened or the view is read from code

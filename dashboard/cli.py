@@ -82,7 +82,7 @@ def _derive(args):
     from orbitdeck.models.engine.provenance import provenance_of
 
     source = _source(args.file)
-    system = source.system()
+    system = _system(source)
     derived = derive(system, samples=args.samples, seed=args.seed)
     derived.provenance = provenance_of(system, derived, source.name, source.sha256)
     return system, derived
@@ -113,12 +113,13 @@ def cmd_table(args) -> int:
                   f"{', '.join(by_key('planets'))})", file=sys.stderr)
             return EXIT_BAD_INPUT
     system, derived = _derive(args)
-    if args.ecsv:
-        from orbitdeck.models.engine.export import planet_table
+    for out, table in ((args.ecsv, "planets"), (args.pairs_ecsv, "pairs")):
+        if out:
+            from orbitdeck.models.engine.export import derived_table
 
-        buffer = io.StringIO()
-        planet_table(derived).write(buffer, format="ascii.ecsv")
-        _write(args.ecsv, buffer.getvalue(), args.overwrite)
+            buffer = io.StringIO()
+            derived_table(derived, table).write(buffer, format="ascii.ecsv")
+            _write(out, buffer.getvalue(), args.overwrite)
     for style in ("latex", "aastex"):
         if getattr(args, style):
             from orbitdeck.models.engine.paper_table import write_paper_table
@@ -133,7 +134,7 @@ def cmd_table(args) -> int:
     if args.json:
         json.dump(derived.to_dict(), sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
-    elif not any((args.ecsv, args.latex, args.aastex, args.bibtex)):
+    elif not any((args.ecsv, args.pairs_ecsv, args.latex, args.aastex, args.bibtex)):
         sys.stdout.write(document_text(derived.to_dict()))
     return 0
 
@@ -192,6 +193,9 @@ def build_parser() -> argparse.ArgumentParser:
     _add_file(table)
     table.add_argument("--json", action="store_true", help="print the orbitdeck-derived/1 JSON document instead")
     table.add_argument("--ecsv", metavar="OUT", help="write the planet table, units attached, as ECSV to OUT")
+    table.add_argument("--pairs-ecsv", metavar="OUT",
+                       help="write the table of adjacent pairs (period ratios, TTV amplitudes, AMD and Hill "
+                            "stability), units attached, as ECSV to OUT")
     table.add_argument("--latex", metavar="OUT", help="write the planet table as a LaTeX table to OUT (values "
                                                       "with intervals as x^{+a}_{-b}, rounded by the PDG rule)")
     table.add_argument("--aastex", metavar="OUT", help="write the planet table as an AASTeX deluxetable to OUT")

@@ -18,13 +18,19 @@ from orbitdeck.models.engine.registry import declared
 from orbitdeck.models.rounding import from_interval
 
 
+def quantity_groups(table: str, labels) -> list[tuple[str, tuple]]:
+    """(title, ((document key, heading), ...)) of each block of a table's columns, from the registry:
+    the row labels, then the quantities of one group."""
+    groups: dict[str, list] = {}
+    for quantity in declared(table):
+        if quantity.group:
+            groups.setdefault(quantity.group, list(labels)).append((quantity.key, quantity.heading))
+    return [(title, tuple(columns)) for title, columns in groups.items()]
+
+
 def planet_groups() -> list[tuple[str, tuple]]:
     """(title, ((document key, heading), ...)) of each block of planet columns, from the registry."""
-    groups: dict[str, list] = {}
-    for quantity in declared("planets"):
-        if quantity.group:
-            groups.setdefault(quantity.group, [("name", "planet")]).append((quantity.key, quantity.heading))
-    return [(title, tuple(columns)) for title, columns in groups.items()]
+    return quantity_groups("planets", (("name", "planet"),))
 
 
 def table_columns(table: str, labels) -> tuple:
@@ -85,6 +91,9 @@ def format_cell(row: dict, key: str) -> str:
     if isinstance(value, str):
         return value
     text = format_number(value)
+    share = row.get("fraction", {}).get(key)
+    if isinstance(value, bool) and share is not None:
+        text += f" ({100 * share:.0f}% of draws)"
     interval = row.get("interval", {}).get(key)
     if interval and value is not None and None not in interval and isinstance(value, float):
         rounded = from_interval(value, *interval)
@@ -120,17 +129,22 @@ def document_text(doc: dict) -> str:
     if star["hz_au"]:
         lines.append("habitable zone [au]: " + ", ".join(
             f"{k.replace('_', ' ')} {format_number(v)}" for k, v in star["hz_au"].items()))
+    system_values = system_line(doc["system"])
+    if system_values:
+        lines.append(system_values)
     if "samples" in doc:
         lines.append(f"intervals: 16th-84th percentiles of {doc['samples']} Monte Carlo samples (seed {doc['seed']}); "
                      "values and intervals rounded by the Particle Data Group's rule")
     blocks = ["\n".join(lines)]
     blocks += [table_block(title, cols, doc["planets"]) for title, cols in planet_groups()]
-    for table, title, labels in (("pairs", "Adjacent pairs", PAIR_LABELS),
-                                 ("triples", "Three-body relations (consecutive triples)", TRIPLE_LABELS),
+    blocks += [table_block(title, cols, doc["pairs"]) for title, cols in quantity_groups("pairs", PAIR_LABELS)]
+    for table, title, labels in (("triples", "Three-body relations (consecutive triples)", TRIPLE_LABELS),
                                  ("skies", "Skies: largest apparent size of each body", SKY_LABELS)):
         blocks.append(table_block(title, table_columns(table, labels), doc[table]))
     notes = ["Results are model estimates under the stated assumptions "
              "(albedo, heat redistribution, mass-radius relation)."]
+    if doc["pairs"]:
+        notes.append(dynamics_note(doc))
     notes += [f"warning: {terminal_safe(unsigned_zeros(w), keep='')}" for w in doc["warnings"]]
     if doc.get("provenance"):
         source = doc["provenance"]["input"]
@@ -138,3 +152,31 @@ def document_text(doc: dict) -> str:
                      f"(SHA-256 {source['sha256']})")
     blocks.append("\n".join(notes))
     return terminal_safe("\n\n".join(blocks) + "\n")
+
+
+def system_line(system: dict) -> str:
+    """The system's listed quantities on one line ("" when it has none)."""
+    listed = [(q.key, q) for q in declared("system") if q.group]
+    if not listed:
+        return ""
+    fields = []
+    for key, quantity in listed:
+        row = {key: system.get(key), "interval": system.get("interval", {}), "fraction": system.get("fraction", {})}
+        unit = f" {quantity.unit_label or quantity.unit}" if quantity.unit and quantity.kind == "float" else ""
+        fields.append(f"{quantity.label} = {format_cell(row, key)}{unit}")
+    return "system: " + ", ".join(fields)
+
+
+def dynamics_note(doc: dict) -> str:
+    """What the dynamics columns assume: the free eccentricity of the TTVs, coplanar orbits, the masses."""
+    free = doc["system"].get("free_eccentricity") or {}
+    note = ("Dynamics: TTV amplitudes (Lithwick, Xie & Wu 2012) assume the free eccentricity "
+            f"|Z_free| = {format_number(free.get('amplitude'))} at {format_number(free.get('angle'))} deg and "
+            "apply near first-order commensurabilities only; AMD stability (Laskar & Petit 2017; Petit, Laskar & "
+            "Boue 2017), Hill stability (Gladman 1993) and resonance overlap (Deck, Payne & Holman 2013) take "
+            "mutual inclinations as zero.")
+    estimated = {row["name"] for row in doc["planets"] if row.get("mass_estimated")}
+    pairs = [f"{row['inner']}-{row['outer']}" for row in doc["pairs"] if {row["inner"], row["outer"]} & estimated]
+    if pairs:
+        note += f" Pairs {', '.join(pairs)} rest on masses estimated from radii."
+    return note

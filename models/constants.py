@@ -29,6 +29,7 @@ SOLAR_CONSTANT = L_SUN / (4.0 * np.pi * AU**2)
 PC = float(const.pc.si.value)                    # m
 DAY = u.day.to(u.s)                              # s
 HOUR = u.hour.to(u.s)                            # s
+MINUTE = u.min.to(u.s)                           # s
 YEAR = u.year.to(u.s)                            # s (Julian year)
 GYR = 1e9 * YEAR                                 # s
 

@@ -39,6 +39,9 @@ MAX_FILE_BYTES = 2 * 1024 * 1024
 
 _QUANTITY_KEYS = {"value", "sigma", "plus", "minus", "unit", "ref"}
 _REQUIRED = {Star: ("mass", "radius", "teff"), Planet: ("period", "radius"), Assumptions: ()}
+#: keys of ``[assumptions] free_eccentricity``: the Assumptions parameter each sets and its unit
+_FREE_ECCENTRICITY_KEYS = {"amplitude": ("free_eccentricity_amplitude", None),
+                           "angle": ("free_eccentricity_angle", "deg")}
 
 
 class _Checker(SkyFields):
@@ -161,7 +164,7 @@ class _Checker(SkyFields):
 
     def body(self, cls, raw, path):
         """A Star, Planet or Assumptions from its table, or None."""
-        allowed = (set(cls.UNITS) | ({"heat_redistribution"} if cls is Assumptions else {"name"})
+        allowed = (set(cls.UNITS) | ({"heat_redistribution", "free_eccentricity"} if cls is Assumptions else {"name"})
                    | set(getattr(cls, "POSITION_FIELDS", ())))
         before = len(self.problems)
         if self.table(raw, path, allowed, ("name", *_REQUIRED[cls]) if cls is not Assumptions else ()) is None:
@@ -191,9 +194,25 @@ class _Checker(SkyFields):
                 values["heat_redistribution"] = choice
         if cls is Star:
             values.update(self.position(raw, path))
+        if cls is Assumptions and "free_eccentricity" in raw:
+            values.update(self.free_eccentricity(raw["free_eccentricity"], _join(path, "free_eccentricity")))
         if len(self.problems) > before:
             return None
         return cls(**values, uncertainties=spreads, refs=refs)
+
+    def free_eccentricity(self, raw, path) -> dict:
+        """The free eccentricity Z_free of the TTV amplitudes, ``{ amplitude = .., angle = .. }``
+        (angle in degrees), as Assumptions values; each key may be left out (default 0)."""
+        if self.table(raw, path, _FREE_ECCENTRICITY_KEYS) is None:
+            return {}
+        values = {}
+        for key, (field, unit) in _FREE_ECCENTRICITY_KEYS.items():
+            if key not in raw:
+                continue
+            number = self.number(raw[key], _join(path, key))
+            if number is not None and self.in_bounds(Assumptions.param[field], number, _join(path, key), unit):
+                values[field] = number
+        return values
 
     def in_bounds(self, parameter: param.Number, value: float, path: str, unit: str | None) -> bool:
         lo, hi = parameter.bounds or (None, None)
@@ -344,6 +363,9 @@ def system_to_document(system: System) -> dict:
     """The system-file document of ``system`` (values in the default units)."""
     assumptions = _body_out(system.assumptions, with_name=False)
     assumptions["heat_redistribution"] = system.assumptions.heat_redistribution
+    free = {key: getattr(system.assumptions, field) for key, (field, _) in _FREE_ECCENTRICITY_KEYS.items()}
+    if any(free.values()):   # written only when set, so that files without it stay as they were
+        assumptions["free_eccentricity"] = free
     doc = {
         "format": FORMAT,
         "system": {"name": system.name, "notes": system.notes, "epoch": system.epoch},

@@ -178,7 +178,7 @@ class Planet(_Body):
 
 
 class Assumptions(_Body):
-    """Modelling assumptions that derived temperatures, interiors and atmospheres depend on."""
+    """Modelling assumptions that derived temperatures, interiors, atmospheres and TTVs depend on."""
 
     UNITS = {"bond_albedo": None, "tidal_q": None, "mean_molecular_weight": None, "eclipse_wavelength_um": "um",
              "xuv_flux": None, "escape_efficiency": None}
@@ -197,6 +197,12 @@ class Assumptions(_Body):
                                      doc="Heating efficiency of energy-limited escape, 0 < epsilon <= 1")
     heat_redistribution = param.Selector(default="full", objects=list(REDISTRIBUTION_FACTORS),
                                          doc="full: f=1/4; dayside: f=1/2; none: f=2/3")
+    free_eccentricity_amplitude = param.Number(
+        default=0.0, bounds=(0.0, 1.0), inclusive_bounds=(True, False),
+        doc="|Z_free|, the free-eccentricity combination f z_free + g z'_free of the TTV amplitudes "
+            "(Lithwick, Xie & Wu 2012), 0 <= |Z_free| < 1")
+    free_eccentricity_angle = param.Number(default=0.0, bounds=(-360.0, 360.0),
+                                           doc="arg Z_free, the angle of the free eccentricity [deg]")
 
     @property
     def redistribution_factor(self) -> float:

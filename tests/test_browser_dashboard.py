@@ -21,11 +21,11 @@ from orbitdeck.models import derive, load_system
 
 pytestmark = pytest.mark.browser
 
-VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
+VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics")
 VIEWPORT = {"width": 1500, "height": 1100}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "text_colour", "Period ladder": "delta_text",
-                  "Flux & temperature": "teq", "Observability": "tsm"}
+                  "Flux & temperature": "teq", "Observability": "tsm", "Dynamics": "ratio"}
 
 
 @contextlib.contextmanager
@@ -94,7 +94,7 @@ def test_every_view_renders_offline_without_errors(browser, demo_url):
     with dashboard(browser, demo_url) as (page, log):
         assert "Ossery Loom" in page.title()
         shapes = {"Layout": 5, "Neighbour skies": 25, "Period ladder": 4, "Flux & temperature": 5,
-                  "Observability": 5}
+                  "Observability": 5, "Dynamics": 4}
         for view in VIEWS:
             show(page, view)
             canvases = page.locator(".bk-Canvas:visible")

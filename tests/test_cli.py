@@ -22,6 +22,7 @@ from orbitdeck.dashboard.cli import DEFAULT_SAMPLES, build_parser
 from orbitdeck.demo_systems import DEFAULT_DEMO, demo_names, demo_path
 from orbitdeck.models import derive, load_system
 from orbitdeck.models.engine.derive import document_keys
+from orbitdeck.models.engine.registry import declared
 
 PLANET_KEYS, PAIR_KEYS, TRIPLE_KEYS, SKY_KEYS = (document_keys(t) for t in ("planets", "pairs", "triples", "skies"))
 
@@ -251,7 +252,9 @@ def test_table_through_the_installed_script_matches(cli):
 def _assert_document_shape(doc, system, sampled):
     expected = DOCUMENT_KEYS | ({"samples", "seed"} if sampled else set())
     assert set(doc) == expected
-    assert doc["format"] == "orbitdeck-derived/1" and doc["system"] == {"name": system.name}
+    system_keys = {"name"} | {q.key.partition(".")[0] for q in declared("system")}
+    assert doc["format"] == "orbitdeck-derived/1" and doc["system"]["name"] == system.name
+    assert set(doc["system"]) == system_keys | ({"interval", "fraction"} if sampled else set())
     assert set(doc["star"]) == STAR_KEYS | ({"interval", "fraction"} if sampled else set())
     n = len(system.planets)
     for table, keys, rows in (("planets", PLANET_KEYS, n), ("pairs", PAIR_KEYS, n - 1),

@@ -31,7 +31,8 @@ def snapshot(system: System) -> dict:
     """Every input of ``system`` as plain values (planets in the system's order)."""
     return {
         "name": system.name, "notes": system.notes, "epoch": system.epoch,
-        "assumptions": _body(system.assumptions, ["bond_albedo", "heat_redistribution"]),
+        "assumptions": _body(system.assumptions, ["bond_albedo", "heat_redistribution", "free_eccentricity_amplitude",
+                                                  "free_eccentricity_angle"]),
         "star": _body(system.star, ["name", *Star.UNITS]),
         "planets": [_body(p, ["name", *Planet.UNITS]) for p in system.planets],
     }
@@ -167,7 +168,9 @@ def systems(draw):
         "distance": draw(st.none() | measured(positive(1e6))),
     }, name=draw(names))
     assumptions = _build(Assumptions, {"bond_albedo": draw(measured(st.floats(0, 1, exclude_max=True)))},
-                         heat_redistribution=draw(st.sampled_from(["full", "dayside", "none"])))
+                         heat_redistribution=draw(st.sampled_from(["full", "dayside", "none"])),
+                         free_eccentricity_amplitude=draw(st.just(0.0) | st.floats(0, 1, exclude_max=True)),
+                         free_eccentricity_angle=draw(st.just(0.0) | st.floats(-360, 360)))
     planet_names = draw(st.lists(names, min_size=1, max_size=5, unique_by=display_key))
     return System(name=draw(names), notes=draw(free_text), epoch=draw(times), star=star,
                   assumptions=assumptions, planets=[draw(planets(n)) for n in planet_names])

@@ -173,6 +173,9 @@ def systems(draw):
     star = draw(body(Star, STAR_RANGES, name=draw(NAME)))
     assumptions = draw(body(Assumptions, {"bond_albedo": (0.0, 0.95, False)}))
     assumptions.heat_redistribution = draw(st.sampled_from(["full", "dayside", "none"]))
+    if draw(st.booleans()):
+        assumptions.free_eccentricity_amplitude = draw(st.floats(0.0, 0.99))
+        assumptions.free_eccentricity_angle = draw(st.floats(-360.0, 360.0))
     return System(name=draw(NAME), notes=draw(TEXT), epoch=draw(positive(-1e7, 1e7)),
                   star=star, assumptions=assumptions, planets=planets)
 
@@ -196,6 +199,8 @@ def test_system_file_round_trip(system):
             assert getattr(a, key) == getattr(b, key), key
     assert _bookkeeping(again) == _bookkeeping(system)
     assert again.assumptions.heat_redistribution == system.assumptions.heat_redistribution
+    for key in ("free_eccentricity_amplitude", "free_eccentricity_angle"):
+        assert getattr(again.assumptions, key) == getattr(system.assumptions, key), key
     assert derive(again).to_dict() == derive(system).to_dict()
     assert derive(again, samples=24, seed=11).to_dict() == derive(system, samples=24, seed=11).to_dict()
     # a second trip writes the same text

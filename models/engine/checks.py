@@ -46,10 +46,19 @@ def collect_warnings(system: System, derived) -> list[str]:
     if crossed.size > MAX_LISTED_CROSSINGS:
         warnings.append(f"... and {crossed.size - MAX_LISTED_CROSSINGS} more pairs of planets whose orbits cross.")
     pr = derived.pairs
-    for a, b, spacing in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"]):
-        if spacing < dynamics.HILL_STABLE_SPACING:
+    eccentric = np.array([p.eccentricity > 0.0 for p in system.planets])
+    eccentric_pair = eccentric[:-1] | eccentric[1:]
+    for a, b, spacing, stable, with_e in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"], pr["hill_stable"],
+                                             eccentric_pair):
+        if with_e and not stable:   # the circular-orbit limit below does not hold for eccentric orbits
+            warnings.append(f"planets {a} and {b}: not Hill stable for their eccentricities (Gladman 1993 "
+                            f"criterion with eccentricities; spacing {spacing:.2f} mutual Hill radii).")
+        elif not with_e and spacing < dynamics.HILL_STABLE_SPACING:
             warnings.append(f"planets {a} and {b}: spacing {spacing:.2f} mutual Hill radii is below "
                             "2 sqrt(3), the Hill-stability limit for circular orbits (Gladman 1993).")
+    for a, b in zip(pr["inner"][pr["in_overlap_zone"]], pr["outer"][pr["in_overlap_zone"]]):
+        warnings.append(f"planets {a} and {b}: inside the zone of overlapping first-order resonances "
+                        "(Deck, Payne & Holman 2013), where the motion is expected to be chaotic.")
     estimated = [str(n) for n, est in zip(pl["name"], pl["mass_estimated"]) if est]
     if estimated:
         warnings.append("masses of " + ", ".join(estimated) + " are estimated from radius "

@@ -20,7 +20,9 @@ STAR_FIELDS = ("mass", "radius", "teff", "luminosity")
 #: assumptions carried as (samples, 1) arrays: the Inputs field and its Assumptions attribute
 ASSUMPTION_FIELDS = {"assumed_tidal_q": "tidal_q", "mean_molecular_weight": "mean_molecular_weight",
                      "eclipse_wavelength_um": "eclipse_wavelength_um", "xuv_flux": "xuv_flux",
-                     "escape_efficiency": "escape_efficiency"}
+                     "escape_efficiency": "escape_efficiency",
+                     "free_eccentricity_amplitude": "free_eccentricity_amplitude",
+                     "free_eccentricity_angle": "free_eccentricity_angle"}
 
 
 @dataclass(frozen=True)
@@ -29,8 +31,8 @@ class Inputs:
 
     Units: periods [d], planet radius [Rearth], planet mass [Mearth],
     angles [deg], star mass [Msun], star radius [Rsun], Teff [K],
-    luminosity [Lsun], magnitudes [mag] (star values and the albedo
-    are (samples, 1)). ``tidal_q`` is each planet's own Q' (NaN: the
+    luminosity [Lsun], magnitudes [mag], free-eccentricity angle [deg]
+    (star values and the assumptions are (samples, 1)). ``tidal_q`` is each planet's own Q' (NaN: the
     assumption ``assumed_tidal_q``); the eclipse wavelength is in um.
     ``mass_relation_z`` holds unit normal deviates of the mass-radius
     relation's intrinsic scatter, zero for the nominal values.
@@ -57,6 +59,8 @@ class Inputs:
     xuv_flux: np.ndarray
     escape_efficiency: np.ndarray
     mass_relation_z: np.ndarray
+    free_eccentricity_amplitude: np.ndarray
+    free_eccentricity_angle: np.ndarray
 
     @property
     def samples(self) -> int:

@@ -87,6 +87,16 @@ _ENTRIES = [
              "bare-rock eclipse depth (Cowan & Agol 2011; Koll et al. 2019)"),
     _book("scale_height", "Seager, S.", "Exoplanet Atmospheres: Physical Processes (pressure scale height)",
           "Princeton University Press", 2010, "scale height H = kT / (mu m_u g) (Seager 2010)"),
+    _article("laskar_petit2017", "Laskar, J. and Petit, A. C.", "AMD-stability and the classification of planetary "
+             "systems", "Astronomy & Astrophysics", 2017, 605, "A72", "Laskar & Petit 2017"),
+    _article("petit_laskar_boue2017", "Petit, A. C. and Laskar, J. and Bou\\'e, G.", "AMD-stability in the presence "
+             "of first-order mean motion resonances", "Astronomy & Astrophysics", 2017, 607, "A35",
+             "Petit, Laskar & Boué 2017"),
+    _article("gladman1993", "Gladman, B.", "Dynamics of Systems of Two Close Planets", "Icarus", 1993, 106,
+             "247-263", "Gladman 1993"),
+    _article("deck2013", "Deck, K. M. and Payne, M. and Holman, M. J.", "First-order Resonance Overlap and the "
+             "Stability of Close Two-planet Systems", "The Astrophysical Journal", 2013, 774, "129",
+             "Deck, Payne & Holman 2013"),
     _article("laplace_relation", "Lithwick, Y. and Wu, Y.", "Resonant Repulsion of Kepler Planet Pairs",
              "The Astrophysical Journal Letters", 2012, 756, "L11", "three-body (Laplace-type) relation"),
 ]
