@@ -22,7 +22,8 @@ HOSTILE = {
     "notes": "</textarea><script>window.__owned='notes'</script>",
 }
 #: the views every snapshot shows, with the number of Bokeh canvases each at least holds
-VIEW_TITLES = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics")
+VIEW_TITLES = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics",
+               "Bulk & atmosphere", "Transit planner")
 EXPORTED = datetime(2026, 12, 1, 12, 0, 0, tzinfo=timezone.utc)
 
 
