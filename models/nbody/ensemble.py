@@ -26,6 +26,7 @@ from __future__ import annotations
 import math
 import os
 import threading
+import time
 from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from multiprocessing import get_context
@@ -45,6 +46,8 @@ DEFAULT_CHUNK_DRAWS = 256
 DEFAULT_WAVES = 50
 #: seconds allowed for connecting to a dask.distributed scheduler
 CONNECT_TIMEOUT = 10
+#: seconds between looks at a cluster's tasks (for a cancellation)
+POLL_SECONDS = 0.05
 
 ProgressCallback = Callable[[int, int], None]
 
@@ -102,9 +105,9 @@ def run_ensemble(system, draws: int, orbits: int, seed: int | None = None, *, se
                           ensemble.shadow_direction[..., idx]) for setup, idx in zip(setups, ranges)]
     times = np.full((draws, int(capacity.sum())), np.nan)
     offsets = np.concatenate([[0], np.cumsum(capacity)[:-1]])
-    if progress:
-        progress(0, orbits)
     with _Runner(scheduler, workers, cancel) as runner:
+        if progress:
+            progress(0, orbits)
         done = 0
         while done < orbits:
             if cancel is not None and cancel.is_set():
@@ -159,7 +162,7 @@ class _Runner:
 
     def __init__(self, scheduler, workers: int, cancel):
         self.scheduler, self.workers, self.cancel = scheduler, workers, cancel
-        self.pool = self.client = None
+        self.pool = self.client = self._setups = None
         self.own_client = False
 
     def __enter__(self):
@@ -173,6 +176,7 @@ class _Runner:
         return self
 
     def __exit__(self, *exc):
+        self._setups = None             # releases the scattered constants on the cluster
         if self.pool is not None:
             self.pool.shutdown(wait=True, cancel_futures=True)
         if self.own_client:
@@ -190,22 +194,18 @@ class _Runner:
         return list(dask.compute(*tasks, scheduler=self.scheduler, **options))
 
     def _advance_distributed(self, setups, states, settings, blocks):
-        from distributed import wait
-        if not hasattr(self, "_setups"):
+        if self._setups is None:      # the constants travel to the cluster once
             self._setups = self.client.scatter(setups)
         futures = [self.client.submit(advance, setup, state, settings, blocks, pure=False)
                    for setup, state in zip(self._setups, states)]
         try:
-            while True:
-                try:
-                    wait(futures, timeout=0.25)
-                    break
-                except TimeoutError:    # not all done yet: a moment to notice a cancellation
-                    if self.cancel is not None and self.cancel.is_set():
-                        raise EnsembleCancelled("the ensemble was cancelled") from None
+            while not all(future.done() for future in futures):
+                if self.cancel is not None and self.cancel.is_set():
+                    raise EnsembleCancelled("the ensemble was cancelled")
+                time.sleep(POLL_SECONDS)
             return self.client.gather(futures)
         finally:
-            self.client.cancel([f for f in futures if not f.done()])
+            self.client.cancel([future for future in futures if not future.done()])
 
 
 def connect(scheduler):

@@ -178,3 +178,45 @@ class EnsembleResult:
             "assumptions": ASSUMPTIONS,
             "warnings": list(self.warnings),
         }
+
+
+def ttv_sinusoid(times, period) -> tuple[np.ndarray, np.ndarray]:
+    """Amplitude and phase of the sinusoid of period ``period`` in each row of transit times.
+
+    Least squares of t_n = T_0 + n P + A sin(2 pi t_n / period) + B cos(2 pi t_n / period)
+    (the TTV signal of a near-resonant pair is such a sinusoid at the
+    super-period, Lithwick, Xie & Wu 2012, ApJ 761, 122, eqs. 8-9; fitting
+    it with the ephemeris is common practice).
+
+    Parameters
+    ----------
+    times : ndarray, shape (..., transits)
+        Consecutive mid-transit times [d], NaN where none (times after the epoch keep precision).
+    period : float or ndarray
+        Period of the sinusoid [d], broadcasting against ``times.shape[:-1]``.
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        Semi-amplitude sqrt(A^2 + B^2) [d] and phase atan2(B, A) [rad], shaped ``times.shape[:-1]``
+        (NaN for rows with fewer than five transits).
+    """
+    times = np.asarray(times, dtype=float)
+    valid = np.isfinite(times)
+    t = np.where(valid, times, 0.0)
+    # centred transit numbers and times keep the normal equations well conditioned
+    count = valid.sum(axis=-1, keepdims=True)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        n = np.arange(times.shape[-1], dtype=float) - (np.where(valid, np.arange(times.shape[-1]), 0).sum(
+            axis=-1, keepdims=True) / count)
+        t_centre = t.sum(axis=-1, keepdims=True) / count
+    angle = 2.0 * np.pi * t / np.asarray(period, dtype=float)[..., None]
+    weight = valid.astype(float)
+    design = np.stack([weight, n * weight, np.sin(angle) * weight, np.cos(angle) * weight], axis=-1)
+    normal = np.einsum("...ki,...kj->...ij", design, design)
+    right = np.einsum("...ki,...k->...i", design, np.where(valid, t - t_centre, 0.0))
+    enough = count[..., 0] >= 5
+    normal[~enough] = np.eye(4)
+    coefficients = np.linalg.solve(normal, right[..., None])[..., 0]
+    a, b = coefficients[..., 2], coefficients[..., 3]
+    return (np.where(enough, np.sqrt(a * a + b * b), np.nan), np.where(enough, np.arctan2(b, a), np.nan))
