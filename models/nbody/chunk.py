@@ -118,6 +118,12 @@ class ChunkState:
         state["_map"] = None     # rebuilt where the chunk runs
         return state
 
+    def copy(self) -> "ChunkState":
+        """An independent copy (its arrays copied; the cached map left behind)."""
+        fields = {name: (value.copy() if isinstance(value, np.ndarray) else value)
+                  for name, value in self.__getstate__().items()}
+        return ChunkState(**fields)
+
 
 @dataclass
 class TransitEvents:

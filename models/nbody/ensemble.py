@@ -41,12 +41,12 @@ from .setup import chunk_setup, draw_ensemble, transit_capacity
 LOCAL_SCHEDULERS = ("threads", "processes", "synchronous")
 DEFAULT_SCHEDULER = "processes"
 #: draws per chunk when not given: enough chunks to share out, each large enough for numpy to pay off
-DEFAULT_CHUNK_DRAWS = 256
+DEFAULT_CHUNK_DRAWS = 512
 #: waves per run when not given (progress and cancellation are checked between waves)
 DEFAULT_WAVES = 50
 #: seconds allowed for connecting to a dask.distributed scheduler
 CONNECT_TIMEOUT = 10
-#: seconds between looks at a cluster's tasks (for a cancellation)
+#: seconds between looks at a cluster's tasks (for transits to record and a cancellation)
 POLL_SECONDS = 0.05
 
 ProgressCallback = Callable[[int, int], None]
@@ -93,34 +93,32 @@ def run_ensemble(system, draws: int, orbits: int, seed: int | None = None, *, se
     """
     draws, orbits = _positive_int(draws, "draws"), _positive_int(orbits, "orbits")
     settings = settings or Settings()
+    _check_scheduler(scheduler)
     ensemble = draw_ensemble(system, draws, seed)
     capacity = transit_capacity(ensemble, orbits)
-    workers = _workers(scheduler)
-    chunk_draws = _positive_int(chunk_draws, "chunk_draws") if chunk_draws else \
-        max(1, min(DEFAULT_CHUNK_DRAWS, math.ceil(draws / workers)))
-    wave_orbits = _positive_int(wave_orbits, "wave_orbits") if wave_orbits else max(1, math.ceil(orbits / DEFAULT_WAVES))
-    ranges = chunk_ranges(draws, chunk_draws)
-    setups = [chunk_setup(ensemble, idx, settings, capacity) for idx in ranges]
-    states = [start_chunk(setup, ensemble.xj[:, :, idx], ensemble.vj[:, :, idx], settings,
-                          ensemble.shadow_direction[..., idx]) for setup, idx in zip(setups, ranges)]
     times = np.full((draws, int(capacity.sum())), np.nan)
     offsets = np.concatenate([[0], np.cumsum(capacity)[:-1]])
-    with _Runner(scheduler, workers, cancel) as runner:
+    wave_orbits = _positive_int(wave_orbits, "wave_orbits") if wave_orbits else max(1, math.ceil(orbits / DEFAULT_WAVES))
+    with _Runner(scheduler, cancel) as runner:
+        chunk_draws = _positive_int(chunk_draws, "chunk_draws") if chunk_draws else \
+            max(1, min(DEFAULT_CHUNK_DRAWS, math.ceil(draws / runner.workers)))
+        ranges = chunk_ranges(draws, chunk_draws)
+        setups = [chunk_setup(ensemble, idx, settings, capacity) for idx in ranges]
+        states = [start_chunk(setup, ensemble.xj[:, :, idx], ensemble.vj[:, :, idx], settings,
+                              ensemble.shadow_direction[..., idx]) for setup, idx in zip(setups, ranges)]
         if progress:
             progress(0, orbits)
-        done = 0
-        while done < orbits:
-            if cancel is not None and cancel.is_set():
-                raise EnsembleCancelled("the ensemble was cancelled")
-            blocks = min(wave_orbits, orbits - done)
-            results = runner.advance(setups, states, settings, blocks)
-            states = [state for state, _ in results]
-            for idx, (_, found) in zip(ranges, results):
-                times[idx[found.draw], offsets[found.planet] + found.slot] = found.time
-            done += blocks
-            if progress:
-                progress(done, orbits)
+
+        def record(chunk: int, found) -> None:
+            times[ranges[chunk][found.draw], offsets[found.planet] + found.slot] = found.time
+
+        states = runner.run(setups, states, settings, _waves(orbits, wave_orbits), record, progress)
     return _result(system, ensemble, settings, orbits, seed, states, ranges, times, offsets, capacity)
+
+
+def _waves(orbits: int, wave_orbits: int) -> list[int]:
+    """Orbits (blocks) of each wave."""
+    return [min(wave_orbits, orbits - start) for start in range(0, orbits, wave_orbits)]
 
 
 def _result(system, ensemble, settings, orbits, seed, states, ranges, times, offsets, capacity) -> EnsembleResult:
@@ -148,64 +146,112 @@ def _positive_int(value, name: str) -> int:
     return int(value)
 
 
-def _workers(scheduler) -> int:
-    """How many tasks the scheduler runs at once (for the default chunk size)."""
-    if scheduler == "synchronous":
-        return 1
-    if isinstance(scheduler, str) and scheduler in LOCAL_SCHEDULERS:
-        return max(1, os.cpu_count() or 1)
-    return 2 * max(1, os.cpu_count() or 1)   # a cluster: at least as many chunks as local cores, twice
+def _check_scheduler(scheduler) -> None:
+    """ValueError unless ``scheduler`` names a local scheduler, looks like an address or is a Client."""
+    if isinstance(scheduler, str) and (scheduler in LOCAL_SCHEDULERS or ":" in scheduler):
+        return
+    if type(scheduler).__name__ == "Client" and hasattr(scheduler, "submit"):
+        return
+    raise ValueError(f"scheduler: expected one of {', '.join(LOCAL_SCHEDULERS)}, a dask scheduler address "
+                     f"such as tcp://host:8786 or a distributed.Client, got {scheduler!r}")
 
 
 class _Runner:
-    """Runs one wave of chunk tasks on the chosen dask scheduler; owns the pools and clients it makes."""
+    """Runs one wave of chunk tasks on the chosen dask scheduler; owns the pools and clients it makes.
 
-    def __init__(self, scheduler, workers: int, cancel):
-        self.scheduler, self.workers, self.cancel = scheduler, workers, cancel
-        self.pool = self.client = self._setups = None
+    ``workers`` is how many tasks can run at once (for the default chunk size).
+    """
+
+    def __init__(self, scheduler, cancel):
+        self.scheduler, self.cancel = scheduler, cancel
+        self.pool = self.client = None
         self.own_client = False
+        self.workers = 1
 
     def __enter__(self):
+        cores = max(1, os.cpu_count() or 1)
         if isinstance(self.scheduler, str) and self.scheduler in LOCAL_SCHEDULERS:
             if self.scheduler == "threads":
-                self.pool = ThreadPoolExecutor(self.workers, thread_name_prefix="orbitdeck-nbody")
+                self.workers = cores
+                self.pool = ThreadPoolExecutor(cores, thread_name_prefix="orbitdeck-nbody")
             elif self.scheduler == "processes":
-                self.pool = ProcessPoolExecutor(self.workers, mp_context=get_context("spawn"))
+                self.workers = cores
+                self.pool = ProcessPoolExecutor(cores, mp_context=get_context("spawn"))
         else:
             self.client, self.own_client = connect(self.scheduler)
+            self.workers = max(1, sum(self.client.nthreads().values()))
         return self
 
     def __exit__(self, *exc):
-        self._setups = None             # releases the scattered constants on the cluster
         if self.pool is not None:
             self.pool.shutdown(wait=True, cancel_futures=True)
         if self.own_client:
             self.client.close()
 
-    def advance(self, setups, states, settings, blocks):
-        import dask
+    def run(self, setups, states, settings, waves, record, progress):
+        """Advance every chunk through ``waves`` (blocks per wave); ``record(chunk, events)`` takes the
+        transits found and ``progress(done, total)`` hears of the orbits done. Returns the final states."""
         if self.client is not None:
-            return self._advance_distributed(setups, states, settings, blocks)
+            return self._run_distributed(setups, states, settings, waves, record, progress)
+        import dask
+
         in_process = self.scheduler != "processes"
         cancel = self.cancel if in_process else None   # an Event cannot travel to another process
-        tasks = [dask.delayed(advance, pure=False)(setup, state, settings, blocks, cancel)
-                 for setup, state in zip(setups, states)]
         options = {} if self.pool is None else {"pool": self.pool, "num_workers": self.workers}
-        return list(dask.compute(*tasks, scheduler=self.scheduler, **options))
+        done, total = 0, sum(waves)
+        for blocks in waves:
+            self._check_cancel()
+            tasks = [dask.delayed(advance, pure=False)(setup, state, settings, blocks, cancel)
+                     for setup, state in zip(setups, states)]
+            results = dask.compute(*tasks, scheduler=self.scheduler, **options)
+            states = [state for state, _ in results]
+            for chunk, (_, found) in enumerate(results):
+                record(chunk, found)
+            done += blocks
+            if progress:
+                progress(done, total)
+        return states
 
-    def _advance_distributed(self, setups, states, settings, blocks):
-        if self._setups is None:      # the constants travel to the cluster once
-            self._setups = self.client.scatter(setups)
-        futures = [self.client.submit(advance, setup, state, settings, blocks, pure=False)
-                   for setup, state in zip(self._setups, states)]
+    def _run_distributed(self, setups, states, settings, waves, record, progress):
+        """Each chunk's waves as a chain of tasks on the cluster, all submitted at once: a chunk's
+        state stays on the cluster between its waves and only the transits found come back."""
+        from operator import itemgetter
+
+        client = self.client
+        setups = client.scatter(setups)
+        state_futures = client.scatter(states)
+        pending = {}                     # events future -> (chunk, blocks)
+        for blocks in waves:
+            for chunk, setup in enumerate(setups):
+                both = client.submit(_advance_copy, setup, state_futures[chunk], settings, blocks, pure=False)
+                state_futures[chunk] = client.submit(itemgetter(0), both, pure=False)
+                pending[client.submit(itemgetter(1), both, pure=False)] = (chunk, blocks)
+        work, total = 0, sum(waves) * len(setups)
         try:
-            while not all(future.done() for future in futures):
-                if self.cancel is not None and self.cancel.is_set():
-                    raise EnsembleCancelled("the ensemble was cancelled")
-                time.sleep(POLL_SECONDS)
-            return self.client.gather(futures)
+            while pending:
+                self._check_cancel()
+                finished = [future for future in pending if future.done()]
+                if not finished:
+                    time.sleep(POLL_SECONDS)
+                    continue
+                for future, found in zip(finished, client.gather(finished)):
+                    chunk, blocks = pending.pop(future)
+                    record(chunk, found)
+                    work += blocks
+                if progress:
+                    progress(work * sum(waves) // total, sum(waves))
+            return client.gather(state_futures)
         finally:
-            self.client.cancel([future for future in futures if not future.done()])
+            client.cancel(list(pending) + state_futures)
+
+    def _check_cancel(self) -> None:
+        if self.cancel is not None and self.cancel.is_set():
+            raise EnsembleCancelled("the ensemble was cancelled")
+
+
+def _advance_copy(setup, state, settings, blocks):
+    """:func:`advance` on a copy of ``state``: a cluster keeps task inputs as they were."""
+    return advance(setup, state.copy(), settings, blocks)
 
 
 def connect(scheduler):
