@@ -29,6 +29,16 @@ def _whole_number():
     return parse
 
 
+def _seed(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"must be 0 or more, got {value}")
+    return value
+
+
 def _address(text: str) -> str:
     host, _, port = text.rpartition("://")[2].rpartition(":")
     if not host or not port.isdigit():
@@ -131,7 +141,7 @@ def register(commands) -> None:
                         help=f"length of the integration in orbits of the innermost planet (default {DEFAULT_ORBITS})")
     evolve.add_argument("--draws", type=_whole_number(), default=DEFAULT_DRAWS, metavar="D",
                         help=f"number of Monte Carlo draws (default {DEFAULT_DRAWS})")
-    evolve.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
+    evolve.add_argument("--seed", type=_seed, default=DEFAULT_SEED, metavar="S",
                         help=f"seed of the random generator (default {DEFAULT_SEED})")
     evolve.add_argument("--json", action="store_true", help="print the orbitdeck-ensemble/1 JSON document")
     evolve.add_argument("--scheduler", type=_address, metavar="ADDRESS",

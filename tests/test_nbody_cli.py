@@ -55,7 +55,7 @@ def test_text_summary_says_the_numbers_are_model_estimates(cli):
 
 @pytest.mark.parametrize("argv, option", [
     (["--orbits", "0"], "--orbits"), (["--orbits", "many"], "--orbits"), (["--draws", "-3"], "--draws"),
-    (["--draws", "2.5"], "--draws"), (["--seed", "abc"], "--seed"), (["--scheduler", "nowhere"], "--scheduler"),
+    (["--draws", "2.5"], "--draws"), (["--seed", "abc"], "--seed"), (["--seed", "-4"], "--seed"), (["--scheduler", "nowhere"], "--scheduler"),
 ])
 def test_bad_options_are_usage_errors_naming_the_option(cli, argv, option):
     result = cli.run("evolve", *argv)

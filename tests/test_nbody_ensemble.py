@@ -13,7 +13,8 @@ from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import Planet, Star, System, Uncertainty, load_system
 from orbitdeck.models.dynamics import mutual_hill_spacing
 from orbitdeck.models.ephemeris import EARTH_TO_SUN_MASS
-from orbitdeck.models.nbody import CLOSE_ENCOUNTER, SURVIVED, EnsembleCancelled, Settings, run_ensemble
+from orbitdeck.models.nbody import (CLOSE_ENCOUNTER, EJECTION, ENERGY_ERROR, SURVIVED, EnsembleCancelled, Settings,
+                                    run_ensemble)
 from orbitdeck.models.nbody.results import binomial_interval, half_range, linear_ephemeris_residuals
 
 
@@ -125,6 +126,8 @@ def test_bad_arguments_are_refused_with_their_names(demo):
         run_ensemble(demo, draws=0, orbits=10)
     with pytest.raises(ValueError, match="orbits"):
         run_ensemble(demo, draws=2, orbits=2.5)
+    with pytest.raises(ValueError, match="seed"):
+        run_ensemble(demo, draws=2, orbits=2, seed=-1)
     with pytest.raises(ValueError, match="scheduler"):
         run_ensemble(demo, draws=2, orbits=2, scheduler="nonsense")
 
@@ -161,10 +164,22 @@ def test_linear_ephemeris_matches_numpy_polyfit():
     assert half_range(residuals)[0] == pytest.approx(np.ptp(residuals[0, :30]) / 2)
 
 
-def test_settings_change_the_step_and_the_stopping_rule(demo):
+def test_each_stopping_rule_stops_the_draws_it_should(demo):
     # a huge close-encounter radius stops every draw at the first step
     result = run_ensemble(demo, draws=2, orbits=5, seed=1, scheduler="synchronous",
                           settings=Settings(hill_multiple=1e3, chaos=False))
     assert np.all(result.outcome == CLOSE_ENCOUNTER)
     assert np.all(result.survival_orbits == 1 / 20)
     assert np.all(np.isnan(result.megno))
+    # an ejection distance inside the outermost orbit, and an energy threshold no integration meets,
+    # stop every draw at the end of the first orbit
+    for settings, reason in ((Settings(ejection_multiple=0.5), EJECTION), (Settings(energy_threshold=1e-300),
+                                                                            ENERGY_ERROR)):
+        result = run_ensemble(demo, draws=2, orbits=5, seed=1, scheduler="synchronous", settings=settings)
+        assert np.all(result.outcome == reason) and np.all(result.survival_orbits == 1.0)
+        assert result.stable_fraction == 0.0
+    # a finer step changes the numbers only slightly
+    fine = run_ensemble(demo, draws=2, orbits=5, seed=1, scheduler="synchronous", settings=Settings(steps_per_orbit=40))
+    coarse = run_ensemble(demo, draws=2, orbits=5, seed=1, scheduler="synchronous")
+    difference = np.nanmax(np.abs(fine.transit_times[0] - coarse.transit_times[0]))
+    assert 0.0 < difference < 1e-4                               # days

@@ -178,12 +178,15 @@ def advance(setup: ChunkSetup, state: ChunkState, settings: Settings, blocks: in
     :class:`EnsembleCancelled` is raised.
     """
     found = []
-    for _ in range(blocks):
-        if cancel is not None and cancel.is_set():
-            raise EnsembleCancelled("the ensemble was cancelled")
-        if state.active.size:
-            found.append(_block(setup, state, settings))
-        state.steps_done += settings.steps_per_orbit
+    # a draw on its way to a collision or an ejection may meet a zero distance or an overflow before
+    # the end of its block; it is stopped there, and numpy need not warn about it
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for _ in range(blocks):
+            if cancel is not None and cancel.is_set():
+                raise EnsembleCancelled("the ensemble was cancelled")
+            if state.active.size:
+                found.append(_block(setup, state, settings))
+            state.steps_done += settings.steps_per_orbit
     return state, TransitEvents.concatenate(found)
 
 

@@ -92,6 +92,8 @@ def run_ensemble(system, draws: int, orbits: int, seed: int | None = None, *, se
     EnsembleResult
     """
     draws, orbits = _positive_int(draws, "draws"), _positive_int(orbits, "orbits")
+    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0):
+        raise ValueError(f"seed must be a whole number >= 0 or None, got {seed!r}")
     settings = settings or Settings()
     _check_scheduler(scheduler)
     ensemble = draw_ensemble(system, draws, seed)
