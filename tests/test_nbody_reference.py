@@ -84,6 +84,15 @@ def test_kepler_drift_follows_a_hyperbola():
     np.testing.assert_allclose(x[:, 0], state(3.0)[0], rtol=1e-12, atol=1e-12)
 
 
+def test_a_lone_planet_feels_no_interaction():
+    # H_int = G m_1 eta_0 / r'_1 - G m_0 m_1 / r_1 vanishes for one planet (x'_1 = d_1, eta_0 = m_0;
+    # Wisdom & Holman 1991): the kick is exactly zero, not just small
+    masses = Masses.of(np.full((1, 3), 0.3), np.full((1, 3), 1e-4))
+    a = semi_major_axis(masses.interior, np.full((1, 3), 3.0))
+    x, _ = cartesian_from_elements(masses.interior, a, np.array([0.0, 0.1, 0.5]), 1.0, 0.3, np.array([0.1, 2.0, 4.0]))
+    assert np.all(WisdomHolman(masses).accelerations(x) == 0.0)
+
+
 def test_single_planet_follows_keplers_solution_over_1000_orbits():
     # a lone planet's Jacobi interaction vanishes exactly: the map is Kepler's motion to rounding. At
     # the default step (1/20 of the period) the position stays within 2e-11 of a after 100 orbits and

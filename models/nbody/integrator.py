@@ -119,7 +119,7 @@ class WisdomHolman:
         # work arrays, so that no array of this size is allocated per step
         self._scratch, self._q, self._acc = (np.empty((3, planets, draws)) for _ in range(3))
         self._drift_work = tuple(np.empty((3, planets, draws)) for _ in range(3))
-        self._r3 = np.empty((planets, draws))
+        self._r3, self._r3_jacobi = np.empty((planets, draws)), np.empty((planets, draws))
 
     # -- the kick ------------------------------------------------------------------------------
     def accelerations(self, xj) -> np.ndarray:
@@ -131,12 +131,18 @@ class WisdomHolman:
         """
         scratch = self._scratch
         d = heliocentric_from_jacobi(xj, self.ratio, out=self.helio, scratch=scratch)
-        q = np.divide(d, _cube(d, self._r3), out=self._q)            # d_i / r_i^3
-        acc = np.divide(xj, _cube(xj, self._r3), out=self._acc)      # x'_i / r'_i^3
-        acc *= self.kepler_weight
-        acc -= np.multiply(q, self.direct_weight, out=scratch)
+        # the weights per unit vector first, on (planets, draws), then one pass over each vector array
+        # (computed alike for x' and d, so that for the innermost planet, where they are equal, the two
+        # star terms cancel exactly)
+        inverse_cube = np.divide(1.0, _cube(d, self._r3), out=self._r3)              # 1 / r_i^3
+        weight = np.divide(1.0, _cube(xj, self._r3_jacobi), out=self._r3_jacobi)
+        weight *= self.kepler_weight
+        acc = np.multiply(xj, weight, out=self._acc)                 # G eta_i x'_i / r'_i^3
+        np.multiply(self.direct_weight, inverse_cube, out=weight)
+        acc -= np.multiply(d, weight, out=scratch)                   # - G eta_i m_0 / eta_(i-1) Q_i
         if self.planets > 1:
-            outer = np.multiply(q, self.masses.gm, out=q)            # m_k Q_k, summed over k > i
+            np.multiply(self.masses.gm, inverse_cube, out=weight)
+            outer = np.multiply(d, weight, out=self._q)              # m_k Q_k, summed over k > i
             planet_prefix_sums(outer[:, ::-1])
             acc[:, :-1] -= np.multiply(outer[:, 1:], self.indirect_weight[:-1], out=scratch[:, :-1])
             acc += self._planet_planet_jacobi(d)
