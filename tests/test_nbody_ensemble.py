@@ -48,6 +48,9 @@ def test_pair_closer_than_two_sqrt3_hill_radii_goes_unstable_quickly():
     assert np.all(result.survival_orbits[encounter] < 300)
     assert np.all(result.megno[~encounter] > 5.0)
     assert result.stable_fraction == np.count_nonzero(~encounter) / 8
+    times, surviving = result.survival_curve()
+    assert surviving[-1] == result.stable_fraction and np.all(np.diff(surviving) <= 0)
+    assert surviving[0] == 7 / 8                      # past the first stop, one draw fewer runs
 
 
 def test_hill_stable_pair_survives_with_regular_motion():

@@ -145,6 +145,20 @@ class EnsembleResult:
             result[for_planet] = np.nanpercentile(stable[:, for_planet], [16.0, 50.0, 84.0], axis=0).T
         return result
 
+    def survival_curve(self) -> tuple[np.ndarray, np.ndarray]:
+        """The empirical survival function: after t orbits, the fraction of draws still running.
+
+        Returns
+        -------
+        (ndarray, ndarray)
+            The distinct stopping times t_k [orbits of the innermost planet], ending with ``orbits``, and
+            the fraction of draws that ran beyond each (a step function, right-continuous).
+        """
+        times = np.unique(np.append(self.survival_orbits, float(self.orbits)))
+        beyond = (self.survival_orbits[None, :] > times[:, None]).mean(axis=1)
+        stable_to_end = float(np.count_nonzero(self.stable)) / self.draws
+        return times, np.where(times >= self.orbits, stable_to_end, beyond)
+
     def outcome_counts(self) -> dict:
         return {name: int(np.count_nonzero(self.outcome == code)) for code, name in OUTCOME_NAMES.items()}
 
@@ -168,6 +182,8 @@ class EnsembleResult:
             "stable_interval_method": "Wilson score interval, 68.27 %",
             "outcomes": self.outcome_counts(),
             "survival_orbits": [float(x) for x in self.survival_orbits],
+            "survival_orbits_percentiles": dict(zip(("16", "50", "84"), (
+                float(x) for x in np.percentile(self.survival_orbits, [16.0, 50.0, 84.0])))),
             "megno": [_number(x) for x in self.megno],
             "megno_median_stable": _number(np.nanmedian(megno_stable)) if np.isfinite(megno_stable).any() else None,
             "planets": [
