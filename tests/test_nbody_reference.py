@@ -203,11 +203,13 @@ def test_energy_error_of_a_near_resonant_circular_pair_over_10000_orbits():
     wh = WisdomHolman(masses)
     energy0 = wh.energy(x, v)
     errors = []
-    for _ in range(100):                                   # 100 x 100 orbits of the inner planet
-        step_many(wh, x, v, 0.5, 2000)
+    for _ in range(1000):                                  # 1000 x 10 orbits of the inner planet
+        step_many(wh, x, v, 0.5, 200)
         errors.append(float(np.abs(wh.energy(x, v) / energy0 - 1.0)[0]))
-    assert max(errors) < 1e-7
-    assert max(errors[-10:]) < 2 * max(errors[:10]) + 1e-12   # bounded, not drifting
+    assert max(errors) < 1e-7                              # about 4.4e-8 measured
+    # bounded, not drifting: the largest error of the second 5000 orbits is that of the first
+    # (the error is modulated over about 3000 orbits, so each half holds a peak)
+    assert max(errors[500:]) < 1.5 * max(errors[:500])
 
 
 def test_sun_jupiter_saturn_show_the_great_inequality():
