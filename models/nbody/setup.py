@@ -93,15 +93,22 @@ def draw_ensemble(system, draws: int, seed: int | None) -> Ensemble:
     if not planets:
         raise ValueError("the system has no planets to integrate")
     inputs = sampled_inputs(system, draws, seed)
+
+    def column(values) -> np.ndarray:
+        """A (samples, bodies) input as a double-precision (bodies, draws) array."""
+        return np.ascontiguousarray(np.broadcast_to(np.asarray(values, dtype=np.float64),
+                                                    (draws, np.shape(values)[1])).T)
+
     mass_estimated = np.array([p.mass is None for p in planets])
-    mass_mearth = np.where(np.isnan(inputs.mass), mass_from_radius(inputs.radius), inputs.mass)
-    gm_star = GM_SUN_AU3_D2 * inputs.star_mass.T                          # (1, draws)
-    gm = GM_SUN_AU3_D2 * EARTH_TO_SUN_MASS * mass_mearth.T                # (planets, draws)
+    radius, mass = column(inputs.radius), column(inputs.mass)
+    mass_mearth = np.where(np.isnan(mass), mass_from_radius(radius), mass)
+    gm_star = GM_SUN_AU3_D2 * column(inputs.star_mass)                    # (1, draws)
+    gm = GM_SUN_AU3_D2 * EARTH_TO_SUN_MASS * mass_mearth                  # (planets, draws)
     masses = Masses.of(gm_star, gm)
-    period = np.ascontiguousarray(inputs.period.T)
-    e = inputs.eccentricity.T
-    inclination = np.deg2rad(inputs.inclination.T)
-    omega = np.deg2rad(inputs.omega.T)
+    period = column(inputs.period)
+    e = column(inputs.eccentricity)
+    inclination = np.deg2rad(column(inputs.inclination))
+    omega = np.deg2rad(column(inputs.omega))
     transit = np.array([system.epoch if p.transit_time is None else p.transit_time for p in planets])[:, None]
     warnings = tuple(f"planet {p.name!r} has no transit_time: its orbital phase at the epoch is arbitrary "
                      "(the epoch is taken as a mid-transit time)" for p in planets if p.transit_time is None)
