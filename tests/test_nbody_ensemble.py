@@ -147,6 +147,17 @@ def test_the_document_holds_the_promised_keys(reference_run):
     assert "estimates" in doc["assumptions"]
 
 
+def test_ttv_band_follows_the_draws(reference_run):
+    # the band's middle is the median over the stable draws of each transit's residual (numpy's nanmedian)
+    middle, band = reference_run.ttv_band(0)
+    stable = reference_run.stable
+    residuals = reference_run.ttv_residuals_min[0][stable]
+    seen = np.isfinite(middle)
+    assert seen.sum() >= 1
+    np.testing.assert_allclose(band[1, seen], np.nanmedian(residuals[:, seen], axis=0))
+    assert np.all(band[0, seen] <= band[1, seen]) and np.all(band[1, seen] <= band[2, seen])
+
+
 def test_wilson_interval_matches_its_closed_form():
     # Wilson 1927 (JASA 22, 209): (p + z^2/2n +- z sqrt(p(1-p)/n + z^2/4n^2)) / (1 + z^2/n), z for 68.27 %
     z = norm.ppf(0.5 + 0.6827 / 2)

@@ -145,6 +145,25 @@ class EnsembleResult:
             result[for_planet] = np.nanpercentile(stable[:, for_planet], [16.0, 50.0, 84.0], axis=0).T
         return result
 
+    def ttv_band(self, planet: int) -> tuple[np.ndarray, np.ndarray]:
+        """The TTV curve of one planet over the stable draws, transit by transit.
+
+        Returns
+        -------
+        (ndarray, ndarray)
+            The median mid-transit time of each transit number [BJD_TDB, d] (NaN where no stable draw
+            has it), and the 16th, 50th and 84th percentiles of the TTVs there [min], shaped (3, slots).
+        """
+        times = self.transit_times[planet][self.stable]
+        residuals = self.ttv_residuals_min[planet][self.stable]
+        seen = np.isfinite(times).any(axis=0)
+        middle = np.full(times.shape[1], np.nan)
+        band = np.full((3, times.shape[1]), np.nan)
+        if seen.any():
+            middle[seen] = np.nanmedian(times[:, seen], axis=0)
+            band[:, seen] = np.nanpercentile(residuals[:, seen], [16.0, 50.0, 84.0], axis=0)
+        return middle, band
+
     def survival_curve(self) -> tuple[np.ndarray, np.ndarray]:
         """The empirical survival function: after t orbits, the fraction of draws still running.
 
