@@ -3,8 +3,8 @@
 The reference is written here from the paper (Lithwick, Xie & Wu 2012,
 ApJ 761, 122, eqs. 8-9 for the amplitudes, eqs. A21-A22 / Murray & Dermott
 1999 Table 8.5 for f and g; equation numbers from memory), with the Laplace
-coefficients integrated by scipy.integrate.quad; the library's own version
-lives elsewhere and is not used.
+coefficients integrated by scipy.integrate.quad, independently of the
+library's code.
 """
 
 from __future__ import annotations
