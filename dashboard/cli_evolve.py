@@ -83,9 +83,10 @@ def ensemble_text(doc: dict) -> str:
     stopped = {name: count for name, count in doc["outcomes"].items() if name != "survived" and count}
     if stopped:
         survival = sorted(s for s in doc["survival_orbits"] if s < doc["orbits"])
-        lines.append("stopped: " + ", ".join(f"{count} by {name}" for name, count in stopped.items())
-                     + f"; after {format_number(survival[0])} to {format_number(survival[-1])} orbits "
-                       f"(median {format_number(survival[len(survival) // 2])})")
+        when = (f"after {format_number(survival[0])} orbits" if len(survival) == 1 else
+                f"after {format_number(survival[0])} to {format_number(survival[-1])} orbits "
+                f"(median {format_number(survival[len(survival) // 2])})")
+        lines.append("stopped: " + ", ".join(f"{count} by {name}" for name, count in stopped.items()) + "; " + when)
     if doc["megno_median_stable"] is not None:
         lines.append(f"chaos indicator: median MEGNO <Y> of the stable draws {doc['megno_median_stable']:.3g} "
                      "(about 2: quasi-periodic; larger: chaotic)")
