@@ -89,3 +89,13 @@ def test_an_unreachable_scheduler_is_a_usage_error(cli):
     result = cli.run("evolve", "--draws", "2", "--orbits", "2", "--scheduler", "tcp://127.0.0.1:1")
     assert result.returncode == 2
     assert "--scheduler" in result.stderr and "Traceback" not in result.stderr
+
+
+def test_text_summary_tells_when_draws_stopped(cli):
+    # the eccentric demo has orbits that nearly cross: with the default seed one of 16 draws meets a close
+    # encounter within 40 orbits
+    from orbitdeck.demo_systems import demo_path
+
+    result = cli.run("evolve", str(demo_path("skew_trio")), "--draws", "16", "--orbits", "40")
+    assert result.returncode == 0, result.stderr
+    assert "stopped: 1 by close encounter; after" in result.stdout
