@@ -278,7 +278,7 @@ def _refined(events: list, state: ChunkState, setup: ChunkSetup) -> TransitEvent
 def _end_of_block_checks(setup, state, settings, wh, end: int) -> None:
     """Energy error and ejection of the active draws at the synchronised end of a block."""
     active, m = state.active, state.active.size
-    energy = wh.energy(state.xj, state.vj)[:m]
+    energy = wh.energy(state.xj, state.vj, count=m)
     error = np.abs(energy / state.energy0[active] - 1.0)
     state.energy_error[active] = error
     _stop(state, active[~(error <= settings.energy_threshold)], ENERGY_ERROR, end)

@@ -34,7 +34,7 @@ import numpy as np
 from numpy.lib.stride_tricks import as_strided
 
 from .jacobi import Masses, folded_sum, heliocentric_from_jacobi, planet_prefix_sums
-from .kepler_drift import kepler_drift
+from .kepler_drift import DriftWork, kepler_drift
 
 
 class PairLayout:
@@ -107,9 +107,12 @@ class WisdomHolman:
         rows, back = pairs.rows, pairs.back_rows
         self.gm_partner = masses.gm[pairs.partner]                   # (rows, planets, draws)
         self.gm_back = -masses.gm[pairs.back_partner]                # (back rows, planets, draws)
+        # arrays holding the planets twice over are filled from separate arrays: a copy between two
+        # parts of one array makes numpy take a temporary copy first (their bounds overlap)
+        self.helio = np.empty((3, planets, draws))
         self._helio_twice = np.empty((3, 2 * planets, draws))
-        self.helio = self._helio_twice[:, :planets]
         self._partner_helio = _rolled_rows(self._helio_twice, rows, planets, forward=True)
+        self._unit_pull = np.empty((3, rows, planets, draws))
         self._separation = np.empty((3, rows, planets, draws))
         self.pair_r2 = np.empty((rows, planets, draws))
         self._unit_pull_twice = np.empty((3, rows, 2 * planets, draws))
@@ -118,7 +121,7 @@ class WisdomHolman:
         self._pair_work = np.empty((rows, planets, draws))
         # work arrays, so that no array of this size is allocated per step
         self._scratch, self._q, self._acc = (np.empty((3, planets, draws)) for _ in range(3))
-        self._drift_work = tuple(np.empty((3, planets, draws)) for _ in range(3))
+        self._drift_work = DriftWork((planets, draws))
         self._r3, self._r3_jacobi = np.empty((planets, draws)), np.empty((planets, draws))
 
     # -- the kick ------------------------------------------------------------------------------
@@ -154,7 +157,8 @@ class WisdomHolman:
 
     def _planet_planet_jacobi(self, d) -> np.ndarray:
         """Jacobi transform a_i - sum_(k<i) m_k a_k / eta_(i-1) of the planet-planet accelerations."""
-        planets, rows = self.planets, self.pairs.rows
+        planets, rows, back = self.planets, self.pairs.rows, self.pairs.back_rows
+        self._helio_twice[:, :planets] = d
         self._helio_twice[:, planets:] = d
         separation = np.subtract(self._partner_helio, d[:, None], out=self._separation)   # d_j - d_i
         r2, work = self.pair_r2, self._pair_work
@@ -164,9 +168,9 @@ class WisdomHolman:
         inverse_cube = np.sqrt(r2, out=work)
         inverse_cube *= r2
         np.divide(1.0, inverse_cube, out=inverse_cube)
-        unit_pull = self._unit_pull_twice[:, :, :planets]
-        np.multiply(separation, inverse_cube, out=unit_pull)        # (d_j - d_i) / r_ij^3
-        self._unit_pull_twice[:, :, planets:] = unit_pull
+        unit_pull = np.multiply(separation, inverse_cube, out=self._unit_pull)   # (d_j - d_i) / r_ij^3
+        self._unit_pull_twice[:, :back, :planets] = unit_pull[:, :back]
+        self._unit_pull_twice[:, :back, planets:] = unit_pull[:, :back]
         pull = self._pull
         np.multiply(unit_pull, self.gm_partner, out=pull[:, :rows])   # G m_j (d_j - d_i) / r^3 on i
         np.multiply(self._back_unit_pull, self.gm_back, out=pull[:, rows:])   # its reaction on j
@@ -182,22 +186,26 @@ class WisdomHolman:
         """Every Jacobi coordinate along its Kepler orbit about G eta_i for ``dt`` (in place)."""
         kepler_drift(xj, vj, self.interior, dt, self._drift_work)
 
-    def energy(self, xj, vj) -> np.ndarray:
+    def energy(self, xj, vj, count: int | None = None) -> np.ndarray:
         """G times the total energy of each draw [au^5 d^-4], from synchronised positions and velocities.
 
         Kinetic energy sum_i m'_i v'_i^2 / 2 (Jacobi velocities give the
         barycentric kinetic energy, Wisdom & Holman 1991), potential
-        -sum_i G m_0 m_i / r_i - sum_(i<j) G m_i m_j / r_ij.
+        -sum_i G m_0 m_i / r_i - sum_(i<j) G m_i m_j / r_ij. With ``count``,
+        only for the first ``count`` draws of the arrays.
         """
+        n = self.draws if count is None else count
+        xj, vj = xj[:, :, :n], vj[:, :, :n]
+        gm, gm_star = self.masses.gm[:, :n], self.masses.gm_star[:, :n]
         v2 = vj[0] * vj[0] + vj[1] * vj[1] + vj[2] * vj[2]
-        kinetic = 0.5 * folded_sum(self.reduced * v2, axis=0)
-        d = heliocentric_from_jacobi(xj, self.ratio)
+        kinetic = 0.5 * folded_sum(self.reduced[:, :n] * v2, axis=0)
+        d = heliocentric_from_jacobi(xj, self.ratio[:, :n])
         r = np.sqrt(d[0] * d[0] + d[1] * d[1] + d[2] * d[2])
-        potential = -folded_sum(self.masses.gm_star * self.masses.gm / r, axis=0)
+        potential = -folded_sum(gm_star * gm / r, axis=0)
         if self.planets > 1:
             separation = np.take(d, self.pairs.partner, axis=1) - d[:, None, :, :]
             r_pair = np.sqrt(separation[0] ** 2 + separation[1] ** 2 + separation[2] ** 2)
-            pair = (self.pairs.weight[:, :, None] * self.masses.gm) * self.gm_partner / r_pair
+            pair = (self.pairs.weight[:, :, None] * gm) * self.gm_partner[:, :, :n] / r_pair
             potential -= folded_sum(folded_sum(pair, axis=0), axis=0)
         return kinetic + potential
 

@@ -107,74 +107,84 @@ def stumpff_c0_to_c3(z):
     return c0, c1, c2, c3
 
 
-class _G:
-    """Stumpff's G_k(beta, s) = s^k c_k(beta s^2), k = 0..3, computed into reusable buffers."""
+class DriftWork:
+    """Work arrays of :func:`kepler_drift` for orbits shaped ``shape`` (made once, used every step).
+
+    Temporaries of this size allocated and freed on every call are, with
+    glibc, often paged in afresh (a dask worker, for one, lowers malloc's
+    trim threshold), which made the drift up to half again as slow.
+    """
+
+    _NAMES = ("r0", "vv", "eta0", "beta", "zeta0", "s", "newton", "ds", "f", "f1", "f2", "f3", "d",
+              "z", "t", "g0", "g1", "a", "b", "r")
 
     def __init__(self, shape):
-        self.z, self.g0, self.g1, self.t = (np.empty(shape) for _ in range(4))
-        self.g23 = np.empty((2,) + tuple(shape))
+        self.shape = tuple(shape)
+        for name in self._NAMES:
+            setattr(self, name, np.empty(self.shape))
+        self.g23 = np.empty((2,) + self.shape)
         self.g2, self.g3 = self.g23
-
-    def evaluate(self, s, beta):
-        z, t = self.z, self.t
-        np.multiply(s, s, out=t)                     # s^2
-        np.multiply(beta, t, out=z)
-        if np.any(np.abs(z) > SERIES_LIMIT):         # rare: long steps or fast hyperbolic orbits
-            c0, c1, c2, c3 = stumpff_c0_to_c3(z)
-            self.g23[0], self.g23[1] = c2, c3
-            np.copyto(self.g0, c0)
-            np.copyto(self.g1, c1)
-        else:
-            stumpff_c2_c3_series(z, self.g23)
-            np.multiply(z, self.g2, out=self.g0)
-            np.subtract(1.0, self.g0, out=self.g0)   # c0 = 1 - z c2
-            np.multiply(z, self.g3, out=self.g1)
-            np.subtract(1.0, self.g1, out=self.g1)   # c1 = 1 - z c3
-        self.g1 *= s                                 # G1 = s c1
-        self.g2 *= t                                 # G2 = s^2 c2
-        t *= s
-        self.g3 *= t                                 # G3 = s^3 c3
-        return self
-
-    def advance(self, ds, beta):
-        """G_k at s + ds from their values at s, by Taylor's series to ds^3.
-
-        dG_k/ds = G_(k-1) and dG_0/ds = -beta G_1 (Danby 1988, section 6.9);
-        for |ds| <= _QUARTIC_DONE |s| the first term left out is below
-        1e-20 of G_k. G_0 is not carried on (the f and g functions do not
-        use it).
-        """
-        g0, g1, g2, g3 = self.g0, self.g1, self.g2, self.g3
-        half = np.multiply(ds, 0.5, out=self.z)
-        third = np.multiply(ds, 1.0 / 3.0, out=self.t)
-        beta_g1 = np.multiply(beta, g1)
-        # G3 + ds (G2 + ds/2 (G1 + ds/3 G0))
-        step = np.multiply(third, g0)
-        step += g1
-        step *= half
-        step += g2
-        step *= ds
-        g3 += step
-        # G2 + ds (G1 + ds/2 (G0 - ds/3 beta G1))
-        np.multiply(third, beta_g1, out=step)
-        np.subtract(g0, step, out=step)
-        step *= half
-        step += g1
-        step *= ds
-        g2 += step
-        # G1 + ds (G0 - ds/2 beta (G1 + ds/3 G0))
-        np.multiply(third, g0, out=step)
-        step += g1
-        step *= beta
-        step *= half
-        np.subtract(g0, step, out=step)
-        step *= ds
-        g1 += step
-        return self
+        self.slow = np.empty(self.shape, dtype=bool)
+        self.vectors = tuple(np.empty((3,) + self.shape) for _ in range(3))
 
 
-def _quartic_step(s, dt, r0, eta0, zeta0, beta, g, out, newton):
-    """Danby's quartic correction of s for F(s) = r0 s + eta0 G2 + zeta0 G3 - dt.
+def _stumpff_g(work: DriftWork, s, beta) -> DriftWork:
+    """Stumpff's G_k(beta, s) = s^k c_k(beta s^2), k = 0..3, into ``work.g0`` ... ``work.g3``."""
+    z, t = work.z, work.t
+    np.multiply(s, s, out=t)                         # s^2
+    np.multiply(beta, t, out=z)
+    if np.greater(np.abs(z, out=work.a), SERIES_LIMIT, out=work.slow).any():   # long steps, fast hyperbolae
+        c0, c1, c2, c3 = stumpff_c0_to_c3(z)
+        work.g23[0], work.g23[1] = c2, c3
+        np.copyto(work.g0, c0)
+        np.copyto(work.g1, c1)
+    else:
+        stumpff_c2_c3_series(z, work.g23)
+        np.multiply(z, work.g2, out=work.g0)
+        np.subtract(1.0, work.g0, out=work.g0)       # c0 = 1 - z c2
+        np.multiply(z, work.g3, out=work.g1)
+        np.subtract(1.0, work.g1, out=work.g1)       # c1 = 1 - z c3
+    work.g1 *= s                                     # G1 = s c1
+    work.g2 *= t                                     # G2 = s^2 c2
+    t *= s
+    work.g3 *= t                                     # G3 = s^3 c3
+    return work
+
+
+def _advance_g(work: DriftWork, ds, beta) -> None:
+    """G_k at s + ds from their values at s, by Taylor's series to ds^3.
+
+    dG_k/ds = G_(k-1) and dG_0/ds = -beta G_1 (Danby 1988, section 6.9);
+    for |ds| <= _QUARTIC_DONE |s| the first term left out is below 1e-20 of
+    G_k. G_0 is not carried on (the f and g functions do not use it).
+    """
+    g0, g1, g2, g3 = work.g0, work.g1, work.g2, work.g3
+    half = np.multiply(ds, 0.5, out=work.z)
+    third = np.multiply(ds, 1.0 / 3.0, out=work.t)
+    beta_g1 = np.multiply(beta, g1, out=work.a)
+    step = np.multiply(third, g0, out=work.b)        # G3 + ds (G2 + ds/2 (G1 + ds/3 G0))
+    step += g1
+    step *= half
+    step += g2
+    step *= ds
+    g3 += step
+    np.multiply(third, beta_g1, out=step)            # G2 + ds (G1 + ds/2 (G0 - ds/3 beta G1))
+    np.subtract(g0, step, out=step)
+    step *= half
+    step += g1
+    step *= ds
+    g2 += step
+    np.multiply(third, g0, out=step)                 # G1 + ds (G0 - ds/2 beta (G1 + ds/3 G0))
+    step += g1
+    step *= beta
+    step *= half
+    np.subtract(g0, step, out=step)
+    step *= ds
+    g1 += step
+
+
+def _quartic_step(work: DriftWork, s, dt, r0, eta0, zeta0, beta, out, newton):
+    """Danby's quartic correction of s for F(s) = r0 s + eta0 G2 + zeta0 G3 - dt, at G in ``work``.
 
     F1 = r0 + eta0 G1 + zeta0 G2 (the radius), F2 = eta0 G0 + zeta0 G1 and
     F3 = zeta0 G0 - beta eta0 G1 are the first three derivatives; the steps
@@ -182,18 +192,20 @@ def _quartic_step(s, dt, r0, eta0, zeta0, beta, g, out, newton):
     (Danby 1988, section 6.6, applied to the universal Kepler equation).
     Writes d3 into ``out`` and |d1|, Newton's step, into ``newton``.
     """
-    f = eta0 * g.g2
-    f += zeta0 * g.g3
-    f += r0 * s
+    f, f1, f2, f3, d, term = work.f, work.f1, work.f2, work.f3, work.d, work.b
+    np.multiply(eta0, work.g2, out=f)
+    f += np.multiply(zeta0, work.g3, out=term)
+    f += np.multiply(r0, s, out=term)
     f -= dt
-    f1 = eta0 * g.g1
-    f1 += zeta0 * g.g2
+    np.multiply(eta0, work.g1, out=f1)
+    f1 += np.multiply(zeta0, work.g2, out=term)
     f1 += r0
-    f2 = eta0 * g.g0
-    f2 += zeta0 * g.g1
-    f3 = zeta0 * g.g0
-    f3 -= beta * eta0 * g.g1
-    d = np.divide(f, f1)                             # -d1
+    np.multiply(eta0, work.g0, out=f2)
+    f2 += np.multiply(zeta0, work.g1, out=term)
+    np.multiply(zeta0, work.g0, out=f3)
+    np.multiply(beta, eta0, out=term)
+    f3 -= np.multiply(term, work.g1, out=term)
+    np.divide(f, f1, out=d)                          # -d1
     np.abs(d, out=newton)
     d *= -0.5
     d *= f2
@@ -211,29 +223,45 @@ def _quartic_step(s, dt, r0, eta0, zeta0, beta, g, out, newton):
     return out
 
 
-def _initial_guess(dt, r0, eta0, zeta0):
+def _initial_guess(work: DriftWork, dt, r0, eta0, zeta0):
     """s to third order in dt from the series of the universal Kepler equation,
-    dt = r0 s + eta0 s^2/2 + zeta0 s^3/6 + O(s^4), inverted term by term (exact for circles)."""
-    u = dt / r0
-    s = eta0 * eta0
-    s *= 0.5 / (r0 * r0)
-    s -= zeta0 / (6.0 * r0)
+    dt = r0 s + eta0 s^2/2 + zeta0 s^3/6 + O(s^4), inverted term by term (exact for circles):
+    s = u (1 - (eta0 / (2 r0)) u + (eta0^2 / (2 r0^2) - zeta0 / (6 r0)) u^2) with u = dt / r0."""
+    u, eta_over_r, s = work.a, work.b, work.s
+    np.divide(dt, r0, out=u)
+    np.divide(eta0, r0, out=eta_over_r)
+    np.multiply(eta_over_r, eta_over_r, out=s)
+    s *= 0.5
+    np.divide(zeta0, r0, out=work.t)
+    work.t *= 1.0 / 6.0
+    s -= work.t
     s *= u
-    s -= eta0 / (2.0 * r0)
+    eta_over_r *= 0.5
+    s -= eta_over_r
     s *= u
     s += 1.0
     s *= u
     return s
 
 
-def _not_yet_done(newton, s):
+def _dot(a, b, out, term):
+    """a . b of vectors shaped (3, ...), into ``out``."""
+    np.multiply(a[0], b[0], out=out)
+    out += np.multiply(a[1], b[1], out=term)
+    out += np.multiply(a[2], b[2], out=term)
+    return out
+
+
+def _not_yet_done(newton, s, out=None, scratch=None):
     """Where the guess before the last quartic correction was not yet within _QUARTIC_DONE of the
     root (judged by Newton's step), so that the correction may have left more than rounding.
     NaN counts as done: it stays NaN and its draw is stopped by the caller."""
-    return newton > _QUARTIC_DONE * np.abs(s)
+    limit = np.abs(s, out=scratch)
+    limit *= _QUARTIC_DONE
+    return np.greater(newton, limit, out=out)
 
 
-def kepler_drift(x, v, gm, dt, work=None):
+def kepler_drift(x, v, gm, dt, work: DriftWork | None = None):
     """Advance two-body orbits in place by ``dt`` with the f and g functions (Danby 1988).
 
     With r0 = |x|, beta = 2 gm / r0 - v^2, eta0 = x . v and
@@ -258,34 +286,36 @@ def kepler_drift(x, v, gm, dt, work=None):
         G (M + m) of each orbit, broadcasting against ``x[0]`` [length^3 / time^2].
     dt : float or ndarray
         Time step of each orbit, broadcasting against ``x[0]`` (negative steps go back).
-    work : tuple of three ndarray, optional
-        Work arrays shaped like ``x``.
+    work : DriftWork, optional
+        Work arrays for orbits shaped like ``x[0]``; made for the call when not given.
 
     Returns
     -------
     ndarray
-        The universal anomaly s of each orbit (shape of ``x[0]``).
+        The universal anomaly s of each orbit (shape of ``x[0]``; an array of ``work``).
     """
     shape = x.shape[1:]
-    r0 = np.sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2])
-    vv = v[0] * v[0] + v[1] * v[1] + v[2] * v[2]
-    eta0 = x[0] * v[0] + x[1] * v[1] + x[2] * v[2]
-    beta = np.divide(2.0 * gm, r0)
+    w = DriftWork(shape) if work is None else work
+    r0 = np.sqrt(_dot(x, x, w.r0, w.a), out=w.r0)
+    vv = _dot(v, v, w.vv, w.a)
+    eta0 = _dot(x, v, w.eta0, w.a)
+    beta = np.divide(gm, r0, out=w.beta)
+    beta *= 2.0
     beta -= vv
-    zeta0 = np.multiply(beta, r0)
+    zeta0 = np.multiply(beta, r0, out=w.zeta0)
     np.subtract(gm, zeta0, out=zeta0)
-    s = _initial_guess(dt, r0, eta0, zeta0)
-    g = _G(shape).evaluate(s, beta)
-    newton = np.empty(shape)
-    ds = _quartic_step(s, dt, r0, eta0, zeta0, beta, g, vv, newton)
+    s = _initial_guess(w, dt, r0, eta0, zeta0)
+    _stumpff_g(w, s, beta)
+    ds = _quartic_step(w, s, dt, r0, eta0, zeta0, beta, w.ds, w.newton)
     s += ds
-    slow = _not_yet_done(newton, s)
-    g.advance(ds, beta)
-    if np.any(slow):
-        s[slow] = _refine(s[slow], np.broadcast_to(dt, shape)[slow], r0[slow], eta0[slow], zeta0[slow], beta[slow])
-        exact = _G(s[slow].shape).evaluate(s[slow], beta[slow])
-        g.g1[slow], g.g2[slow], g.g3[slow] = exact.g1, exact.g2, exact.g3
-    _apply_f_and_g(x, v, g, gm, dt, r0, eta0, zeta0, work or tuple(np.empty_like(x) for _ in range(3)))
+    slow = _not_yet_done(w.newton, s, out=w.slow, scratch=w.a)
+    _advance_g(w, ds, beta)
+    if slow.any():
+        dt_all = np.broadcast_to(dt, shape)
+        s[slow] = _refine(s[slow], dt_all[slow], r0[slow], eta0[slow], zeta0[slow], beta[slow])
+        exact = _stumpff_g(DriftWork(s[slow].shape), s[slow], beta[slow])
+        w.g1[slow], w.g2[slow], w.g3[slow] = exact.g1, exact.g2, exact.g3
+    _apply_f_and_g(w, x, v, gm, dt, r0, eta0, zeta0)
     return s
 
 
@@ -297,10 +327,10 @@ def _refine(s, dt, r0, eta0, zeta0, beta):
     for _ in range(_QUARTIC_RETRIES):
         sub = s[todo]
         args = dt[todo], r0[todo], eta0[todo], zeta0[todo], beta[todo]
-        newton = np.empty_like(sub)
-        sub += _quartic_step(sub, *args, _G(sub.shape).evaluate(sub, args[-1]), np.empty_like(sub), newton)
+        work = _stumpff_g(DriftWork(sub.shape), sub, args[-1])
+        sub += _quartic_step(work, sub, *args, np.empty_like(sub), work.newton)
         s[todo] = sub
-        todo = todo[_not_yet_done(newton, sub)]
+        todo = todo[_not_yet_done(work.newton, sub)]
         if not todo.size:
             return s
     s[todo] = _solve_bracketed(s[todo], dt[todo], r0[todo], eta0[todo], zeta0[todo], beta[todo])
@@ -352,26 +382,23 @@ def _solve_bracketed(s, dt, r0, eta0, zeta0, beta):
     return s
 
 
-def _apply_f_and_g(x, v, g, gm, dt, r0, eta0, zeta0, work):
-    """x += (f - 1) x + g v and v += fdot x + (gdot - 1) v, from G1..G3 at the solved s."""
-    r = eta0 * g.g1
-    r += zeta0 * g.g2
+def _apply_f_and_g(w: DriftWork, x, v, gm, dt, r0, eta0, zeta0):
+    """x += (f - 1) x + g v and v += fdot x + (gdot - 1) v, from G1..G3 (in ``w``) at the solved s."""
+    r = np.multiply(eta0, w.g1, out=w.r)
+    r += np.multiply(zeta0, w.g2, out=w.a)
     r += r0                                          # r = r0 + eta0 G1 + zeta0 G2
-    f1 = gm * g.g2                                   # gm G2
-    gdot1 = np.divide(f1, r)
-    np.negative(gdot1, out=gdot1)                    # gdot - 1 = -gm G2 / r
-    f1 /= r0
-    np.negative(f1, out=f1)                          # f - 1 = -gm G2 / r0
-    gg = gm * g.g3
-    np.subtract(dt, gg, out=gg)                      # g = dt - gm G3
-    fdot = gm * g.g1
-    fdot /= r
-    fdot /= r0
-    np.negative(fdot, out=fdot)                      # fdot = -gm G1 / (r r0)
-    dx, dv, term = work
-    np.multiply(f1, x, out=dx)
-    dx += np.multiply(gg, v, out=term)
-    np.multiply(fdot, x, out=dv)
-    dv += np.multiply(gdot1, v, out=term)
+    gm_g2 = np.multiply(gm, w.g2, out=w.f)
+    minus_gdot1 = np.divide(gm_g2, r, out=w.f1)      # -(gdot - 1) = gm G2 / r
+    minus_f1 = np.divide(gm_g2, r0, out=w.f2)        # -(f - 1) = gm G2 / r0
+    g = np.multiply(gm, w.g3, out=w.f3)
+    np.subtract(dt, g, out=g)                        # g = dt - gm G3
+    minus_fdot = np.multiply(gm, w.g1, out=w.d)
+    minus_fdot /= r
+    minus_fdot /= r0                                 # -fdot = gm G1 / (r r0)
+    dx, dv, term = w.vectors
+    np.multiply(g, v, out=dx)
+    dx -= np.multiply(minus_f1, x, out=term)
+    np.multiply(minus_fdot, x, out=dv)
+    dv += np.multiply(minus_gdot1, v, out=term)
     x += dx
-    v += dv
+    v -= dv

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .kepler_drift import kepler_drift
+from .kepler_drift import DriftWork, kepler_drift
 
 #: Newton iterations from the interpolated guess (each elementwise, the same number for all)
 NEWTON_STEPS = 6
@@ -60,9 +60,11 @@ def refine_transit_times(position, velocity, gm, previous_x, step) -> np.ndarray
     x_end = position[0]
     # linear interpolation of x between the two ends of the step, the starting guess
     tau = step * x_end / (previous_x - x_end)
+    work = DriftWork(x_end.shape)
+    x, v = np.empty_like(position), np.empty_like(velocity)
     for _ in range(NEWTON_STEPS):
-        x, v = position.copy(), velocity.copy()
-        kepler_drift(x, v, gm, tau)
+        x[...], v[...] = position, velocity
+        kepler_drift(x, v, gm, tau, work)
         r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2]
         pull = gm / (r2 * np.sqrt(r2))
         g = x[0] * v[0] + x[1] * v[1]
