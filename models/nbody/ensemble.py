@@ -221,7 +221,9 @@ class _Runner:
 
         client = self.client
         setups = client.scatter(setups)
-        state_futures = client.scatter(states)
+        # the first task of a chunk carries its state with it, so it runs where its constants are and
+        # the chain stays on that worker
+        state_futures = list(states)
         pending = {}                     # events future -> (chunk, blocks)
         for blocks in waves:
             for chunk, setup in enumerate(setups):
@@ -244,7 +246,7 @@ class _Runner:
                     progress(work * sum(waves) // total, sum(waves))
             return client.gather(state_futures)
         finally:
-            client.cancel(list(pending) + state_futures)
+            client.cancel(list(pending) + [future for future in state_futures if hasattr(future, "key")])
 
     def _check_cancel(self) -> None:
         if self.cancel is not None and self.cancel.is_set():
