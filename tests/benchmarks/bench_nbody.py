@@ -1,6 +1,7 @@
 """Timing of the N-body ensembles on the default demo (seven planets).
 
-Run as ``python tests/benchmarks/bench_nbody.py [--quick]``; prints figures, asserts nothing.
+Run as ``python tests/benchmarks/bench_nbody.py [--quick] [steps] [cluster] [full]`` (the parts to
+run, all by default); prints figures, asserts nothing.
 Targets: 7 planets x 1000 draws x 1000 orbits of the innermost planet under 60 s on this
 2-core machine (default settings: MEGNO on, which integrates a shadow of every draw); the
 dask LocalCluster of 2 workers no slower than 1.2 x the single-process path.
@@ -82,7 +83,8 @@ SYSTEM = load_system(demo_path())
 
 if __name__ == "__main__":
     quick = "--quick" in sys.argv
+    parts = [arg for arg in sys.argv[1:] if not arg.startswith("--")] or ["steps", "cluster", "full"]
     print(f"{os.cpu_count()} cores {load()}")
-    per_step_cost(quick)
-    cluster_against_single_process(quick)
-    full_size(quick)
+    for part, run in (("steps", per_step_cost), ("cluster", cluster_against_single_process), ("full", full_size)):
+        if part in parts:
+            run(quick)
