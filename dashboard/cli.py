@@ -251,8 +251,14 @@ def _register_snapshot(commands):
     register(commands)
 
 
+def _register_evolve(commands):
+    from orbitdeck.dashboard.cli_evolve import register
+
+    register(commands)
+
+
 #: functions that add further subcommands (kept in their own modules so heavy imports stay lazy)
-_EXTRA_COMMANDS: list = [_register_sky, _register_transits, _register_serve, _register_snapshot]
+_EXTRA_COMMANDS: list = [_register_sky, _register_transits, _register_serve, _register_snapshot, _register_evolve]
 
 
 def main(argv=None) -> int:

@@ -42,3 +42,7 @@ MOON_ANGULAR_DIAMETER = float(2.0 * np.arcsin(R_MOON / D_MOON))
 
 RAD_TO_ARCSEC = float((1.0 * u.rad).to_value(u.arcsec))
 
+
+#: G M_sun in au^3 / d^2 and the Earth-to-Sun mass ratio, for integrations in au and days
+GM_SUN_AU3_D2 = float((const.G * const.M_sun).to_value(u.au**3 / u.day**2))
+EARTH_TO_SUN_MASS = float((const.M_earth / const.M_sun).decompose())
