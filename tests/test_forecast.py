@@ -105,6 +105,20 @@ def test_secondary_eclipse_delay_against_a_forward_solution_of_keplers_equation(
     assert float(secondary_eclipse_delay(period, e, omega)) == pytest.approx(expected, abs=1e-9)
 
 
+def test_forecast_puts_each_secondary_eclipse_after_its_transit():
+    # an eccentric planet's occultation follows each transit by the delay found forwards with scipy (Winn 2010
+    # section 2.1, as above), not half a period; the forecast carries it for every epoch
+    period, e, omega_deg, t0 = 6.0, 0.3, 40.0, 2461000.25
+    planet = Planet(name="b", period=period, radius=1.5, transit_time=t0, eccentricity=e, omega=omega_deg)
+    forecast = forecast_transits(small_system(planet), t0 - 0.5, t0 + 20.0)
+    omega = math.radians(omega_deg)
+    delay = (_time_of_true_anomaly(1.5 * math.pi - omega, period, e)
+             - _time_of_true_anomaly(math.pi / 2 - omega, period, e)) % period
+    assert abs(delay - period / 2) > 0.5                       # far from half a period at this e and omega
+    assert forecast.secondary - forecast.mid == pytest.approx(np.full(len(forecast), delay), abs=1e-8)
+    assert forecast_rows(forecast)[1]["secondary_eclipse_bjd_tdb"] == pytest.approx(t0 + period + delay, abs=1e-8)
+
+
 def test_secondary_eclipse_limits_and_first_order_agreement():
     # circular orbit: half a period exactly (Winn 2010 eq. 33 with e = 0)
     assert secondary_eclipse_delay(12.0, 0.0, 1.3) == pytest.approx(6.0, abs=1e-12)

@@ -230,3 +230,45 @@ def test_iso_dates_become_bjd_with_astropys_correction(astropy_offline):
     for bad in ("61041.5", "yesterday", "2026-13-01"):
         with pytest.raises(ValueError):
             sites.parse_time(bad)
+
+
+def test_observable_transits_against_astropys_altaz_over_the_whole_window(astropy_offline):
+    # the stated conditions (star at or above 30 deg, Sun at or below -12 deg from ingress less 1 h to egress
+    # plus 1 h) checked with astropy's own AltAz of the star and get_body Sun at 5-minute steps; transits within
+    # 0.05 deg of a limit (the tracks' interpolation is good to ~15 arcsec) are left out as undecidable
+    system, forecast, sky = demo_with_sky(days=30.0)
+    star = moved_star(system, forecast)
+    location = EarthLocation.from_geodetic(SITE.longitude * u.deg, SITE.latitude * u.deg, SITE.elevation * u.m)
+    # ingress and egress at the site lie half T14 either side of mid-transit (Winn 2010 contacts; the
+    # light-travel time changes by milliseconds in a few hours)
+    spans = (sky.egress_utc.jd - sky.ingress_utc.jd) * 86400.0
+    assert spans == pytest.approx(forecast.duration * 86400.0, abs=0.05)
+    assert (sky.mid_utc.jd - sky.ingress_utc.jd) * 86400.0 == pytest.approx(forecast.duration * 43200.0, abs=0.05)
+    reach = 0.5 * forecast.duration + 1.0 / 24.0
+    steps = np.linspace(-1.0, 1.0, 2 * int(np.ceil(reach.max() * 1440.0 / 5.0)) + 1)
+    times = Time(sky.mid_utc.jd[:, None] + reach[:, None] * steps[None, :], format="jd", scale="utc")
+    frame = AltAz(obstime=times, location=location)
+    star_margin = (star.transform_to(frame).alt.deg - 30.0).min(axis=1)
+    sun_margin = (-12.0 - get_body("sun", times, location).transform_to(frame).alt.deg).min(axis=1)
+    expected = (star_margin >= 0.0) & (sun_margin >= 0.0)
+    clear = (np.abs(star_margin) > 0.05) & (np.abs(sun_margin) > 0.05)
+    assert clear.sum() > 0.8 * len(forecast) and expected[clear].any() and (~expected[clear]).any()
+    np.testing.assert_array_equal(sky.observable[clear], expected[clear])
+
+
+def test_tracks_over_a_whole_year_agree_with_astropys_altaz(astropy_offline):
+    # a year of nodes: the Earth rotation angle and the hour angles wrap round many times between them, and the
+    # Sun's right ascension goes once round the sky; at random instants the interpolated altitudes stay within
+    # the tracks' stated accuracy (~1 arcsec for a star, ~15 arcsec for the Sun) of astropy's own AltAz
+    start = Time("2026-01-01", scale="utc").jd
+    rng = np.random.default_rng(12)
+    times = Time(start + np.sort(rng.uniform(0.0, 365.0, 400)), format="jd", scale="utc")
+    location = EarthLocation.from_geodetic(SITE.longitude * u.deg, SITE.latitude * u.deg, SITE.elevation * u.m)
+    star = SkyCoord(201.0 * u.deg, -11.0 * u.deg)
+    with offline_astropy():
+        nodes = sites.track_nodes(times.jd[0], times.jd[-1])
+        ours_star = sites.sky_track(star, location, nodes).altitude_deg(times)
+        ours_sun = sites.sky_track("sun", location, nodes).altitude_deg(times)
+    frame = AltAz(obstime=times, location=location)
+    assert np.abs(ours_star - star.transform_to(frame).alt.deg).max() < 0.002
+    assert np.abs(ours_sun - get_body("sun", times, location).transform_to(frame).alt.deg).max() < 0.01

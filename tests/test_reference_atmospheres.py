@@ -197,3 +197,71 @@ def test_document_carries_the_atmosphere_keys_with_intervals(make_system):
         assert row[key] is not None and key in row["interval"], key
         low, high = row["interval"][key]
         assert low < high, key
+
+
+def test_runaway_mass_clamp_flags_masses_outside_the_published_rows_only():
+    # Kopparapu et al. 2014 Table 1 gives runaway-greenhouse rows for 0.1, 1 and 5 Mearth only: masses between
+    # them are interpolated (not clamped), masses outside take the nearest row and are flagged
+    clamped = irradiation.runaway_greenhouse_mass_clamped([0.05, 0.1, 0.5, 1.0, 3.0, 5.0, 6.0])
+    assert clamped.tolist() == [True, False, False, False, False, False, True]
+    assert irradiation.runaway_greenhouse_flux(5780.0, 6.0) == pytest.approx(1.188)   # the 5 Mearth row
+
+
+# -- the atmosphere quantities of a derivation, computed independently with astropy ------------------
+
+def test_atmosphere_quantities_of_a_derivation_with_astropy_units(make_system, row_of):
+    # an invented temperate sub-Neptune around an M dwarf; every number rebuilt here with astropy quantities:
+    # Kepler's third law, L = 4 pi R*^2 sigma Teff^4, Teq = [f (1 - A) L / (4 pi a^2 sigma)]^(1/4) (f = 1/4),
+    # g = G M / R^2, H = k T / (mu m_u g), 2 H Rp / R*^2 (Kempton et al. 2018), the bare-rock dayside
+    # Teff sqrt(R*/a) [(1 - A) 2/3]^(1/4) (Cowan & Agol 2011) and its eclipse depth with astropy's BlackBody,
+    # the energy-limited escape eps pi Rp^3 F_XUV / (G Mp K) with K(xi) of Erkaev et al. 2007 eq. 17
+    star = dict(name="m", mass=0.35, radius=0.34, teff=3350.0)
+    system = make_system([dict(name="b", period=7.5, radius=2.3, mass=6.1)], star=star)
+    assumptions = system.assumptions
+    row = row_of(derive(system).to_dict()["planets"], "b")
+    mstar, rstar, teff = 0.35 * const.M_sun, 0.34 * const.R_sun, 3350.0 * u.K
+    mp, rp = 6.1 * const.M_earth, 2.3 * const.R_earth
+    a = ((const.G * (mstar + mp) * (7.5 * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)).to(u.m)
+    luminosity = 4 * np.pi * rstar**2 * const.sigma_sb * teff**4
+    flux = (luminosity / (4 * np.pi * a**2)).to(u.W / u.m**2)
+    teq = ((0.25 * (1 - assumptions.bond_albedo) * flux / const.sigma_sb) ** 0.25).to(u.K)
+    gravity = const.G * mp / rp**2
+    height = (const.k_B * teq / (assumptions.mean_molecular_weight * const.u * gravity)).to(u.km)
+    assert row["scale_height_km"] == pytest.approx(height.value, rel=1e-9)
+    signal = (2 * height * rp / rstar**2).to(u.dimensionless_unscaled).value * 1e6
+    assert row["transmission_ppm"] == pytest.approx(signal, rel=1e-9)
+    day = (teff * np.sqrt(float(rstar / a)) * ((1 - assumptions.bond_albedo) * 2 / 3) ** 0.25).to(u.K)
+    wavelength = assumptions.eclipse_wavelength_um * u.um
+    depth = float((rp / rstar) ** 2 * BlackBody(day)(wavelength) / BlackBody(teff)(wavelength)) * 1e6
+    assert row["eclipse_depth_ppm"] == pytest.approx(depth, rel=1e-9)
+    xi = float(a * (mp / (3 * mstar)) ** (1 / 3) / rp)
+    k = 1 - 3 / (2 * xi) + 1 / (2 * xi**3)
+    rate = (assumptions.escape_efficiency * np.pi * rp**3 * assumptions.xuv_flux * flux / (const.G * mp * k))
+    assert row["escape_rate_kg_s"] == pytest.approx(rate.to_value(u.kg / u.s), rel=1e-9)
+
+
+def test_shoreline_ratio_of_the_earth(solar_system, row_of):
+    # the shoreline I ~ v_esc^4 drawn through Mars: NASA Mars fact sheet (from memory) escape speed 5.03 km/s at
+    # 1.52366 au, so v0 = 5.03 km/s / (1 / 1.52366^2)^(1/4); Earth (S = 1, v_esc = 11.19 km/s, the fact sheet's)
+    # lies below it by (v0 / 11.19)^4 = 0.095
+    v0 = 5.03 * 1.52366**0.5
+    earth = row_of(derive(solar_system).to_dict()["planets"], "earth")
+    assert earth["shoreline_flux_ratio"] == pytest.approx((v0 / 11.19) ** 4, rel=0.01)
+
+
+def test_reference_bodies_insolation_and_the_planets_only_columns():
+    # NASA Mars fact sheet (from memory): solar irradiance 586.2 W/m^2 against Earth's 1361 W/m^2, i.e. 0.431
+    assert solar_system.body("Mars").insolation_earth == pytest.approx(586.2 / 1361.0, rel=2e-3)
+    # Jupiter's system at 5.2044 au receives 1/27 of Earth's light (fact sheet: 50.26 W/m^2, from memory)
+    assert solar_system.body("Io").insolation_earth == pytest.approx(50.26 / 1361.0, rel=2e-3)
+    # in Earth units for the mass-radius diagram: Jupiter from astropy's IAU 2015 nominal values (317.8 Mearth,
+    # 11.21 equatorial Rearth), Mars from its fact sheet's ratios to Earth (from memory: 0.107 in mass, 0.532 in
+    # mean radius)
+    jupiter, mars = solar_system.body("Jupiter"), solar_system.body("Mars")
+    assert jupiter.mass_mearth == pytest.approx(float(const.M_jup / const.M_earth), rel=1e-12)
+    assert jupiter.radius_rearth == pytest.approx(float(const.R_jup / const.R_earth), rel=1e-12)
+    assert mars.mass_mearth == pytest.approx(0.107, rel=0.01) and mars.radius_rearth == pytest.approx(0.532, rel=0.01)
+    # the eight planets (IAU 2006 definition) alone, or every reference body
+    planets = solar_system.reference_points(planets_only=True)["name"]
+    assert planets == ["Mercury", "Venus", "Earth", "Mars", "Jupiter", "Saturn", "Uranus", "Neptune"]
+    assert len(solar_system.reference_points()["name"]) == len(solar_system.BODIES)

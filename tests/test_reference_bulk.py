@@ -73,6 +73,21 @@ def test_solar_system_masses_lie_within_the_published_scatter(name, radius_km, m
     assert abs(np.log(estimate / mass)) < CK_RADIUS_SCATTER[kind] / CK_INDEX[kind], (estimate, mass)
 
 
+@pytest.mark.parametrize("mass, kind", [(0.5, "terran"), (1.0, "terran"), (10.0, "neptunian"), (30.0, "neptunian")])
+def test_relation_scatter_is_the_published_sigma_of_each_class(mass, kind):
+    # Table 1: the intrinsic scatter of log10 R at fixed mass is 0.0403 (Terran) and 0.146 (Neptunian); a draw
+    # z standard deviations off the mean relation moves log10 M by -z sigma / S (S the class's index); the
+    # masses here stay inside their class for |z| <= 2
+    radius = _chen_kipping_radius(mass)
+    sigma, slope = CK_RADIUS_SCATTER[kind], CK_INDEX[kind]
+    assert composition.radius_scatter_log10(radius) == pytest.approx(sigma, rel=1e-12)
+    for z in (-2.0, -1.0, 1.0, 2.0):
+        drawn = composition.mass_from_radius_with_scatter(radius, z)
+        assert np.log10(drawn / mass) == pytest.approx(-z * sigma / slope, rel=1e-9)
+    # giants beyond the Neptunian branch carry a flagged placeholder, no scatter
+    assert composition.radius_scatter_log10(20.0) == 0.0
+
+
 def test_missing_mass_is_estimated_and_flagged(make_system, row_of):
     system = make_system([dict(name="b", period=5.0, radius=1.5), dict(name="c", period=9.0, radius=2.0, mass=4.0)])
     doc = derive(system).to_dict()

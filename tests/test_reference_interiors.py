@@ -39,6 +39,30 @@ def test_core_mass_fraction_is_null_and_flagged_outside_the_stated_range(make_sy
     assert c["core_mass_fraction_applies"] is False and c["core_mass_fraction"] is None
 
 
+def _zeng_radius(mass, cmf):
+    # Zeng, Sasselov & Jacobsen 2016 (abstract): R = (1.07 - 0.21 CMF) M^(1/3.7), Earth units
+    return (1.07 - 0.21 * cmf) * mass ** (1 / 3.7)
+
+
+@pytest.mark.parametrize("mass, cmf, applies", [
+    (1.0, 0.3, True), (8.0, 0.3, True),      # the stated mass range 1-8 Mearth, edges included
+    (0.9, 0.3, False), (10.0, 0.3, False),   # just outside it
+    (4.0, 0.0, True), (4.0, 0.4, True),      # the stated CMF range 0-0.4, edges included
+    (4.0, 0.45, False), (4.0, -0.05, False),
+])
+def test_core_mass_fraction_range_is_the_papers(mass, cmf, applies):
+    # Zeng et al. 2016 (abstract): the formula applies for 1-8 Mearth and a core mass fraction of 0-0.4;
+    # the edge cases sit a hair inside (1e-9 in CMF) so rounding cannot decide them
+    inward = 1e-9 * np.sign(0.2 - cmf)
+    radius = _zeng_radius(mass, cmf + inward)
+    assert bool(interiors.core_mass_fraction_applies(mass, radius)) is applies
+    value = interiors.core_mass_fraction(mass, radius)
+    if applies:
+        assert value == pytest.approx(cmf, abs=1e-8)
+    else:
+        assert np.isnan(value)
+
+
 # -- water mass fraction: Zeng et al. 2016 Table 2 water curves -------------------------------------
 
 @pytest.mark.parametrize("mass, radius, water", [
@@ -84,7 +108,8 @@ def _lopez_fortney_radius(core_mass, fraction, insolation, age_gyr=5.0):
 def test_envelope_fraction_inverts_the_fit(core_mass, fraction, insolation):
     radius = _lopez_fortney_radius(core_mass, fraction, insolation)
     mass = core_mass / (1.0 - fraction)
-    assert interiors.envelope_mass_fraction(mass, radius, insolation) == pytest.approx(fraction, rel=1e-6)
+    # to the solver's stated precision: 30 bisection steps in ln f over ln(200) leave ~5e-9
+    assert interiors.envelope_mass_fraction(mass, radius, insolation) == pytest.approx(fraction, rel=1e-8)
 
 
 def test_envelope_radius_at_another_age():
@@ -99,6 +124,21 @@ def test_envelope_fraction_is_null_outside_the_grid():
     assert np.isnan(interiors.envelope_mass_fraction(5.0, 1.4, 10.0))    # rocky: smaller than 0.1 % needs
     assert np.isnan(interiors.envelope_mass_fraction(5.0, 2.5, 5000.0))
     assert np.isnan(interiors.envelope_mass_fraction(5.0, _lopez_fortney_radius(5.0, 0.3, 10.0) + 0.5, 10.0))
+
+
+@pytest.mark.parametrize("mass, fraction, inside", [
+    (19.0, 0.05, True), (25.0, 0.05, False),     # the grid's 1-20 Mearth
+    (6.0, 0.19, True), (6.0, 0.25, False),       # envelopes up to 20 % of the mass
+    (6.0, 0.0012, True), (6.0, 0.0008, False),   # and down to 0.1 %
+])
+def test_envelope_fraction_is_given_inside_the_grid_only(mass, fraction, inside):
+    # Lopez & Fortney 2014 (ApJ 792, 1): their models span 1-20 Mearth and envelopes of 0.1-20 % of the mass
+    radius = _lopez_fortney_radius(mass * (1.0 - fraction), fraction, 10.0)
+    value = interiors.envelope_mass_fraction(mass, radius, 10.0)
+    if inside:
+        assert value == pytest.approx(fraction, rel=1e-6)
+    else:
+        assert np.isnan(value)
 
 
 # -- tidal heating: Io ------------------------------------------------------------------------------
@@ -119,6 +159,13 @@ def test_io_tidal_power_is_about_1e14_watts():
     assert power == pytest.approx(1e14, rel=0.15)
     # Io's mean surface heat flow about 2.5 W/m^2 (Veeder et al. 1994, from memory)
     assert tides.surface_heat_flux(power, IO_RADIUS) == pytest.approx(tides.IO_HEAT_FLUX, rel=0.2)
+
+
+def test_earth_heat_flux_for_comparison():
+    # Davies & Davies 2010 (Solid Earth 1, 5; from memory): Earth loses 47 TW through its surface; over
+    # 4 pi R^2 with the mean radius 6371 km that is 0.092 W/m^2
+    flux = (47e12 * u.W / (4 * np.pi * (6371.0 * u.km) ** 2)).to_value(u.W / u.m**2)
+    assert tides.EARTH_HEAT_FLUX == pytest.approx(flux, rel=0.01)
 
 
 def test_tidal_power_matches_the_k2_over_q_form_computed_with_astropy():

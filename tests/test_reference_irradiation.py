@@ -222,6 +222,8 @@ def test_solar_system_regions(make_system, row_of, solar_system):
     solar_system.add_planet(Planet(**mars))
     planets = derive(solar_system).to_dict()["planets"]
     assert row_of(planets, "earth")["hz_region"] == "conservative"   # S = 1.0, inside 0.356-1.107
+    assert row_of(planets, "earth")["in_conservative_hz"] is True and row_of(planets, "earth")["in_optimistic_hz"] is True
+    assert row_of(planets, "venus")["in_conservative_hz"] is False and row_of(planets, "venus")["in_optimistic_hz"] is False
     assert row_of(planets, "venus")["insolation_earth"] == pytest.approx(1.91, abs=0.01)  # 1/0.7233^2
     assert row_of(planets, "venus")["hz_region"] == "too hot"        # S = 1.91 > 1.776 (recent Venus)
     assert row_of(planets, "mars")["insolation_earth"] == pytest.approx(0.4326, abs=0.001)
@@ -243,6 +245,10 @@ def test_region_thresholds_are_the_papers(make_system, row_of, flux, region):
     planet = row_of(derive(system).to_dict()["planets"], "b")
     assert planet["insolation_earth"] == pytest.approx(flux, rel=1e-9)
     assert planet["hz_region"] == region
+    # the optimistic zone runs from recent Venus to early Mars, the conservative one from the runaway to the
+    # maximum greenhouse (Kopparapu et al. 2013, 2014)
+    assert planet["in_optimistic_hz"] is (region in ("optimistic inner", "optimistic outer"))
+    assert planet["in_conservative_hz"] is False
 
 
 @pytest.mark.parametrize("teff", [900.0, 7300.0])
@@ -302,3 +308,4 @@ def test_hz_at_the_edges_of_the_validity_range_is_given(make_system, teff):
         assert doc["star"]["hz_au"][limit] == pytest.approx(expected, rel=1e-12), limit
     assert doc["planets"][0]["hz_region"] in irradiation.HZ_REGIONS
     assert not any("2600" in w for w in doc["warnings"])
+    assert doc["star"]["hz_extrapolated"] is False

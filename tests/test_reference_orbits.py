@@ -126,3 +126,15 @@ def test_semi_major_axis_is_vectorised_over_samples_and_planets():
     assert a.shape == (2, 3)
     # Kepler III: doubling P multiplies a by 2^(2/3)
     np.testing.assert_allclose(a[:, 1] / a[:, 0], 2 ** (2 / 3), rtol=1e-14)
+
+
+def test_periastron_and_apoastron_distances(make_system):
+    # r = a (1 - e^2) / (1 + e cos f) is a (1 - e) at f = 0 and a (1 + e) at f = pi (Murray & Dermott 1999,
+    # eq. 2.20); a from Kepler's third law written with astropy quantities
+    system = make_system([dict(name="b", period=12.0, radius=1.4, mass=2.0, eccentricity=0.3),
+                          dict(name="c", period=30.0, radius=2.0, mass=5.0, eccentricity=0.05)])
+    extra = derive(system).extra
+    for index, (period, mass, e) in enumerate([(12.0, 2.0, 0.3), (30.0, 5.0, 0.05)]):
+        a = _kepler_iii_astropy(period * u.day, const.M_sun + mass * const.M_earth).value
+        assert extra["periastron_au"][index] == pytest.approx(a * (1 - e), rel=1e-12)
+        assert extra["apoastron_au"][index] == pytest.approx(a * (1 + e), rel=1e-12)

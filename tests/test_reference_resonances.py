@@ -131,3 +131,25 @@ def test_commensurability_table_is_complete():
     assert {Fraction(int(a), int(b)) for a, b in zip(p, q)} == expected
     assert len(p) == len(expected)
     np.testing.assert_array_equal(order, p - q)
+
+
+@pytest.mark.parametrize("ratio, differs", [(1.47, False), (1.46, True), (1.54, False), (1.56, True)])
+def test_nearest_differs_at_the_midpoints_around_3_to_2(ratio, differs):
+    # by hand: the rungs of order <= 3 either side of 3:2 are 10:7 (1.42857) and 8:5 (1.6); a period ratio keeps
+    # 3:2 as its nearest commensurability between the midpoints 1.46429 and 1.55
+    assert (Fraction(10, 7) + Fraction(3, 2)) / 2 == Fraction(41, 28)         # 1.46429
+    assert (Fraction(3, 2) + Fraction(8, 5)) / 2 == Fraction(31, 20)          # 1.55
+    assert bool(resonances.nearest_differs(np.array([ratio]), [3], [2])[0]) is differs
+    p, q, _ = resonances.nearest_commensurability(ratio)
+    assert ((int(p), int(q)) != (3, 2)) is differs
+
+
+def test_best_three_body_relation_and_its_residual_in_degrees_per_day():
+    # by hand for periods 2, 3 and 5 d: of p, q in 1..3, p/2 - (p+q)/3 + q/5 is least for p = q = 1, 1/30 cycle
+    # per day, i.e. 12 deg/d; the Galilean moons pick n_Io - 3 n_Europa + 2 n_Ganymede (Murray & Dermott 1999,
+    # section 8.17)
+    p, q, residual = resonances.best_three_body_relation(2.0, 3.0, 5.0)
+    assert (int(p), int(q)) == (1, 1) and residual == pytest.approx(360.0 / 30.0, rel=1e-12)
+    p, q, residual = resonances.best_three_body_relation(IO, EUROPA, GANYMEDE)
+    assert (int(p), int(q)) == (1, 2)
+    assert residual == pytest.approx(360 / IO - 3 * 360 / EUROPA + 2 * 360 / GANYMEDE, rel=1e-9)

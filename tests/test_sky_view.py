@@ -114,6 +114,17 @@ def test_sun_seen_from_earth():
     assert np.all(np.isnan(sky["phase_angle_deg"][:, 0])) and np.all(sky["elongation_deg"][:, 0] == 0.0)
 
 
+def test_luminosity_of_a_star_without_one_given():
+    # IAU 2015 Resolution B3: the nominal solar radius and Teff = 5772 K give the nominal luminosity (to 1e-4);
+    # an M dwarf with astropy's sigma_sb, L = 4 pi R^2 sigma Teff^4 (Stefan-Boltzmann law)
+    assert sky_view.stellar_luminosity_lsun(Star(name="sun", mass=1.0, radius=1.0, teff=5772.0)) == pytest.approx(
+        1.0, abs=1e-4)
+    expected = float(4 * np.pi * (0.21 * const.R_sun) ** 2 * const.sigma_sb * (3150 * u.K) ** 4 / const.L_sun)
+    dwarf = Star(name="m", mass=0.2, radius=0.21, teff=3150.0)
+    assert sky_view.stellar_luminosity_lsun(dwarf) == pytest.approx(expected, rel=1e-12)
+    assert sky_view.stellar_luminosity_lsun(Star(name="m", mass=0.2, radius=0.21, teff=3150.0, luminosity=0.5)) == 0.5
+
+
 def test_moon_reference_size():
     # the full Moon spans about 0.518 deg (31 arcmin) on average (almanac; DESIGN.md says ~0.52 deg)
     size_deg = sky_view.angular_diameter_arcsec(sky_view.MOON_RADIUS.to_value(u.km),
