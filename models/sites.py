@@ -33,7 +33,6 @@ import astropy.units as u
 import numpy as np
 from astropy.coordinates import Distance, EarthLocation, HADec, SkyCoord, get_body, get_body_barycentric
 from astropy.time import Time
-from erfa import ErfaWarning
 
 from .earth_orientation import offline_astropy
 from .system import DEFAULT_COORDINATE_EPOCH, Site, Star
@@ -262,7 +261,7 @@ def parse_time(text: str, coord: SkyCoord | None = None, location: EarthLocation
         return value, None
     try:
         with warnings.catch_warnings():
-            warnings.simplefilter("ignore", ErfaWarning)
+            warnings.filterwarnings("ignore", message=".*dubious year", category=UserWarning)   # erfa, past its table
             utc = Time(text, format="isot" if "T" in text else "iso", scale="utc")
     except ValueError:
         raise ValueError(f"{text!r} is neither a BJD_TDB number nor an ISO date (YYYY-MM-DD or "
