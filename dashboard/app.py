@@ -21,23 +21,32 @@ from collections.abc import Mapping
 import panel as pn
 import param
 
-from orbitdeck.models import Derived, System, derive, ephemeris
+from orbitdeck.models import Derived, System, derive, dumps_system, ephemeris
+from orbitdeck.models.engine.provenance import provenance_of
+from orbitdeck.models.sources import SystemSource
 
 from .cli import DEFAULT_SEED
+from .history import EditHistory, SessionTools
 from .serve import page_title
+from .text_tables import unsigned_zeros
 from .views import look
+from .views.bulk import BulkView
 from .views.common import escape
+from .views.compare import CompareView
 from .views.controls import Controls
+from .views.dynamics import DynamicsView
 from .views.flux import FluxView
 from .views.ladder import LadderView
 from .views.layout import REFERENCE_ORBITS, LayoutView
 from .views.observability import ObservabilityView
 from .views.palette import ColourBook
 from .views.skies import SkiesView
+from .views.transits import TransitPlannerView
 
 #: view classes in the order of the tabs
-VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView)
-SIDEBAR_WIDTH = 330
+VIEW_CLASSES = (LayoutView, SkiesView, LadderView, FluxView, ObservabilityView, DynamicsView, BulkView,
+                TransitPlannerView, CompareView)
+SIDEBAR_WIDTH = 350
 #: views built with the app: the first tab (shown when the page opens) and the planet table, the tab
 #: opened most; every other view is built when its tab is first opened or the view is read from code
 BUILT_AT_ONCE = (VIEW_CLASSES[0].title, FluxView.title)
@@ -59,8 +68,12 @@ class OrbitDeckApp(param.Parameterized):
     uncertainty = param.Boolean(default=False, doc="Derive with Monte Carlo draws and show their intervals")
     samples = param.Integer(default=4000, bounds=(100, 20000), doc="Monte Carlo draws when uncertainty is on")
     seed = param.Integer(default=DEFAULT_SEED, constant=True, doc="Seed of the Monte Carlo draws (fixed)")
+    pinned = param.ClassSelector(class_=Derived, allow_None=True, instantiate=False,
+                                 doc="The derivation pinned as the reference that the Compare tab compares with")
+    pinned_label = param.String(default="", doc="What the pinned reference was (for the Compare tab)")
+    read_only = param.Boolean(default=False, doc="True while this session follows a presenter (no edits)")
 
-    def __init__(self, system: System, **params):
+    def __init__(self, system: System, source: SystemSource | None = None, **params):
         cls = type(self)
         draws = params.get("samples", cls.param.samples.default) if params.get("uncertainty") else 0
         derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
@@ -69,6 +82,8 @@ class OrbitDeckApp(param.Parameterized):
         #: each planet's colour for the session, by first appearance (see palette.ColourBook)
         self.colours = ColourBook(names)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
+        self._installing = False   # True while a state is shown as given (no derivation of its own)
+        self._set_source(source)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
         #: True in a served page (see page()): views of hidden tabs wait until their tab is opened
@@ -81,6 +96,8 @@ class OrbitDeckApp(param.Parameterized):
         for title in BUILT_AT_ONCE:
             self.views[title]
         self.controls = Controls(self)
+        self.history = EditHistory(self)
+        self.tools = SessionTools(self, self.history)
         self.header = pn.pane.HTML("", sizing_mode="stretch_width", margin=0, stylesheets=[look.HEADER_CSS])
         # the browser's document.title follows this hidden widget (set as text, never parsed as HTML)
         self._title_holder = pn.widgets.TextInput(value=self._document_title(), visible=False)
@@ -91,7 +108,8 @@ class OrbitDeckApp(param.Parameterized):
                              before_show=self._build_tab, after_show=self._catch_up, stylesheets=[look.TABS_CSS],
                              margin=(4, 8))
         self.main = pn.Column(self.alerts, self.caution, self.tabs, sizing_mode="stretch_width")
-        self.sidebar = self.controls.panel()
+        self.sidebar = pn.Column(self.tools.panel(), self.controls.panel(), width=SIDEBAR_WIDTH)
+        self.param.watch(lambda event: self.controls.lock(event.new), "read_only")
         self.layout = pn.Column(self.header, self._title_holder, pn.Row(self.sidebar, self.main,
                                                                        sizing_mode="stretch_width"),
                                 sizing_mode="stretch_width", styles=look.ROOT_STYLES)
@@ -106,11 +124,15 @@ class OrbitDeckApp(param.Parameterized):
 
     def _on_draws(self, *events):
         """Derive again when the switch changes, or the sample count while the switch is on."""
+        if self._installing:
+            return
         if any(e.name == "uncertainty" for e in events) or self.uncertainty:
             self._on_revision()
 
     def _on_revision(self, *_):
         """Derive the system once for a change of anything in it."""
+        if self._installing:
+            return
         try:
             derived, elements = _derive(self.system, self.draws, self.seed)
         except Exception as error:  # a valid but underivable state: keep the last views, say why
@@ -122,20 +144,81 @@ class OrbitDeckApp(param.Parameterized):
         with pn.io.hold(freeze=True):
             self.param.update(derived=derived, elements=elements, selected=selected, problem="")
 
-    def replace_system(self, system: System) -> None:
-        """Show ``system`` instead of the current one (the current one is kept if it cannot be derived)."""
+    def replace_system(self, system: System, source: SystemSource | None = None) -> None:
+        """Show ``system`` (read from ``source``) instead of the current one: a new file, with a fresh
+        edit history (the current one is kept if it cannot be derived)."""
         try:
             derived, elements = _derive(system, self.draws, self.seed)
         except Exception as error:
             self.problem = f"{type(error).__name__}: {error}"
             return
-        self.system.param.unwatch(self._revision_watcher)
+        names = derived.planet_names
+        self._set_source(source, system)
+        self.install(system, derived, elements, time=system.epoch, selected=names[0] if names else None)
+        self.history.reset()
+
+    def restore_system(self, system: System) -> bool:
+        """Show ``system``, an earlier or later state of the same one (undo, redo), keeping the time and,
+        where it still exists, the selected planet. False (and ``problem`` says why) if it cannot be derived."""
+        try:
+            derived, elements = _derive(system, self.draws, self.seed)
+        except Exception as error:
+            self.problem = f"{type(error).__name__}: {error}"
+            return False
+        self.install(system, derived, elements)
+        return True
+
+    def install(self, system: System, derived: Derived, elements, **shown) -> None:
+        """Show ``system`` with its ``derived`` and ``elements`` as given (nothing is derived), and set the
+        app parameters in ``shown`` (time, selected, uncertainty...) in the same update; only what
+        differs is set, so watchers of what stays run not at all."""
         names = derived.planet_names
         self.colours.note(names)
-        with pn.io.hold(freeze=True):
-            self.param.update(system=system, derived=derived, elements=elements, time=system.epoch,
-                              selected=names[0] if names else None, problem="")
-        self._revision_watcher = system.param.watch(self._on_revision, "revision")
+        selected = shown.pop("selected", self.selected)
+        shown["selected"] = selected if selected in names else (names[0] if names else None)
+        wanted = dict(system=system, derived=derived, elements=elements, problem="", **shown)
+        changed = {name: value for name, value in wanted.items() if not _same_value(getattr(self, name), value)}
+        if not changed:
+            return
+        self._installing = True
+        try:
+            if system is not self.system:
+                self.system.param.unwatch(self._revision_watcher)
+                self._revision_watcher = system.param.watch(self._on_revision, "revision")
+            with pn.io.hold(freeze=True):
+                self.param.update(**changed)
+        finally:
+            self._installing = False
+
+    # -- where the numbers came from, and the pinned reference --------------------------
+    def _set_source(self, source: SystemSource | None, system: System | None = None) -> None:
+        """Remember what the system was read from (for the provenance of exports)."""
+        text = dumps_system(system or self.system)
+        self.source = source or SystemSource("a System object made in Python", text.encode("utf-8"))
+        self._source_text = text
+
+    def provenance(self) -> dict:
+        """The provenance of the state shown: the input read, whether (and to what) it was edited since,
+        the assumptions, the draws and seed, the methods used."""
+        text = dumps_system(self.system)
+        return provenance_of(self.system, self.derived, self.source.name, self.source.sha256,
+                             edited_text=None if text == self._source_text else text)
+
+    def pin_reference(self) -> None:
+        """Pin the state shown as the reference that the Compare tab compares with (not while read-only)."""
+        if self.read_only:
+            return
+        derived = self.derived
+        if derived.intervals:
+            derived.intervals["skies"]   # worked out now: the pinned state outlives its draws
+        draws = f"{derived.samples} Monte Carlo draws" if derived.samples else "nominal values only"
+        self.param.update(pinned=derived,
+                          pinned_label=f"{self.system.name}, edit {self.history.position} ({draws})")
+
+    def clear_reference(self) -> None:
+        """Forget the pinned reference (not while read-only)."""
+        if not self.read_only:
+            self.param.update(pinned=None, pinned_label="")
 
     # -- text around the views ----------------------------------------------------
     def _texts(self, *_):
@@ -158,7 +241,7 @@ class OrbitDeckApp(param.Parameterized):
             notes.insert(0, f"the last change could not be derived and was not applied to the views: {self.problem}")
         self.alerts.object = ("" if not notes else
                               '<div role="alert" class="od-alert"><b>Warnings</b><ul>'
-                              + "".join(f"<li>{escape(n)}</li>" for n in notes) + "</ul></div>")
+                              + "".join(f"<li>{escape(unsigned_zeros(n))}</li>" for n in notes) + "</ul></div>")
         a = system.assumptions
         self.caution.object = (
             '<div class="od-caution">All values are model estimates under the stated '
@@ -293,11 +376,40 @@ class ViewTabs(pn.Tabs):
     # Panel's own handler of ``active`` (private): the hooks must run around it, in the same watcher
     def _update_active(self, *events):
         opened = any(e.name == "active" for e in events)
-        if opened and self._before_show is not None:
-            self._before_show(self.active)
-        super()._update_active(*events)
-        if opened and self._after_show is not None:
-            self._after_show(self.active)
+        # one batch of changes, whose later values replace earlier ones of the same property: see below
+        with pn.io.hold():
+            if opened and self._before_show is not None:
+                self._before_show(self.active)
+            super()._update_active(*events)
+            if opened and self._after_show is not None:
+                self._after_show(self.active)
+            self._local_style_sheets()
+
+    def _local_style_sheets(self) -> None:
+        """Point every style sheet of the page at the serving page's own copy again.
+
+        A pane updated while its tab is hidden has no document, and Panel then
+        resolves its style sheets to its CDN, also changing the style sheet
+        objects it shares with the shown components; a local page must not
+        reach out (and fails offline). Set back within the same batch, the
+        browser only receives the local addresses.
+        """
+        from bokeh.models import ImportedStyleSheet
+        from panel.io.resources import patch_stylesheet
+
+        for root, _ in list(self._models.values()):
+            document = root.document
+            dist_url = document._template_variables.get("dist_url") if document is not None else None
+            if dist_url:
+                for sheet in document.select({"type": ImportedStyleSheet}):
+                    patch_stylesheet(sheet, dist_url)
+
+
+def _same_value(old, new) -> bool:
+    """Plain values by equality, objects (a System, a Derived) by identity."""
+    if isinstance(new, (str, int, float, bool, type(None))) and isinstance(old, (str, int, float, bool, type(None))):
+        return old == new and type(old) is type(new)
+    return old is new
 
 
 def _derive(system: System, samples: int = 0, seed: int | None = None):
@@ -319,7 +431,11 @@ def build_app(system: System) -> pn.layout.Column:
     The dashboard edits ``system`` in place; pass ``system.copy()`` to keep
     the original. Use :class:`OrbitDeckApp` directly to reach the state
     (``app.derived``, ``app.selected``) from code; its ``layout`` is what this
-    function returns.
+    function returns. Panel's extension is loaded here only when it is not
+    yet (with ``inline=True``: every resource inside the notebook, which then
+    needs no network); loading it again would put its resources into the
+    notebook a second time.
     """
-    pn.extension("tabulator")
+    if not (pn.extension._loaded and "tabulator" in pn.extension._loaded_extensions):
+        pn.extension("tabulator", inline=True)
     return OrbitDeckApp(system).layout

@@ -5,7 +5,12 @@ from __future__ import annotations
 import json
 import sys
 
-from orbitdeck.dashboard.text_tables import format_number, render
+from orbitdeck.dashboard.text_tables import format_number, render, terminal_safe, unsigned_zeros
+
+#: most close approaches listed per planet by ``sky --events``
+MAX_EVENTS = 100
+#: range of the geometric albedo of ``sky --albedo`` (bright icy bodies exceed 1)
+ALBEDO_BOUNDS = (0.0, 2.0)
 
 
 def _system_and_a(args):
@@ -21,10 +26,9 @@ def _emit(doc: dict, as_json: bool, text: str) -> None:
         json.dump(doc, sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
     else:
-        sys.stdout.write(text)
-    if not as_json:
+        sys.stdout.write(terminal_safe(text))
         for warning in doc.get("warnings", []):
-            sys.stdout.write(f"warning: {warning}\n")
+            sys.stdout.write(f"warning: {terminal_safe(unsigned_zeros(warning), keep='')}\n")
 
 
 def cmd_positions(args) -> int:
@@ -53,7 +57,8 @@ def cmd_sky(args) -> int:
     if args.events:
         events = close_approaches(system, args.observer, after=doc["time"], count=args.events, a_au=a_au)
         doc["close_approaches"] = events["bodies"]
-        doc["warnings"] = doc.get("warnings", []) + events.get("warnings", [])
+        # both lists start with the same notes on the system (missing transit times): each once
+        doc["warnings"] = list(dict.fromkeys(doc.get("warnings", []) + events.get("warnings", [])))
     keys = ("distance_au", "angular_diameter_arcsec", "elongation_deg", "phase_angle_deg",
             "illuminated_fraction", "brightness_moon_ratio")
     rows = [[b["body"], *(format_number(b.get(k)) for k in keys)] for b in doc["bodies"]]
@@ -72,12 +77,12 @@ def cmd_sky(args) -> int:
 
 def register(commands) -> None:
     """Add the ``positions`` and ``sky`` subcommands."""
-    from orbitdeck.dashboard.cli import _add_file
+    from orbitdeck.dashboard.cli import _add_file, bounded, time_value
 
     positions = commands.add_parser("positions", help="planet positions at a time",
                                     description="Planet positions at a time, star at the origin, observer on +Z.")
     _add_file(positions)
-    positions.add_argument("--time", type=float, metavar="T", help="BJD_TDB [d]; default: the system epoch")
+    positions.add_argument("--time", type=time_value, metavar="T", help="BJD_TDB [d]; default: the system epoch")
     positions.add_argument("--json", action="store_true", help="print JSON instead of a table")
     positions.set_defaults(run=cmd_positions)
 
@@ -86,10 +91,11 @@ def register(commands) -> None:
                                           "planets seen from one planet at a time.")
     _add_file(sky)
     sky.add_argument("--observer", required=True, metavar="NAME", help="the planet whose sky is shown")
-    sky.add_argument("--time", type=float, metavar="T", help="BJD_TDB [d]; default: the system epoch")
-    sky.add_argument("--events", type=int, default=0, metavar="N",
-                     help="also list the next N closest approaches of each other planet")
-    sky.add_argument("--albedo", type=float, default=0.3, metavar="A",
-                     help="geometric albedo assumed for planets' brightness (default 0.3)")
+    sky.add_argument("--time", type=time_value, metavar="T", help="BJD_TDB [d]; default: the system epoch")
+    sky.add_argument("--events", type=bounded(0, MAX_EVENTS, whole=True), default=0, metavar="N",
+                     help=f"also list the next N (0 to {MAX_EVENTS}) closest approaches of each other planet")
+    sky.add_argument("--albedo", type=bounded(*ALBEDO_BOUNDS), default=0.3, metavar="A",
+                     help=f"geometric albedo assumed for planets' brightness, {ALBEDO_BOUNDS[0]:g} to "
+                          f"{ALBEDO_BOUNDS[1]:g} (default 0.3)")
     sky.add_argument("--json", action="store_true", help="print JSON instead of a table")
     sky.set_defaults(run=cmd_sky)

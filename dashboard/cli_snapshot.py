@@ -4,51 +4,41 @@ from __future__ import annotations
 
 import sys
 import time
-from pathlib import Path
 
-from orbitdeck.models.files import MAX_FILE_BYTES, Problem, SystemFileError
-
-#: snapshots are larger than system files: refuse pages above this when extracting [bytes]
-MAX_SNAPSHOT_BYTES = 64 * 1024 * 1024
-
-
-def _read(path, limit: int) -> bytes:
-    try:
-        size = Path(path).stat().st_size
-        if size > limit:
-            raise SystemFileError([Problem(str(path), "", f"file is {size} bytes; the limit is {limit} bytes")])
-        return Path(path).read_bytes()
-    except OSError as error:
-        raise SystemFileError([Problem(str(path), "", f"cannot be read: {error.strerror or error}")]) from None
+from orbitdeck.models.files import read_regular_file
 
 
 def cmd_snapshot(args) -> int:
-    from orbitdeck.dashboard.cli import EXIT_BAD_INPUT
-    from orbitdeck.dashboard.snapshot import extract_system_text, write_snapshot
+    from orbitdeck.dashboard.cli import EXIT_BAD_INPUT, say
+    from orbitdeck.dashboard.snapshot import MAX_SNAPSHOT_BYTES, extract_system_text, write_snapshot
 
     if args.extract:
-        page = _read(args.extract, MAX_SNAPSHOT_BYTES).decode("utf-8", errors="replace")
-        sys.stdout.write(extract_system_text(page, args.extract))
+        page = read_regular_file(args.extract, MAX_SNAPSHOT_BYTES, "snapshot pages").decode("utf-8", errors="replace")
+        text = extract_system_text(page, args.extract)
+        if sys.stdout.isatty():  # for reading: a right-to-left override in the notes must not reorder the screen
+            from orbitdeck.dashboard.text_tables import terminal_safe
+
+            text = terminal_safe(text, keep="\n\t")
+        sys.stdout.write(text)
         return 0
     if not args.output:
-        print("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)", file=sys.stderr)
+        say("orbitdeck snapshot: -o OUT.html is required (or --extract PAGE)")
         return EXIT_BAD_INPUT
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import loads_system
+    from orbitdeck.dashboard.cli import _source, _system
 
-    source = args.file or str(demo_path())
-    data = _read(source, MAX_FILE_BYTES)
-    system = loads_system(data, source)
+    source = _source(args.file)
+    system = _system(source)
     start = time.perf_counter()
-    size = write_snapshot(args.output, system, Path(source).name, data, time=args.time,
-                          samples=args.samples, seed=args.seed)
-    print(f"wrote {args.output} ({size / 1e6:.1f} MB in {time.perf_counter() - start:.1f} s)", file=sys.stderr)
+    size = write_snapshot(args.output, system, source.name, source.data, time=args.time,
+                          samples=args.samples, seed=args.seed, overwrite=args.overwrite)
+    say(f"wrote {args.output} ({size / 1e6:.1f} MB in {time.perf_counter() - start:.1f} s)")
     return 0
 
 
 def register(commands) -> None:
     """Add the ``snapshot`` subcommand."""
-    from orbitdeck.dashboard.cli import DEFAULT_SEED, _add_file
+    from orbitdeck.dashboard.cli import (DEFAULT_SAMPLES, DEFAULT_SEED, MAX_SAMPLES, MAX_SEED, _add_file,
+                                         add_overwrite, bounded, time_value)
 
     snapshot = commands.add_parser(
         "snapshot", help="write every view to one self-contained HTML file",
@@ -57,11 +47,13 @@ def register(commands) -> None:
                     "the system file embedded in such a page.")
     _add_file(snapshot)
     snapshot.add_argument("-o", "--output", metavar="OUT.html", help="the page to write")
-    snapshot.add_argument("--time", type=float, metavar="BJD", help="time of the positions [BJD_TDB]; "
-                                                                    "default: the system epoch")
-    snapshot.add_argument("--samples", type=int, default=0, metavar="N",
-                          help="Monte Carlo samples for intervals (default 0: nominal values only)")
-    snapshot.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
-                          help=f"seed of the random generator (default {DEFAULT_SEED})")
+    add_overwrite(snapshot, "OUT.html")
+    snapshot.add_argument("--time", type=time_value, metavar="BJD", help="time of the positions [BJD_TDB]; "
+                                                                         "default: the system epoch")
+    snapshot.add_argument("--samples", type=bounded(0, MAX_SAMPLES, whole=True), default=DEFAULT_SAMPLES, metavar="N",
+                          help=f"Monte Carlo samples for 16th-84th percentile intervals, 0 to {MAX_SAMPLES}; 0 for "
+                               f"nominal values only (default {DEFAULT_SAMPLES}, as for table)")
+    snapshot.add_argument("--seed", type=bounded(0, MAX_SEED, whole=True), default=DEFAULT_SEED, metavar="S",
+                          help=f"seed of the random generator, 0 to {MAX_SEED} (default {DEFAULT_SEED})")
     snapshot.add_argument("--extract", metavar="PAGE", help="print the system file embedded in a snapshot page")
     snapshot.set_defaults(run=cmd_snapshot)

@@ -1,6 +1,7 @@
 """``orbitdeck serve``: the dashboard on a local Panel server.
 
-The server listens on 127.0.0.1 only. Every browser session gets its own
+The server listens on 127.0.0.1 only, and answers no request from a page of
+another website (:mod:`orbitdeck.dashboard.request_guard`). Every browser session gets its own
 app object built around its own copy of the system (``System.copy()``), so
 an edit in one tab never shows in another; the system read at start-up is
 only ever copied, never edited.
@@ -33,9 +34,19 @@ EXIT_BAD_INPUT = 2
 UNUSED_SESSION_LIFETIME_MS = 10_000
 #: how often the server looks for such sessions [ms] (Bokeh's default 17000)
 CHECK_UNUSED_SESSIONS_MS = 2_000
+#: largest message the server takes from a browser [bytes]: a system file of the largest size (2 MiB) takes
+#: 2.8 MB in base64; larger files are refused by the page before they are sent (views.upload)
+WEBSOCKET_MAX_MESSAGE_BYTES = 8 * 1024 * 1024
 def port_is_free(port: int, host: str = HOST) -> bool:
-    """True when ``host:port`` can be bound now."""
+    """True when ``host:port`` can be served on now.
+
+    The probe binds as the server does, with ``SO_REUSEADDR``: a port whose
+    last connections are in TIME_WAIT (the server stopped while a page was
+    open) can be served on at once, while one that another process listens on
+    still counts as taken.
+    """
     with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
+        probe.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
         try:
             probe.bind((host, port))
         except OSError:
@@ -61,17 +72,25 @@ def choose_port(requested: int | None) -> int:
     raise OSError(f"no free port in {DEFAULT_PORT}-{DEFAULT_PORT + PORT_SEARCH - 1} on {HOST}")
 
 
-def _read(path_or_none):
-    from orbitdeck.demo_systems import demo_path
-    from orbitdeck.models import load_system
+def _source(path_or_none):
+    """The bytes of the system file (the bundled demo when None), with their name and SHA-256."""
+    from orbitdeck.models.sources import demo_source, read_source
 
-    return load_system(path_or_none if path_or_none else demo_path())
+    return read_source(path_or_none) if path_or_none else demo_source()
+
+
+def _read(path_or_none):
+    """The system to serve (the default demo for None); notes on the file are printed as warnings."""
+    from .cli import _system
+
+    return _system(_source(path_or_none))
 
 
 def server_settings() -> dict:
-    """Bokeh server options that release the session of a closed page promptly."""
+    """Bokeh server options that release the session of a closed page promptly and bound a browser's messages."""
     return {"unused_session_lifetime_milliseconds": UNUSED_SESSION_LIFETIME_MS,
-            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS}
+            "check_unused_sessions_milliseconds": CHECK_UNUSED_SESSIONS_MS,
+            "websocket_max_message_size": WEBSOCKET_MAX_MESSAGE_BYTES}
 
 
 def warm_up() -> None:
@@ -89,8 +108,9 @@ def page_title(system) -> str:
     return f"{system.name} \u2013 orbitdeck"
 
 
-def session_factory(system):
-    """A function building one session's page around a fresh copy of ``system``."""
+def session_factory(system, source=None, channel=None):
+    """A function building one session's page around a fresh copy of ``system`` (read from ``source``);
+    with a presenter ``channel``, the session joins it (see :mod:`orbitdeck.dashboard.presenter`)."""
     def make_app():
         import panel as pn
 
@@ -99,12 +119,20 @@ def session_factory(system):
 
         # inside a session Panel keeps this configuration for the session alone
         pn.extension("tabulator", raw_css=[PAGE_CSS])
-        return OrbitDeckApp(system.copy()).page()
+        app = OrbitDeckApp(system.copy(), source=source)
+        page = app.page()
+        if channel is not None:
+            from .presenter import PresenterLink, session_token
+
+            link = PresenterLink(app, channel, pn.state.curdoc, session_token())
+            app.main.insert(0, link.strip)
+        return page
 
     return make_app
 
 
-def serve(path_or_none=None, port: int | None = None, show: bool = True, share: list[str] | None = None) -> int:
+def serve(path_or_none=None, port: int | None = None, show: bool = True, share: list[str] | None = None,
+          present: bool = False) -> int:
     """Serve the dashboard of a system file (the bundled demo when None) until interrupted.
 
     Parameters
@@ -118,6 +146,10 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     share : list of str, optional
         ``host:port`` origins allowed to open sessions; when given, the
         server listens on every interface (see :mod:`orbitdeck.dashboard.sharing`).
+    present : bool
+        Presenter mode: one session presents, the others follow read-only
+        (see :mod:`orbitdeck.dashboard.presenter`); the token that lets a
+        page present is printed.
 
     Returns
     -------
@@ -126,16 +158,21 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     """
     from orbitdeck.models import SystemFileError
 
+    from .cli import say
+
     try:
-        system = _read(path_or_none)
+        from .cli import _system
+
+        source = _source(path_or_none)
+        system = _system(source)
     except SystemFileError as error:
         for problem in error.problems:
-            print(problem, file=sys.stderr)
+            say(str(problem))
         return EXIT_BAD_INPUT
     try:
         port = choose_port(port)
     except OSError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
 
     from .sharing import share_notice, share_settings
@@ -143,20 +180,30 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
     try:
         settings = share_settings(list(share or []), port)
     except ValueError as error:
-        print(f"orbitdeck serve: {error}", file=sys.stderr)
+        say(f"orbitdeck serve: {error}")
         return EXIT_BAD_INPUT
-    import panel as pn
-
     warm_up()
     url = f"http://{HOST}:{port}/{ROUTE}"
     print(f"orbitdeck: serving {system.name!r} at {url} (Ctrl+C to stop)", flush=True)
     notice = share_notice(settings, ROUTE)
     if notice:
         print(notice, flush=True)
+    channel = None
+    if present:
+        from .presenter import QUERY_ARGUMENT, PresenterChannel
+
+        channel = PresenterChannel()
+        print(f"presenter mode: the first page opened presents and every other page follows it, read-only. "
+              f"To present from another page, open {url}?{QUERY_ARGUMENT}={channel.token} or type the token "
+              f"{channel.token} into the page.", flush=True)
+    from .request_guard import guarded_server
+
+    server = guarded_server({ROUTE: session_factory(system, source, channel)}, settings, show=show,
+                            title={ROUTE: page_title(system)},
+                            threaded=False, verbose=False, **server_settings())
     try:
-        # every session starts from this system: its page opens with this title (the page follows later changes)
-        pn.serve({ROUTE: session_factory(system)}, show=show, start=True, title={ROUTE: page_title(system)},
-                 threaded=False, verbose=False, **server_settings(), **settings)
+        server.start()
+        server.io_loop.start()
     except KeyboardInterrupt:
         pass
     return 0
@@ -164,7 +211,7 @@ def serve(path_or_none=None, port: int | None = None, show: bool = True, share: 
 
 def run(args) -> int:
     """The ``serve`` subcommand (argparse namespace -> exit code)."""
-    return serve(args.file, port=args.port, show=not args.no_show, share=args.share)
+    return serve(args.file, port=args.port, show=not args.no_show, share=args.share, present=args.present)
 
 
 def _port(text: str) -> int:
@@ -187,6 +234,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--share", type=origins_argument, default=None, metavar="HOST:PORT[,HOST:PORT...]",
                         help="let browsers at these origins open sessions: listens on every interface, with no "
                              "log-in; only on a trusted network (a caution is printed)")
+    parser.add_argument("--present", action="store_true",
+                        help="presenter mode: the first page (or one given the printed token) presents; every "
+                             "other page follows it live and read-only; the presenter can hand over")
     parser.set_defaults(run=run)
 
 

@@ -2,7 +2,7 @@
 
 from importlib.resources import files
 
-DEFAULT_DEMO = "ember_chain"
+DEFAULT_DEMO = "ossery_loom"
 
 
 def demo_path(name: str = DEFAULT_DEMO):

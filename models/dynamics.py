@@ -1,4 +1,4 @@
-"""Dynamical spacing and tidal evolution."""
+"""Dynamical spacing, Hill stability, first-order resonance overlap and tidal evolution."""
 
 from __future__ import annotations
 
@@ -8,6 +8,11 @@ from .constants import G
 
 #: spacing below which two planets are Hill unstable on circular orbits (Gladman 1993)
 HILL_STABLE_SPACING = 2.0 * np.sqrt(3.0)
+
+#: Deck, Payne & Holman 2013 (ApJ 774, 129): first-order resonances of two planets on nearly
+#: circular orbits overlap for (a' - a) / a < 1.46 epsilon^(2/7), epsilon = (m + m') / M*
+OVERLAP_COEFFICIENT = 1.46
+OVERLAP_EXPONENT = 2.0 / 7.0
 
 # Gladman et al. 1996 (Icarus 122, 166) fiducial values for a rocky body
 TIDAL_Q = 100.0
@@ -56,6 +61,51 @@ def mutual_hill_spacing(a_in, a_out, m_in, m_out, star_mass):
     not Hill stable (Gladman 1993, Icarus 106, 247).
     """
     return (a_out - a_in) / mutual_hill_radius(a_in, a_out, m_in, m_out, star_mass)
+
+
+def gladman_hill_stable(a_in, a_out, e_in, e_out, mu_in, mu_out):
+    """Hill stability of two planets on coplanar eccentric orbits (Gladman 1993, Icarus 106, 247).
+
+    Hill stable (no close approach ever) when
+    lambda^-3 (mu1 + mu2 / delta^2) (mu1 gamma1 + mu2 gamma2 delta)^2 > 1 + 3^(4/3) mu1 mu2 / lambda^(4/3),
+    with mu_i = m_i / M*, lambda = mu1 + mu2, gamma_i = sqrt(1 - e_i^2) and
+    delta = sqrt(a2 / a1) (Gladman's criterion for eccentric orbits, to first order in the masses).
+    For circular orbits it reduces to a2 - a1 > 2 sqrt(3) mutual Hill radii.
+
+    Parameters
+    ----------
+    a_in, a_out : array_like
+        Semi-major axes in one unit, a_in < a_out.
+    e_in, e_out : array_like
+        Eccentricities.
+    mu_in, mu_out : array_like
+        Planet masses over the star's.
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    total = mu_in + mu_out
+    delta = np.sqrt(a_out / a_in)
+    gamma_in, gamma_out = np.sqrt(1.0 - e_in**2), np.sqrt(1.0 - e_out**2)
+    left = total**-3 * (mu_in + mu_out / delta**2) * (mu_in * gamma_in + mu_out * gamma_out * delta) ** 2
+    return left > 1.0 + 3.0 ** (4.0 / 3.0) * mu_in * mu_out / total ** (4.0 / 3.0)
+
+
+def overlap_spacing(epsilon):
+    """Spacing (a' - a) / a below which first-order resonances overlap: 1.46 epsilon^(2/7).
+
+    Deck, Payne & Holman 2013 (ApJ 774, 129) for two massive planets on
+    nearly circular orbits (e up to ~0.1 in their integrations), epsilon =
+    (m + m') / M*; inside it the motion is chaotic and the pair is expected
+    to be unstable.
+    """
+    return OVERLAP_COEFFICIENT * np.asarray(epsilon) ** OVERLAP_EXPONENT
+
+
+def in_overlap_zone(a_in, a_out, epsilon):
+    """Whether a pair lies inside the first-order resonance-overlap zone of :func:`overlap_spacing`."""
+    return (a_out - a_in) / a_in < overlap_spacing(epsilon)
 
 
 def tidal_locking_time(a_m, planet_mass_kg, planet_radius_m, star_mass_kg,

@@ -3,28 +3,35 @@
 Loading parses the TOML with the standard library and checks every field;
 nothing in a file is ever evaluated. Every problem is reported with the
 file, the field path (``planets[2].eccentricity``) and the reason, all at
-once, as a :class:`SystemFileError`. Saving writes a temporary file beside
-the target and renames it over, so a failed save never damages a file.
+once, as a :class:`SystemFileError`; what is doubtful but usable (astropy's
+remarks on an unusual unit string) comes back as notes naming the file and
+field too. Only regular files of at most :data:`MAX_FILE_BYTES` are read,
+holding at most :data:`~orbitdeck.models.system.MAX_PLANETS` planets.
+Saving writes a temporary file beside the target and renames it over, so a
+failed save never damages a file (see :mod:`.safe_io`), and never writes
+what loading would refuse.
 """
 
 from __future__ import annotations
 
-import json
 import math
-import os
-import re
-import stat
-import tempfile
 import tomllib
-from dataclasses import dataclass
-from pathlib import Path
+import warnings
 
 import astropy.units as u
 import param
 import tomli_w
 
+from .file_sky import SkyFields, _join, _kind
+from .names import display_key, name_problem
+from .problems import Problem, SystemFileError, SystemFileWarning
 from .quantity import Uncertainty
-from .system import REDISTRIBUTION_FACTORS, Assumptions, Planet, Star, System, _Body
+from .safe_io import atomic_write, read_regular_file
+from .system import MAX_PLANETS, REDISTRIBUTION_FACTORS, Assumptions, Planet, Star, System, _Body
+
+__all__ = ["FORMAT", "MAX_FILE_BYTES", "Problem", "SystemFileError", "SystemFileWarning", "atomic_write",
+           "dumps_system", "load_system", "loads_system", "read_regular_file", "save_system",
+           "system_from_document", "system_to_document"]
 
 FORMAT = "orbitdeck-system/1"
 #: files larger than this are refused before parsing [bytes]
@@ -32,35 +39,18 @@ MAX_FILE_BYTES = 2 * 1024 * 1024
 
 _QUANTITY_KEYS = {"value", "sigma", "plus", "minus", "unit", "ref"}
 _REQUIRED = {Star: ("mass", "radius", "teff"), Planet: ("period", "radius"), Assumptions: ()}
+#: keys of ``[assumptions] free_eccentricity``: the Assumptions parameter each sets and its unit
+_FREE_ECCENTRICITY_KEYS = {"amplitude": ("free_eccentricity_amplitude", None),
+                           "angle": ("free_eccentricity_angle", "deg")}
 
 
-@dataclass(frozen=True)
-class Problem:
-    """One thing wrong with a system file."""
-
-    file: str
-    field: str
-    reason: str
-
-    def __str__(self) -> str:
-        where = f"{self.file}: {self.field}: " if self.field else f"{self.file}: "
-        return where + self.reason
-
-
-class SystemFileError(ValueError):
-    """A system file that cannot be read or written; ``problems`` lists why."""
-
-    def __init__(self, problems: list[Problem]):
-        self.problems = list(problems)
-        super().__init__("\n".join(str(p) for p in self.problems))
-
-
-class _Checker:
-    """Collects problems while a document is turned into param objects."""
+class _Checker(SkyFields):
+    """Collects problems (and notes on usable oddities) while a document is turned into param objects."""
 
     def __init__(self, source: str):
         self.source = source
         self.problems: list[Problem] = []
+        self.notes: list[Problem] = []
 
     def fail(self, path: str, reason: str) -> None:
         self.problems.append(Problem(self.source, path, reason))
@@ -77,7 +67,8 @@ class _Checker:
                 self.fail(_join(path, key), "required key is missing")
         return doc
 
-    def text(self, doc, path, key, default=None, required=False):
+    def text(self, doc, path, key, default=None, required=False, name=False):
+        """A string field; with ``name``, one that must show as itself (see :mod:`.names`)."""
         if key not in doc:
             return default
         value = doc[key]
@@ -86,6 +77,8 @@ class _Checker:
             return default
         if required and not value.strip():
             self.fail(_join(path, key), "must not be empty")
+        elif name and name_problem(value):
+            self.fail(_join(path, key), name_problem(value))
         return value
 
     def number(self, value, path) -> float | None:
@@ -146,10 +139,17 @@ class _Checker:
             self.fail(path, f"must be a unit string, not {_kind(text)}")
             return None
         try:
-            given = u.Unit(text, parse_strict="raise")
+            with warnings.catch_warnings(record=True) as remarks:
+                warnings.simplefilter("always")
+                given = u.Unit(text, parse_strict="raise")
         except (ValueError, TypeError):
             self.fail(path, f"{text!r} is not a unit astropy knows")
             return None
+        for remark in remarks:
+            if issubclass(remark.category, u.UnitsWarning):
+                self.notes.append(Problem(self.source, path, f"astropy: {remark.message}"))
+            else:  # not about the unit (another thread's, say): passed on as it came
+                warnings.warn_explicit(remark.message, remark.category, remark.filename, remark.lineno)
         target = u.dimensionless_unscaled if unit is None else u.Unit(unit)
         try:
             factor = float(given.to(target))
@@ -164,13 +164,14 @@ class _Checker:
 
     def body(self, cls, raw, path):
         """A Star, Planet or Assumptions from its table, or None."""
-        allowed = set(cls.UNITS) | ({"heat_redistribution"} if cls is Assumptions else {"name"})
+        allowed = (set(cls.UNITS) | ({"heat_redistribution", "free_eccentricity"} if cls is Assumptions else {"name"})
+                   | set(getattr(cls, "POSITION_FIELDS", ())))
         before = len(self.problems)
         if self.table(raw, path, allowed, ("name", *_REQUIRED[cls]) if cls is not Assumptions else ()) is None:
             return None
         values, spreads, refs = {}, {}, {}
         if cls is not Assumptions:
-            values["name"] = self.text(raw, path, "name", required=True)
+            values["name"] = self.text(raw, path, "name", required=True, name=True)
         for key, unit in cls.UNITS.items():
             if key not in raw:
                 continue
@@ -191,9 +192,27 @@ class _Checker:
                           f"must be one of {', '.join(map(repr, REDISTRIBUTION_FACTORS))}, not {choice!r}")
             elif isinstance(choice, str):
                 values["heat_redistribution"] = choice
+        if cls is Star:
+            values.update(self.position(raw, path))
+        if cls is Assumptions and "free_eccentricity" in raw:
+            values.update(self.free_eccentricity(raw["free_eccentricity"], _join(path, "free_eccentricity")))
         if len(self.problems) > before:
             return None
         return cls(**values, uncertainties=spreads, refs=refs)
+
+    def free_eccentricity(self, raw, path) -> dict:
+        """The free eccentricity Z_free of the TTV amplitudes, ``{ amplitude = .., angle = .. }``
+        (angle in degrees), as Assumptions values; each key may be left out (default 0)."""
+        if self.table(raw, path, _FREE_ECCENTRICITY_KEYS) is None:
+            return {}
+        values = {}
+        for key, (field, unit) in _FREE_ECCENTRICITY_KEYS.items():
+            if key not in raw:
+                continue
+            number = self.number(raw[key], _join(path, key))
+            if number is not None and self.in_bounds(Assumptions.param[field], number, _join(path, key), unit):
+                values[field] = number
+        return values
 
     def in_bounds(self, parameter: param.Number, value: float, path: str, unit: str | None) -> bool:
         lo, hi = parameter.bounds or (None, None)
@@ -208,32 +227,34 @@ class _Checker:
         return True
 
 
-def _join(path: str, key: str) -> str:
-    if not re.fullmatch(r"[A-Za-z0-9_-]+", key):
-        key = json.dumps(key)
-    return f"{path}.{key}" if path else key
+def system_from_document(doc: dict, source: str = "<document>", notes: list | None = None) -> System:
+    """A :class:`System` from a parsed system-file document; raises :class:`SystemFileError`.
 
-
-def _kind(value) -> str:
-    return {bool: "a boolean", str: "a string", dict: "a table", list: "an array",
-            int: "an integer", float: "a number"}.get(type(value), type(value).__name__)
-
-
-def system_from_document(doc: dict, source: str = "<document>") -> System:
-    """A :class:`System` from a parsed system-file document; raises :class:`SystemFileError`."""
+    Notes on usable oddities (astropy's remarks on a unit string) are
+    appended to ``notes`` when it is a list, else issued as
+    :class:`SystemFileWarning`; each names the file and the field.
+    """
     check = _Checker(source)
-    if check.table(doc, "", {"format", "system", "assumptions", "star", "planets"},
+    if check.table(doc, "", {"format", "system", "assumptions", "star", "planets", "sites"},
                    ("format", "system", "star", "planets")) is None:
         raise SystemFileError(check.problems)
+    raw_planets = doc.get("planets", [])
+    if isinstance(raw_planets, list) and len(raw_planets) > MAX_PLANETS:
+        # refused before anything else is looked at: the work grows as the square of the count
+        raise SystemFileError([Problem(source, "planets", f"holds {len(raw_planets)} planets; a system may "
+                                                          f"hold at most {MAX_PLANETS}")])
     if "format" in doc and doc["format"] != FORMAT:
         check.fail("format", f"must be {FORMAT!r}, not {doc['format']!r}")
     header = check.table(doc.get("system", {}), "system", {"name", "notes", "epoch"}, ("name",)) or {}
-    name = check.text(header, "system", "name", "unnamed system", required=True)
-    notes = check.text(header, "system", "notes", "")
-    epoch = check.number(header["epoch"], "system.epoch") if "epoch" in header else System.param.epoch.default
+    name = check.text(header, "system", "name", "unnamed system", required=True, name=True)
+    text = check.text(header, "system", "notes", "")
+    epoch = System.param.epoch.default
+    if "epoch" in header:
+        epoch = check.number(header["epoch"], "system.epoch")
+        if epoch is not None and not check.in_bounds(System.param.epoch, epoch, "system.epoch", "d"):
+            epoch = None
     assumptions = check.body(Assumptions, doc.get("assumptions", {}), "assumptions")
     star = check.body(Star, doc["star"], "star") if "star" in doc else None
-    raw_planets = doc.get("planets", [])
     planets = []
     if not isinstance(raw_planets, list):
         check.fail("planets", f"must be an array of tables ([[planets]]), not {_kind(raw_planets)}")
@@ -245,40 +266,50 @@ def system_from_document(doc: dict, source: str = "<document>") -> System:
         for i, planet in enumerate(planets):
             if planet is None:
                 continue
-            if planet.name in seen:
-                check.fail(f"planets[{i}].name", f"duplicate planet name {planet.name!r} (also planets[{seen[planet.name]}])")
-            seen.setdefault(planet.name, i)
+            key = display_key(planet.name)
+            if key in seen:
+                other = planets[seen[key]].name
+                check.fail(f"planets[{i}].name", f"duplicate planet name {planet.name!r} (also planets[{seen[key]}]"
+                           + ("" if other == planet.name else f", whose name {other!r} looks the same") + ")")
+            seen.setdefault(key, i)
+    sites = check.sites(doc["sites"]) if "sites" in doc else []
     if check.problems:
         raise SystemFileError(check.problems)
-    return System(name=name, notes=notes, epoch=epoch, star=star, assumptions=assumptions, planets=planets)
+    if notes is None:
+        for note in check.notes:
+            warnings.warn(SystemFileWarning(str(note)), stacklevel=3)
+    else:
+        notes.extend(check.notes)
+    return System(name=name, notes=text, epoch=epoch, star=star, assumptions=assumptions, planets=planets,
+                  sites=sites)
 
 
-def load_system(path) -> System:
+def load_system(path, notes: list | None = None) -> System:
     """Read a system file.
 
     Parameters
     ----------
     path : str or os.PathLike
-        The ``orbitdeck-system/1`` TOML file.
+        The ``orbitdeck-system/1`` TOML file: a regular file (or a link to
+        one) of at most :data:`MAX_FILE_BYTES` bytes.
+    notes : list, optional
+        Receives a :class:`Problem` for each usable oddity (astropy's remarks
+        on a unit string); without it they are issued as :class:`SystemFileWarning`.
 
     Raises
     ------
     SystemFileError
         With every problem found, each naming the file, field and reason.
     """
-    source = str(path)
-    try:
-        size = os.stat(path).st_size
-        if size > MAX_FILE_BYTES:
-            raise SystemFileError([Problem(source, "", f"file is {size} bytes; system files are limited to "
-                                                        f"{MAX_FILE_BYTES} bytes")])
-        data = Path(path).read_bytes()
-    except OSError as error:
-        raise SystemFileError([Problem(source, "", f"cannot be read: {error.strerror or error}")]) from None
-    return loads_system(data, source)
+    return loads_system(read_regular_file(path, MAX_FILE_BYTES), str(path), notes)
 
 
-def loads_system(data: bytes | str, source: str = "<text>") -> System:
+def read_system_bytes(path) -> bytes:
+    """The bytes of a system file: a regular file of at most :data:`MAX_FILE_BYTES` (SystemFileError otherwise)."""
+    return read_regular_file(path, MAX_FILE_BYTES)
+
+
+def loads_system(data: bytes | str, source: str = "<text>", notes: list | None = None) -> System:
     """Parse a system file's content (bytes or text); see :func:`load_system`."""
     if isinstance(data, bytes):
         if len(data) > MAX_FILE_BYTES:
@@ -291,6 +322,8 @@ def loads_system(data: bytes | str, source: str = "<text>") -> System:
     elif len(data) > MAX_FILE_BYTES:
         raise SystemFileError([Problem(source, "", f"content is over {MAX_FILE_BYTES} characters; system files "
                                                     f"are limited to {MAX_FILE_BYTES} bytes")])
+    if data.startswith("\ufeff"):  # a byte-order mark, which some editors write before UTF-8 text
+        data = data[1:]
     if not data.strip():
         raise SystemFileError([Problem(source, "", "is empty")])
     try:
@@ -299,7 +332,7 @@ def loads_system(data: bytes | str, source: str = "<text>") -> System:
         raise SystemFileError([Problem(source, "", f"is not valid TOML: {error}")]) from None
     except RecursionError:
         raise SystemFileError([Problem(source, "", "is not valid TOML: nested too deeply")]) from None
-    return system_from_document(doc, source)
+    return system_from_document(doc, source, notes)
 
 
 def _quantity_out(body: _Body, key: str):
@@ -320,6 +353,9 @@ def _body_out(body: _Body, with_name: bool = True) -> dict:
     for key in body.UNITS:
         if getattr(body, key) is not None:
             out[key] = _quantity_out(body, key)
+    for key in getattr(body, "POSITION_FIELDS", ()):
+        if getattr(body, key) is not None:
+            out[key] = getattr(body, key)
     return out
 
 
@@ -327,64 +363,54 @@ def system_to_document(system: System) -> dict:
     """The system-file document of ``system`` (values in the default units)."""
     assumptions = _body_out(system.assumptions, with_name=False)
     assumptions["heat_redistribution"] = system.assumptions.heat_redistribution
-    return {
+    free = {key: getattr(system.assumptions, field) for key, (field, _) in _FREE_ECCENTRICITY_KEYS.items()}
+    if any(free.values()):   # written only when set, so that files without it stay as they were
+        assumptions["free_eccentricity"] = free
+    doc = {
         "format": FORMAT,
         "system": {"name": system.name, "notes": system.notes, "epoch": system.epoch},
         "assumptions": assumptions,
         "star": _body_out(system.star),
         "planets": [_body_out(p) for p in system.planets],
     }
+    if system.sites:
+        doc["sites"] = [{"name": s.name, "latitude": s.latitude, "longitude": s.longitude, "elevation": s.elevation}
+                        for s in system.sites]
+    return doc
 
 
 def dumps_system(system: System) -> str:
     """The system file of ``system`` as TOML text."""
-    return tomli_w.dumps(system_to_document(system))
+    doc = system_to_document(system)
+    sites = doc.pop("sites", [])
+    # each site as its own [[sites]] table, as the format shows it (tomli_w would write short ones inline)
+    return tomli_w.dumps(doc) + "".join(f"\n[[sites]]\n{tomli_w.dumps(site)}" for site in sites)
 
 
-def _current_umask() -> int:
-    """The process umask (read by setting and restoring it)."""
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
-
-
-def atomic_write(path, data: bytes) -> None:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename.
-
-    Raises
-    ------
-    SystemFileError
-        When the folder cannot be written; an existing file is left untouched.
-    """
-    target = Path(path)
-    try:
-        handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
-    except OSError as error:
-        raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
-    try:
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
-            stream.flush()
-            os.fsync(stream.fileno())
-        try:
-            mode = stat.S_IMODE(os.stat(target).st_mode)
-        except FileNotFoundError:
-            mode = 0o666 & ~_current_umask()
-        os.chmod(temporary, mode)
-        os.replace(temporary, target)
-    except BaseException as error:
-        Path(temporary).unlink(missing_ok=True)
-        if isinstance(error, OSError):
-            raise SystemFileError([Problem(str(path), "", f"cannot be written: {error.strerror or error}")]) from None
-        raise
-
-
-def save_system(system: System, path) -> None:
+def save_system(system: System, path, overwrite: bool = False) -> None:
     """Write ``system`` to ``path`` atomically (temporary file, then rename).
 
+    Parameters
+    ----------
+    system : System
+        The system to write.
+    path : str or os.PathLike
+        The file; see :func:`~orbitdeck.models.safe_io.atomic_write` for
+        links, special files and attributes.
+    overwrite : bool
+        Also replace a read-only or hard-linked file.
+
     Raises
     ------
     SystemFileError
-        When the folder cannot be written; the existing file is untouched.
+        When the file would not load back (too large, too many planets...),
+        the target may not be replaced or the folder cannot be written; the
+        existing file is untouched.
     """
-    atomic_write(path, dumps_system(system).encode("utf-8"))
+    data = dumps_system(system).encode("utf-8")
+    try:
+        loads_system(data, str(path), notes=[])
+    except SystemFileError as error:
+        raise SystemFileError([Problem(str(path), "", "not written: the system file would not load back"),
+                               *error.problems]) from None
+    atomic_write(path, data, overwrite=overwrite)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import SIGMA_SB
+from .constants import AU, L_SUN, SIGMA_SB
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
 #: S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K.
@@ -18,6 +18,9 @@ HZ_COEFFICIENTS = np.array([
 ])
 #: Teff range over which Kopparapu et al. 2014 state their fit valid [K]
 HZ_TEFF_RANGE = (2600.0, 7200.0)
+#: coolest Teff to which the fit is extrapolated, flagged as such, for ultracool dwarfs [K]; below,
+#: no habitable zone is given (the polynomial was never meant for brown dwarfs or planets as hosts)
+HZ_EXTRAPOLATED_MIN_TEFF = 1000.0
 HZ_REGIONS = ("too hot", "optimistic inner", "conservative", "optimistic outer", "too cold")
 
 
@@ -65,20 +68,27 @@ def insolation(luminosity_lsun, a_au, eccentricity):
     return luminosity_lsun / a_au**2 / np.sqrt(1.0 - eccentricity**2)
 
 
-def equilibrium_temperature(teff_k, star_radius_m, a_m, bond_albedo, redistribution):
-    """Planetary equilibrium temperature.
+#: the Sun's flux at 1 au [W m^-2], for insolations given in units of Earth's
+SOLAR_FLUX_AT_1AU = L_SUN / (4.0 * np.pi * AU**2)
 
-    Teq = Teff sqrt(R* / a) [f (1 - A)]^(1/4), with f = 1/4 for full
-    redistribution, 1/2 for dayside-only and 2/3 for none (instant
-    re-radiation); e.g. Cowan & Agol 2011, eq. 4, and Kempton et al. 2018.
-    A model estimate: no greenhouse effect, no internal heat.
+
+def equilibrium_temperature(insolation_earth, bond_albedo, redistribution):
+    """Planetary equilibrium temperature from the flux the planet receives.
+
+    Teq = [f (1 - A) F / sigma]^(1/4), F the bolometric flux at the planet,
+    with f = 1/4 for full redistribution, 1/2 for dayside-only and 2/3 for
+    none (instant re-radiation); e.g. Cowan & Agol 2011, eq. 4. For a
+    circular orbit and L = 4 pi R*^2 sigma Teff^4 this is the familiar
+    Teff sqrt(R*/a) [f (1 - A)]^(1/4). Fed the orbit-averaged flux
+    L / (4 pi a^2 sqrt(1 - e^2)) it is the temperature of the time-averaged
+    absorbed power, the convention discussed by Méndez & Rivera-Valentín
+    2017 (ApJL 837, L1). A model estimate: no greenhouse effect, no internal
+    heat.
 
     Parameters
     ----------
-    teff_k : array_like
-        Stellar effective temperature [K].
-    star_radius_m, a_m : array_like
-        Stellar radius and semi-major axis, in one length unit.
+    insolation_earth : array_like
+        Flux received (orbit-averaged) [S_earth: the Sun's flux at 1 au].
     bond_albedo : array_like
         Bond albedo A, 0 <= A < 1.
     redistribution : array_like
@@ -89,7 +99,8 @@ def equilibrium_temperature(teff_k, star_radius_m, a_m, bond_albedo, redistribut
     ndarray
         Equilibrium temperature [K].
     """
-    return teff_k * np.sqrt(star_radius_m / a_m) * (redistribution * (1.0 - bond_albedo)) ** 0.25
+    flux = np.asarray(insolation_earth) * SOLAR_FLUX_AT_1AU
+    return (redistribution * (1.0 - bond_albedo) * flux / SIGMA_SB) ** 0.25
 
 
 def hz_effective_flux(teff_k):
@@ -97,7 +108,8 @@ def hz_effective_flux(teff_k):
 
     S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K
     (Kopparapu et al. 2014, ApJL 787, L29, eq. 4 and Table 1). Valid for
-    2600 K <= Teff <= 7200 K; the caller checks the range.
+    2600 K <= Teff <= 7200 K; the caller checks the range and flags an
+    extrapolation.
 
     Parameters
     ----------
@@ -159,3 +171,51 @@ def hz_region_index(insolation_earth, limit_fluxes):
     """
     s = np.asarray(insolation_earth)[..., None]
     return np.sum(s <= np.asarray(limit_fluxes)[..., None, :], axis=-1)
+
+
+#: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: the runaway-greenhouse rows for planets of
+#: 0.1, 1 and 5 Earth masses (S_eff,sun, a, b, c, d as above)
+RUNAWAY_MASSES_MEARTH = (0.1, 1.0, 5.0)
+RUNAWAY_COEFFICIENTS = np.array([
+    [0.990, 1.209e-4, 1.404e-8, -7.418e-12, -1.713e-15],   # 0.1 Mearth
+    [1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15],   # 1 Mearth
+    [1.188, 1.433e-4, 1.707e-8, -8.968e-12, -2.084e-15],   # 5 Mearth
+])
+
+
+def runaway_greenhouse_flux(teff_k, mass_mearth):
+    """Runaway-greenhouse effective flux for a planet's own mass.
+
+    The Kopparapu et al. 2014 (ApJL 787, L29, eq. 4 and Table 1) limits for
+    0.1, 1 and 5 Earth masses at the star's Teff, interpolated linearly in
+    log10 mass; a mass outside 0.1-5 Mearth takes the nearest published
+    limit (the caller flags it, see :func:`runaway_greenhouse_mass_clamped`).
+    NaN outside 2600-7200 K, where the polynomial is not valid.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K], broadcast against ``mass_mearth``.
+    mass_mearth : array_like
+        Planet mass [Mearth].
+
+    Returns
+    -------
+    ndarray
+        S_eff [S_earth].
+    """
+    teff = np.asarray(teff_k, dtype=float)
+    t = teff - 5780.0
+    limits = [s_sun + a * t + b * t**2 + c * t**3 + d * t**4 for s_sun, a, b, c, d in RUNAWAY_COEFFICIENTS]
+    x = np.log10(np.clip(mass_mearth, *RUNAWAY_MASSES_MEARTH[::2]))
+    low_mass = x < 0.0
+    step = np.where(low_mass, (x + 1.0) / 1.0, x / np.log10(5.0))
+    flux = np.where(low_mass, limits[0] + step * (limits[1] - limits[0]), limits[1] + step * (limits[2] - limits[1]))
+    valid = (teff >= HZ_TEFF_RANGE[0]) & (teff <= HZ_TEFF_RANGE[1])
+    return np.where(valid, flux, np.nan)
+
+
+def runaway_greenhouse_mass_clamped(mass_mearth):
+    """Whether a mass lies outside 0.1-5 Mearth, where Kopparapu et al. 2014 give no runaway limit."""
+    m = np.asarray(mass_mearth)
+    return (m < RUNAWAY_MASSES_MEARTH[0]) | (m > RUNAWAY_MASSES_MEARTH[-1])

@@ -2,10 +2,14 @@
 
 * :func:`chromium` starts the system Chromium (Debian package ``chromium``)
   headless and yields a Playwright ``Browser``; the test is skipped with a
-  clear reason when Chromium or Playwright is missing (and fails under CI,
-  where the test command has installed both).
-* :class:`PageLog` collects console errors, uncaught page errors and every
-  request that tried to leave the machine.
+  clear reason when Chromium or Playwright is missing, and fails instead when
+  ``CI`` is set to true (the test command has installed both there).
+* :class:`PageLog` collects console errors, uncaught page errors, dialogs
+  (dismissed) and every request that tried to leave the machine; its
+  listeners are attached when the page is made, before any navigation.
+* :func:`colour_pixels` and :func:`canvas_colour_pixels` count the pixels of
+  given colours in a screenshot (of the visible plots), so that a test can
+  tell a drawn plot from a blank one without knowing where anything is.
 * :func:`offline_page` opens a page in a fresh browser context in which every
   request whose scheme is not ``file:`` or ``data:`` (or ``blob:``) is
   aborted and recorded.
@@ -14,6 +18,7 @@
 """
 from __future__ import annotations
 
+import io
 import os
 import socket
 import subprocess
@@ -25,7 +30,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from urllib.parse import urlsplit
 
+import numpy as np
 import pytest
+from PIL import Image
 
 CHROMIUM_PATH = "/usr/bin/chromium"
 CHROMIUM_ARGS = [
@@ -48,11 +55,13 @@ class PageLog:
     page_errors: list[str] = field(default_factory=list)
     blocked_requests: list[str] = field(default_factory=list)
     websockets: list[str] = field(default_factory=list)
+    dialogs: list[str] = field(default_factory=list)
 
     def problems(self) -> list[str]:
-        """Every error and every attempted outside request, one line each."""
+        """Every error, dialog and attempted outside request, one line each."""
         return ([f"console error: {m}" for m in self.console_errors]
                 + [f"page error: {m}" for m in self.page_errors]
+                + [f"dialog: {m}" for m in self.dialogs]
                 + [f"blocked request: {u}" for u in self.blocked_requests]
                 + [f"websocket: {u}" for u in self.websockets])
 
@@ -63,9 +72,14 @@ class PageLog:
                 if not (line.startswith("websocket: ") and line[len("websocket: "):].startswith(own_socket))]
 
 
+def running_in_ci() -> bool:
+    """Whether the ``CI`` environment variable says this is a CI run (``true``, ``1`` or ``yes``)."""
+    return os.environ.get("CI", "").strip().lower() in ("true", "1", "yes")
+
+
 @contextmanager
 def chromium():
-    """Headless system Chromium as a Playwright ``Browser``."""
+    """Headless system Chromium as a Playwright ``Browser`` (skipped when missing, failed under CI)."""
     missing = None
     try:
         from playwright import sync_api
@@ -75,7 +89,7 @@ def chromium():
         missing = f"{CHROMIUM_PATH} not installed (Debian package 'chromium')"
     if missing:
         # tests/run_all.sh installs both, so under CI a missing browser is a failure, not a skip
-        (pytest.fail if os.environ.get("CI") else pytest.skip)(missing)
+        (pytest.fail if running_in_ci() else pytest.skip)(missing)
     with sync_api.sync_playwright() as pw:
         browser = pw.chromium.launch(executable_path=CHROMIUM_PATH,
                                      args=CHROMIUM_ARGS, headless=True)
@@ -86,10 +100,16 @@ def chromium():
 
 
 def _attach(page, log: PageLog) -> None:
+    """Listen to everything a page may report, before it loads anything (called before any ``goto``)."""
+    def dialog(d):
+        log.dialogs.append(f"{d.type}: {d.message}")
+        d.dismiss()
+
     page.on("console", lambda msg: log.console_errors.append(msg.text)
             if msg.type == "error" else None)
     page.on("pageerror", lambda exc: log.page_errors.append(str(exc)))
     page.on("websocket", lambda ws: log.websockets.append(ws.url))
+    page.on("dialog", dialog)
 
 
 def _allowed(url: str, origins: tuple[str, ...]) -> bool:
@@ -144,6 +164,62 @@ def screenshot(page, name: str) -> Path:
     path = ARTIFACTS / name
     page.screenshot(path=str(path), full_page=True)
     return path
+
+
+def _rgb(colour: str):
+    """``#rrggbb`` as three integers, 0-255."""
+    return [int(colour[i:i + 2], 16) for i in (1, 3, 5)]
+
+
+def colour_pixels(png: bytes, colours: dict[str, str], strength: tuple[float, float] = (0.6, 1.0),
+                  tolerance: float = 12.0) -> dict[str, int]:
+    """Pixels of a PNG drawn in each of ``colours`` (name -> ``#rrggbb``).
+
+    A pixel counts for a colour when it is that colour laid over white with an
+    opacity within ``strength`` (plots draw glyphs, some translucent, on a
+    white background): it lies on the segment from white towards the colour,
+    at that fraction of the way, within ``tolerance`` (RGB units) of it.
+    """
+    pixels = np.asarray(Image.open(io.BytesIO(png)).convert("RGB"), dtype=float).reshape(-1, 3) - 255.0
+    counts = {}
+    for name, colour in colours.items():
+        towards = np.array(_rgb(colour), dtype=float) - 255.0
+        fraction = pixels @ towards / (towards @ towards)
+        off = np.linalg.norm(pixels - fraction[:, None] * towards, axis=1)
+        low, high = strength
+        counts[name] = int(np.count_nonzero((fraction >= low) & (fraction <= high + 0.02) & (off <= tolerance)))
+    return counts
+
+
+def canvas_colour_pixels(page, colours: dict[str, str], **options) -> dict[str, int]:
+    """:func:`colour_pixels` summed over every visible plot canvas of ``page`` (each scrolled into view and
+    photographed on its own, so controls and tables around the plots count for nothing)."""
+    totals = dict.fromkeys(colours, 0)
+    canvases = page.locator(".bk-Canvas:visible")
+    for index in range(canvases.count()):
+        canvas = canvases.nth(index)
+        box = canvas.bounding_box()
+        if not box or box["width"] < 10 or box["height"] < 10:
+            continue
+        for name, count in colour_pixels(canvas.screenshot(), colours, **options).items():
+            totals[name] += count
+    return totals
+
+
+def habitable_zone_pixels(page, derived) -> dict[str, int]:
+    """Pixels of the habitable-zone band's conservative and optimistic steps over every visible plot
+    canvas (each step's colour laid over white at the opacity the views give it)."""
+    from orbitdeck.dashboard.views import habitable
+
+    limits = habitable.limits_of(derived)
+    _, _, colours, zone = habitable.steps(list(limits.values()))
+    totals = {}
+    for kind, wanted in (("conservative", zone == 1), ("optimistic", zone != 1)):
+        alpha = habitable.alphas(zone[wanted][:1], habitable.extrapolated(derived))[0]
+        step_colours = {str(i): c for i, c in enumerate(np.asarray(colours)[wanted])}
+        totals[kind] = sum(canvas_colour_pixels(page, step_colours, strength=(alpha - 0.08, alpha + 0.05),
+                                                tolerance=4.0).values())
+    return totals
 
 
 def free_port() -> int:

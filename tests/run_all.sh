@@ -1,11 +1,16 @@
 #!/usr/bin/env bash
-# Installs everything the tests need (the package with its test extra, and
-# Debian's chromium for the browser tests when it is missing), then runs the
+# Installs everything the tests need into a virtual environment of their own (.venv-test, beside
+# this checkout's files: the user's own Python environment and any orbitdeck installed there are
+# left alone), installs Debian's chromium for the browser tests when it is missing, then runs the
 # whole suite. Exits non-zero on any failure, and when pytest collected no test.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
-python3 -m pip install --quiet --disable-pip-version-check -e ".[test]"
+VENV=.venv-test
+if [ ! -x "$VENV/bin/python" ]; then
+    python3 -m venv "$VENV"
+fi
+"$VENV/bin/python" -m pip install --quiet --disable-pip-version-check -e ".[test]"
 
 if ! command -v chromium >/dev/null 2>&1; then
     echo "installing Debian's chromium for the browser tests"
@@ -15,7 +20,7 @@ if ! command -v chromium >/dev/null 2>&1; then
 fi
 
 status=0
-python3 -m pytest tests -q -p no:cacheprovider "$@" || status=$?
+"$VENV/bin/python" -m pytest tests -q -p no:cacheprovider "$@" || status=$?
 if [ "$status" -eq 5 ]; then
     echo "pytest collected no tests: failing on purpose" >&2
     exit 1

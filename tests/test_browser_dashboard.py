@@ -17,18 +17,19 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from browser_support import open_page, screenshot, served, wait_for
+from browser_support import canvas_colour_pixels, habitable_zone_pixels, open_page, screenshot, served, wait_for
+from orbitdeck.dashboard.views import palette
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 
 pytestmark = pytest.mark.browser
 
-VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
+VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics")
 VIEWPORT = {"width": 1500, "height": 1100}
 LAPTOP = {"width": 1280, "height": 900}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "arcsec_range", "Period ladder": "other_text",
-                  "Flux & temperature": "teq", "Observability": "tsm_range"}
+                  "Flux & temperature": "teq", "Observability": "tsm_range", "Dynamics": "ratio"}
 #: the column of the semi-major axis in the tables
 A_FIELD = "semi_major_axis_au"
 
@@ -106,10 +107,10 @@ def switch_on(page, label: str) -> None:
 
 def test_every_view_renders_offline_without_errors(browser, demo_url):
     with dashboard(browser, demo_url) as (page, log):
-        assert "Tamsin Reach" in page.title()
-        # the sky matrix holds the full grid of 7 observers x 8 bodies (a planet's own cell left empty)
-        rows = {"Layout": 7, "Neighbour skies": 56, "Period ladder": 12, "Flux & temperature": 7,
-                "Observability": 7}
+        assert "Ossery Loom" in page.title()
+        # the sky matrix holds the full grid of 5 observers x 6 bodies (a planet's own cell left empty)
+        rows = {"Layout": 5, "Neighbour skies": 30, "Period ladder": 8, "Flux & temperature": 5,
+                "Observability": 5, "Dynamics": 4}
         for view in VIEWS:
             show(page, view)
             canvases = page.locator(".bk-Canvas:visible")
@@ -120,6 +121,42 @@ def test_every_view_renders_offline_without_errors(browser, demo_url):
             page.wait_for_timeout(600)
             slug = view.lower().replace(" & ", "_").replace(" ", "_")
             screenshot(page, f"dashboard_{slug}.png")
+
+
+#: a plot counts as drawn when it shows at least this many pixels of planet colours, with at least
+#: ``MIN_PLANET_COLOURS`` of the palette's colours (or every planet's, if fewer) among them
+MIN_PLANET_PIXELS = 300
+MIN_PLANET_COLOURS = 3
+#: pixels of one colour below which it is not counted as shown (antialiasing leaves a few anywhere)
+MIN_PIXELS_OF_A_COLOUR = 20
+#: the translucent habitable-zone fills: each fill colour over this many pixels of the Layout view
+MIN_HZ_PIXELS = 2000
+
+
+def planet_palette(names) -> dict[str, str]:
+    """Planet name -> colour, as a new session's colour book gives them (in order of first appearance)."""
+    return dict(zip(names, palette.ColourBook(names).colours(names)))
+
+
+def test_every_view_draws_the_planets_in_their_colours(browser, demo_url):
+    # a blank plot (or one drawn in other colours) fails here: each view's canvases are photographed and
+    # the pixels of every planet's palette colour counted, wherever they are
+    names = load_system(demo_path()).planet_names
+    count = len(names)
+    with dashboard(browser, demo_url) as (page, _):
+        for view in VIEWS:
+            show(page, view)
+            page.wait_for_timeout(600)
+            pixels = canvas_colour_pixels(page, planet_palette(names))
+            shown = [name for name, n in pixels.items() if n >= MIN_PIXELS_OF_A_COLOUR]
+            assert sum(pixels.values()) >= MIN_PLANET_PIXELS, (view, pixels)
+            assert len(shown) >= min(MIN_PLANET_COLOURS, count), (view, pixels)
+            if view == "Layout":
+                # every orbit is drawn to scale in its planet's colour, and the habitable zone's graded band
+                # (conservative and optimistic steps, translucent over the white plot) under them
+                assert len(shown) == count, pixels
+                zone = habitable_zone_pixels(page, derive(load_system(demo_path())))
+                assert min(zone.values()) >= MIN_HZ_PIXELS, zone
 
 
 def test_the_stellar_mass_control_changes_the_shown_semi_major_axes(browser, demo_url):
@@ -178,7 +215,7 @@ def test_an_edit_in_one_session_leaves_another_unchanged(browser, demo_url):
         wait_for(lambda: table_cells(one, "Flux & temperature", A_FIELD) != original, what="the edited session")
         two.wait_for_timeout(1500)
         assert table_cells(two, "Flux & temperature", A_FIELD) == original
-        assert two.get_by_label("Mass [Msun]", exact=True).input_value() == "0.118"
+        assert two.get_by_label("Mass [Msun]", exact=True).input_value() == "0.231"
     with dashboard(browser, demo_url) as (fresh, _):
         assert table_cells(fresh, "Flux & temperature", A_FIELD) == original
 
@@ -206,11 +243,11 @@ def test_free_text_is_shown_as_text(browser, tmp_path):
     text = text.replace('name = "b"', 'name = "<b>b</b>"', 1)
     path = tmp_path / "hostile.toml"
     path.write_text(text)
-    with served(tmp_path, str(path)) as url, dashboard(browser, url) as (page, _):
-        dialogs = []
-        page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+    # the page's log listens for dialogs (and console errors) from before it navigates, so an alert
+    # raised while the page loads counts too
+    with served(tmp_path, str(path)) as url, dashboard(browser, url) as (page, log):
         page.wait_for_timeout(1000)
-        assert page.locator("img[src='x']").count() == 0 and dialogs == []
+        assert page.locator("img[src='x']").count() == 0 and log.dialogs == []
         assert page.get_by_text("<img src=x onerror=alert(1)>", exact=True).count() >= 1
         assert "<img src=x onerror=alert(1)>" in page.title()
         cells = table_cells(page, "Flux & temperature", "planet")

@@ -129,10 +129,55 @@ def test_rv_formula_with_astropy_units():
 
 # -- TSM and ESM (Kempton et al. 2018) ---------------------------------------------------
 
-@pytest.mark.parametrize("radius, factor", [(1.0, 0.190), (2.0, 1.26), (3.0, 1.28), (5.0, 1.15)])
-def test_tsm_scale_factor_bins(radius, factor):
-    # Kempton et al. 2018 Table 1 (from memory): Rp < 1.5: 0.190; 1.5-2.75: 1.26; 2.75-4: 1.28; 4-10: 1.15
-    assert observability.tsm_scale_factor(radius) == factor
+#: Kempton et al. 2018 (PASP 130, 114401) Table 1: TSM scale factors by radius bin, Rp < 1.5: 0.190;
+#: 1.5 < Rp < 2.75: 1.26; 2.75 < Rp < 4.0: 1.28; 4.0 < Rp < 10 Rearth: 1.15 (checked for this test
+#: against several independent published transcriptions of the table, which agree on every digit)
+KEMPTON_BINS = ((0.0, 1.5, 0.190), (1.5, 2.75, 1.26), (2.75, 4.0, 1.28), (4.0, 10.0, 1.15))
+#: a hair either side of an edge (relative), far below any radius precision, far above rounding
+EDGE_STEP = 1e-6
+
+
+@pytest.mark.parametrize("low, high, factor", KEMPTON_BINS)
+def test_tsm_scale_factor_inside_every_bin(low, high, factor):
+    # the middle and both ends (a hair inside) of each bin of Kempton et al. 2018 Table 1
+    radii = [max(low, 0.3) * (1 + EDGE_STEP), 0.5 * (low + high), high * (1 - EDGE_STEP)]
+    np.testing.assert_array_equal(observability.tsm_scale_factor(radii), [factor] * 3)
+
+
+@pytest.mark.parametrize("edge", [1.5, 2.75, 4.0])
+def test_tsm_scale_factor_changes_exactly_at_each_published_edge(edge):
+    # both sides of each inner edge of Kempton et al. 2018 Table 1: a moved edge puts one side in the
+    # neighbouring bin
+    below = next(f for lo, hi, f in KEMPTON_BINS if hi == edge)
+    above = next(f for lo, hi, f in KEMPTON_BINS if lo == edge)
+    got = observability.tsm_scale_factor([edge * (1 - EDGE_STEP), edge * (1 + EDGE_STEP)])
+    np.testing.assert_array_equal(got, [below, above])
+
+
+def test_tsm_is_defined_below_ten_earth_radii_only():
+    # Kempton et al. 2018 define the TSM for Rp < 10 Rearth: the last bin ends there
+    factors = observability.tsm_scale_factor([10.0 * (1 - EDGE_STEP), 10.0 * (1 + EDGE_STEP), 25.0])
+    assert factors[0] == 1.15 and np.isnan(factors[1]) and np.isnan(factors[2])
+
+
+@pytest.mark.parametrize("edge", [1.5, 2.75, 4.0, 10.0])
+def test_tsm_of_planets_either_side_of_each_edge(make_system, row_of, edge):
+    # the whole metric (Kempton et al. 2018 eq. 1) of two planets a hair either side of an edge, by hand:
+    # TSM = scale Rp^3 Teq / (Mp R*^2) 10^(-mJ/5), Teq = Teff sqrt(R*/a) (1/4)^(1/4) computed with astropy
+    star = dict(name="s", mass=0.3, radius=0.3, teff=3400.0, j_mag=9.0)
+    radii = {"below": edge * (1 - EDGE_STEP), "above": edge * (1 + EDGE_STEP)}
+    system = make_system([dict(name=k, period=8.0 + i, radius=r, mass=5.0) for i, (k, r) in enumerate(radii.items())],
+                         star=star)
+    planets = derive(system).to_dict()["planets"]
+    for i, (name, radius) in enumerate(radii.items()):
+        factor = [f for lo, hi, f in KEMPTON_BINS if lo < radius < hi]
+        if not factor:   # beyond 10 Rearth: no TSM
+            assert row_of(planets, name)["tsm"] is None
+            continue
+        a = (const.G * (0.3 * const.M_sun + 5.0 * const.M_earth) * ((8.0 + i) * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)
+        teq = 3400.0 * np.sqrt(float(0.3 * const.R_sun / a)) * 0.25**0.25
+        expected = factor[0] * radius**3 * teq / (5.0 * 0.3**2) * 10 ** (-9.0 / 5)
+        assert row_of(planets, name)["tsm"] == pytest.approx(expected, rel=1e-9), name
 
 
 def test_tsm_undefined_above_ten_earth_radii(make_system, row_of):

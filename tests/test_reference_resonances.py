@@ -4,6 +4,7 @@ from fractions import Fraction
 
 import numpy as np
 import pytest
+from scipy import optimize
 
 from orbitdeck.models import derive, resonances
 
@@ -55,6 +56,39 @@ def test_super_period_by_hand(make_system):
     assert pair["super_period_d"] == pytest.approx(14.86 / (2 * abs(pair["delta"])), rel=1e-12)
 
 
+def _conjunction_circulation_period(p_inner, p_outer, count=40):
+    """Time for the longitude of conjunctions to go once round, found numerically.
+
+    Lithwick, Xie & Wu 2012 (section 2) describe the super-period as the period over which the line of
+    conjunctions circulates. Here the conjunctions of two circular orbits are found one by one with scipy's
+    brentq (the inner planet laps the outer one: lambda - lambda' = 2 pi k), their longitudes are unwrapped and
+    a straight line is fitted to longitude against time: 2 pi over its slope.
+    """
+    lag = lambda t, k: 2 * np.pi * (t / p_inner - t / p_outer) - 2 * np.pi * k
+    synodic_guess = p_inner * 4   # brackets wide enough for any pair here: the lag grows monotonically
+    times, t0 = [], 0.0
+    for k in range(1, count + 1):
+        t = optimize.brentq(lag, t0, t0 + synodic_guess, args=(k,), xtol=1e-13, rtol=1e-15)
+        times.append(t)
+        t0 = t
+    times = np.array(times)
+    longitudes = np.unwrap(np.mod(2 * np.pi * times / p_outer, 2 * np.pi))
+    slope = np.polyfit(times, longitudes, 1)[0]
+    return 2 * np.pi / abs(slope)
+
+
+@pytest.mark.parametrize("p_inner, p_outer, nearest", [
+    (7.64, 14.86, "2:1"),      # the c-d pair of Kepler-18 (Cochran et al. 2011, periods quoted from memory)
+    (10.0, 15.3, "3:2"),
+    (4.0, 5.38, "4:3"),
+    (3.0, 6.2, "2:1"),
+])
+def test_super_period_is_the_circulation_period_of_the_conjunctions(make_system, p_inner, p_outer, nearest):
+    pair = _pair(make_system, p_inner, p_outer)
+    assert pair["nearest"] == nearest
+    assert pair["super_period_d"] == pytest.approx(_conjunction_circulation_period(p_inner, p_outer), rel=1e-9)
+
+
 def test_super_period_only_for_first_order(make_system):
     # the TTV super-period formula is for first-order resonances j:j-1 (Lithwick et al. 2012)
     second = _pair(make_system, 10.0, 16.7)
@@ -97,3 +131,25 @@ def test_commensurability_table_is_complete():
     assert {Fraction(int(a), int(b)) for a, b in zip(p, q)} == expected
     assert len(p) == len(expected)
     np.testing.assert_array_equal(order, p - q)
+
+
+@pytest.mark.parametrize("ratio, differs", [(1.47, False), (1.46, True), (1.54, False), (1.56, True)])
+def test_nearest_differs_at_the_midpoints_around_3_to_2(ratio, differs):
+    # by hand: the rungs of order <= 3 either side of 3:2 are 10:7 (1.42857) and 8:5 (1.6); a period ratio keeps
+    # 3:2 as its nearest commensurability between the midpoints 1.46429 and 1.55
+    assert (Fraction(10, 7) + Fraction(3, 2)) / 2 == Fraction(41, 28)         # 1.46429
+    assert (Fraction(3, 2) + Fraction(8, 5)) / 2 == Fraction(31, 20)          # 1.55
+    assert bool(resonances.nearest_differs(np.array([ratio]), [3], [2])[0]) is differs
+    p, q, _ = resonances.nearest_commensurability(ratio)
+    assert ((int(p), int(q)) != (3, 2)) is differs
+
+
+def test_best_three_body_relation_and_its_residual_in_degrees_per_day():
+    # by hand for periods 2, 3 and 5 d: of p, q in 1..3, p/2 - (p+q)/3 + q/5 is least for p = q = 1, 1/30 cycle
+    # per day, i.e. 12 deg/d; the Galilean moons pick n_Io - 3 n_Europa + 2 n_Ganymede (Murray & Dermott 1999,
+    # section 8.17)
+    p, q, residual = resonances.best_three_body_relation(2.0, 3.0, 5.0)
+    assert (int(p), int(q)) == (1, 1) and residual == pytest.approx(360.0 / 30.0, rel=1e-12)
+    p, q, residual = resonances.best_three_body_relation(IO, EUROPA, GANYMEDE)
+    assert (int(p), int(q)) == (1, 2)
+    assert residual == pytest.approx(360 / IO - 3 * 360 / EUROPA + 2 * 360 / GANYMEDE, rel=1e-9)

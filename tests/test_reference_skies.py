@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from orbitdeck.models import derive, skies
-from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER
+from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER, RAD_TO_ARCSEC
 
 
 def _sky(doc, observer, body):
@@ -46,18 +46,34 @@ def test_venus_seen_from_earth(solar_system):
 
 
 def test_jupiter_seen_from_earth(solar_system):
-    jupiter = _sky(derive(solar_system).to_dict(), "earth", "jupiter")
-    # almanac: Jupiter's equatorial diameter at opposition 44-50" (from memory); at the mean
-    # opposition distance a_J - a_E = 4.20 au it is ~46.9"
-    assert 44.0 < jupiter["max_angular_diameter_arcsec"] < 50.0
-    assert jupiter["closest_distance_au"] == pytest.approx(4.20, abs=0.01)
+    doc = derive(solar_system).to_dict()
+    jupiter = _sky(doc, "earth", "jupiter")
+    # circular orbits: closest distance a_J - a_E, each a from Kepler's third law written with astropy
+    def a(period_d, mass):
+        return (const.G * (const.M_sun + mass) * (period_d * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)
+
+    gap = a(4332.589, const.M_jup) - a(365.256, const.M_earth)
+    assert jupiter["closest_distance_au"] == pytest.approx(gap.to_value(u.au), rel=1e-12)
+    by_hand = (2 * np.arcsin(float(const.R_jup / gap)) * u.rad).to_value(u.arcsec)
+    assert jupiter["max_angular_diameter_arcsec"] == pytest.approx(by_hand, rel=1e-9)
+    # almanac: Jupiter's equatorial diameter at a mean opposition (4.20 au) is 46.9" (from memory), to the
+    # 0.05" of its last digit
+    assert jupiter["max_angular_diameter_arcsec"] == pytest.approx(46.9, abs=0.05)
 
 
-def test_star_row_is_at_the_mean_distance(make_system):
-    # the sky table gives the star's size at the mean distance a, as the derived document
-    # defines it (orbitdeck-derived/1); for e = 0.5 the periastron size would be twice that
-    doc = derive(make_system([dict(name="b", period=100.0, radius=1.0, mass=1.0, eccentricity=0.5)])).to_dict()
-    a = doc["planets"][0]["semi_major_axis_au"]
+def test_jupiter_at_its_closest_to_earth_spans_the_published_maximum():
+    # NASA Jupiter fact sheet: minimum distance from Earth 588.5e6 km (from memory) and maximum apparent
+    # diameter 50.1" (stored copy of a planetary data sheet), from the 71,492 km equatorial radius: to the
+    # 0.05" of the published last digit
+    diameter = skies.angular_diameter(71492.0, 588.5e6) * RAD_TO_ARCSEC
+    assert diameter == pytest.approx(50.1, abs=0.05)
+
+
+def test_star_is_largest_at_periastron(make_system):
+    # the star looks largest from the closest point of the orbit, periastron a (1 - e) (geometry):
+    # from e = 0.31 that is 1 / 0.69 = 1.45 times its size at a
+    doc = derive(make_system([dict(name="b", period=100.0, radius=1.0, mass=1.0, eccentricity=0.31)])).to_dict()
+    a = doc["planets"][0]["semi_major_axis_au"] * (1.0 - 0.31)
     star = _sky(doc, "b", "star")
     assert star["closest_distance_au"] == pytest.approx(a, rel=1e-12)
     # 2 arcsin(R/d) for a sphere, evaluated independently with astropy units

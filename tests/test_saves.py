@@ -17,7 +17,7 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, dumps_system, load_system, save_system
-from orbitdeck.models import files
+from orbitdeck.models import safe_io
 
 TEMPORARY = re.compile(r"\.(?P<target>.+)\.[^.]+\.tmp")
 
@@ -25,7 +25,7 @@ TEMPORARY = re.compile(r"\.(?P<target>.+)\.[^.]+\.tmp")
 @pytest.fixture
 def old_and_new():
     old = load_system(demo_path("amber_pair"))
-    new = load_system(demo_path("ember_chain"))
+    new = load_system(demo_path("ossery_loom"))
     return old, new
 
 
@@ -52,7 +52,7 @@ def test_save_replaces_the_file_through_a_temporary_one(monkeypatch, target, old
         renames.append((os.fspath(source), os.fspath(destination)))
         return real_replace(source, destination)
 
-    monkeypatch.setattr(files.os, "replace", watching_replace)
+    monkeypatch.setattr(safe_io.os, "replace", watching_replace)
     save_system(old_and_new[1], target)
     ((source, destination),) = renames
     assert os.path.dirname(source) == str(target.parent)  # same folder, so the rename is atomic
@@ -76,7 +76,7 @@ def test_failed_rename_leaves_the_old_file(monkeypatch, target, old_and_new):
     def failing_replace(source, destination):
         raise OSError(errno.EIO, os.strerror(errno.EIO))
 
-    monkeypatch.setattr(files.os, "replace", failing_replace)
+    monkeypatch.setattr(safe_io.os, "replace", failing_replace)
     reason = _refused(lambda: save_system(old_and_new[1], target), target)
     assert reason == f"cannot be written: {os.strerror(errno.EIO)}"
     assert target.read_bytes() == before
@@ -104,7 +104,7 @@ def test_disk_full_half_way_leaves_the_old_file(monkeypatch, target, old_and_new
         def __exit__(self, *exc):
             self.stream.close()
 
-    monkeypatch.setattr(files.os, "fdopen", HalfWritten)
+    monkeypatch.setattr(safe_io.os, "fdopen", HalfWritten)
     reason = _refused(lambda: save_system(old_and_new[1], target), target)
     assert os.strerror(errno.ENOSPC) in reason
     assert target.read_bytes() == before
@@ -117,7 +117,7 @@ def test_failed_flush_to_disk_leaves_the_old_file(monkeypatch, target, old_and_n
     def failing_fsync(fd):
         raise OSError(errno.EIO, os.strerror(errno.EIO))
 
-    monkeypatch.setattr(files.os, "fsync", failing_fsync)
+    monkeypatch.setattr(safe_io.os, "fsync", failing_fsync)
     _refused(lambda: save_system(old_and_new[1], target), target)
     assert target.read_bytes() == before
     assert _listing(target.parent) == [target.name]
@@ -129,7 +129,7 @@ def test_interrupted_save_leaves_no_temporary_file(monkeypatch, target, old_and_
     def interrupted_fsync(fd):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(files.os, "fsync", interrupted_fsync)
+    monkeypatch.setattr(safe_io.os, "fsync", interrupted_fsync)
     with pytest.raises(KeyboardInterrupt):
         save_system(old_and_new[1], target)
     assert target.read_bytes() == before
@@ -195,7 +195,7 @@ def _large(system, letter):
 
 def test_killed_save_leaves_old_or_new_content(tmp_path):
     old = _large(load_system(demo_path("amber_pair")), "o")
-    new = _large(load_system(demo_path("ember_chain")), "n")
+    new = _large(load_system(demo_path("ossery_loom")), "n")
     contents = {dumps_system(old).encode("utf-8"), dumps_system(new).encode("utf-8")}
     sources = tmp_path / "sources"
     sources.mkdir()
@@ -224,3 +224,114 @@ def test_killed_save_leaves_old_or_new_content(tmp_path):
         for name in _listing(work):
             if name != target.name:
                 assert TEMPORARY.fullmatch(name).group("target") == target.name, name
+
+
+# -- what is at the path ------------------------------------------------------------------------
+
+def test_a_named_pipe_or_a_device_at_the_path_is_refused_and_kept(tmp_path, old_and_new):
+    fifo = tmp_path / "pipe.toml"
+    os.mkfifo(fifo)
+    reason = _refused(lambda: save_system(old_and_new[1], fifo), fifo)
+    assert reason == "is not a regular file (a named pipe); only regular files are replaced"
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
+    device = tmp_path / "null.toml"
+    device.symlink_to("/dev/null")
+    reason = _refused(lambda: safe_io.atomic_write(device, b"x"), device)
+    assert reason == "is not a regular file (a character device); only regular files are replaced"
+    assert os.readlink(device) == "/dev/null" and stat.S_ISCHR(os.stat("/dev/null").st_mode)
+    assert _listing(tmp_path) == ["null.toml", "pipe.toml"]
+
+
+def test_a_save_through_a_link_writes_the_file_it_points_to(tmp_path, target, old_and_new):
+    link = tmp_path / "link.toml"
+    link.symlink_to(target.name)
+    save_system(old_and_new[1], link)
+    assert os.readlink(link) == target.name  # still a link
+    assert target.read_text() == dumps_system(old_and_new[1])
+    chain = tmp_path / "chain.toml"
+    chain.symlink_to(link)
+    save_system(old_and_new[0], chain)
+    assert chain.is_symlink() and link.is_symlink() and target.read_text() == dumps_system(old_and_new[0])
+    assert _listing(tmp_path) == ["chain.toml", "link.toml", target.name]
+
+
+def test_a_read_only_file_is_kept_unless_told_to_overwrite(target, old_and_new):
+    before = target.read_bytes()
+    target.chmod(0o444)
+    reason = _refused(lambda: save_system(old_and_new[1], target), target)
+    assert reason.startswith("is read-only, so it was left as it is") and "overwrite" in reason
+    assert target.read_bytes() == before
+    save_system(old_and_new[1], target, overwrite=True)
+    assert target.read_text() == dumps_system(old_and_new[1])
+    assert stat.S_IMODE(target.stat().st_mode) == 0o444  # still read-only
+
+
+def test_a_hard_linked_file_is_kept_unless_told_to_overwrite(tmp_path, target, old_and_new):
+    twin = tmp_path / "twin.toml"
+    os.link(target, twin)
+    before = target.read_bytes()
+    reason = _refused(lambda: save_system(old_and_new[1], target), target)
+    assert reason.startswith("has 2 hard links") and "overwrite" in reason
+    assert target.read_bytes() == before and os.path.samefile(target, twin)
+    save_system(old_and_new[1], target, overwrite=True)
+    assert target.read_text() == dumps_system(old_and_new[1]) and twin.read_bytes() == before
+
+
+def test_a_save_keeps_owner_group_and_extended_attributes(target, old_and_new):
+    # the tests run as root, who may give the file any owner: the save must give the new file the same
+    if os.geteuid() != 0:
+        pytest.skip("only root may give a file another owner")
+    os.chown(target, 4321, 8765)
+    try:
+        os.setxattr(target, "user.orbitdeck.note", b"kept")
+    except OSError:
+        attributes = False  # a file system without user extended attributes
+    else:
+        attributes = True
+    save_system(old_and_new[1], target)
+    info = target.stat()
+    assert (info.st_uid, info.st_gid) == (4321, 8765)
+    if attributes:
+        assert os.getxattr(target, "user.orbitdeck.note") == b"kept"
+
+
+def test_stale_temporaries_of_killed_saves_are_cleaned_and_others_kept(tmp_path, target, old_and_new):
+    stale = tmp_path / f".{target.name}.ab12cd34.tmp"
+    fresh = tmp_path / f".{target.name}.ef56gh78.tmp"
+    busy = tmp_path / f".{target.name}.ij90kl12.tmp"
+    other = tmp_path / ".other.toml.mn34op56.tmp"
+    lookalike = tmp_path / f".{target.name}.backup"
+    for path in (stale, fresh, busy, other, lookalike):
+        path.write_text("partial")
+    old = time.time() - 3600
+    for path in (stale, busy, other, lookalike):
+        os.utime(path, (old, old))
+    linked = tmp_path / f".{target.name}.qr78st90.tmp"
+    linked.symlink_to(lookalike)
+    os.utime(linked, (old, old), follow_symlinks=False)
+    holder = subprocess.Popen([sys.executable, "-c", "import fcntl, sys, time\n"
+                               "f = open(sys.argv[1], 'rb'); fcntl.flock(f, fcntl.LOCK_EX); print('held', flush=True)\n"
+                               "time.sleep(60)", str(busy)], stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline() == "held\n"  # a save in progress elsewhere holds its temporary
+        save_system(old_and_new[1], target)
+    finally:
+        holder.kill()
+        holder.wait()
+        holder.stdout.close()
+    assert target.read_text() == dumps_system(old_and_new[1])
+    assert _listing(tmp_path) == sorted([target.name, fresh.name, busy.name, other.name, lookalike.name, linked.name])
+
+
+def test_a_system_that_would_not_load_back_is_not_written(tmp_path, target, old_and_new):
+    from orbitdeck.models.files import MAX_FILE_BYTES
+
+    before = target.read_bytes()
+    system = old_and_new[1]
+    system.notes = "n" * MAX_FILE_BYTES  # the notes alone pass the 2 MiB limit of system files
+    with pytest.raises(SystemFileError) as caught:
+        save_system(system, target)
+    problems = caught.value.problems
+    assert problems[0].reason == "not written: the system file would not load back"
+    assert any("limited to" in p.reason for p in problems[1:])
+    assert target.read_bytes() == before and _listing(tmp_path) == [target.name]

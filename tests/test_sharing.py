@@ -119,12 +119,14 @@ def test_the_caution_says_who_can_edit_and_how_to_stop():
 
 SERVER = """
 import sys
-import panel as pn
+from orbitdeck.dashboard.request_guard import guarded_server
 from orbitdeck.dashboard.serve import session_factory, _read
 from orbitdeck.dashboard.sharing import share_settings
 port, origins = int(sys.argv[1]), [o for o in sys.argv[2].split(",") if o]
-pn.serve({"orbitdeck": session_factory(_read(None))}, show=False, start=True, threaded=False,
-         verbose=False, **share_settings(origins, port))
+server = guarded_server({"orbitdeck": session_factory(_read(None))}, share_settings(origins, port), show=False,
+                        threaded=False, verbose=False)
+server.start()
+server.io_loop.start()
 """
 
 

@@ -96,14 +96,33 @@ def test_jupiter_brightness_at_opposition():
 
 def test_sun_seen_from_earth():
     # The Sun: 1919 arcsec across at 1 au (32.0 arcmin) and magnitude -26.74 against the full
-    # Moon's -12.74 (almanac; from memory), a flux ratio 10^(0.4 * 14.0).
+    # Moon's -12.74 (almanac; from memory), a flux ratio 10^(0.4 * 14.00).
     s = solar_system()
     sky = sky_view.sky_from(s, "Earth", np.linspace(2460000.0, 2460365.0, 12))
     d = sky["distance_au"][:, 0]
     assert sky["bodies"][0] == "star"
     np.testing.assert_allclose(sky["angular_diameter_arcsec"][:, 0] * d, 1919.0, rtol=2e-3)
-    np.testing.assert_allclose(sky["brightness_moon_ratio"][:, 0] * d ** 2, 10 ** (0.4 * 14.0), rtol=0.1)
+    # the model's full Moon is the Sun's light reflected with the Moon's geometric albedo 0.12 at its mean
+    # distance, p (R_Moon / d_Moon)^2 (the module's stated model), so the Sun at 1 au is 1 / (p (R/d)^2)
+    # full Moons; by hand with astropy units, to rounding
+    by_hand = float(1.0 / (0.12 * (1737.4 * u.km / (384400.0 * u.km)) ** 2))
+    np.testing.assert_allclose(sky["brightness_moon_ratio"][:, 0] * d ** 2, by_hand, rtol=1e-12)
+    # against the almanac's 14.00 magnitudes: the albedo 0.12 is given to two digits (+-0.005, 4 %, 0.045 mag),
+    # so the model's Sun may stand that far from the measured ratio, and no farther
+    magnitudes = 2.5 * np.log10(sky["brightness_moon_ratio"][:, 0] * d ** 2)
+    np.testing.assert_allclose(magnitudes, 14.00, atol=0.045)
     assert np.all(np.isnan(sky["phase_angle_deg"][:, 0])) and np.all(sky["elongation_deg"][:, 0] == 0.0)
+
+
+def test_luminosity_of_a_star_without_one_given():
+    # IAU 2015 Resolution B3: the nominal solar radius and Teff = 5772 K give the nominal luminosity (to 1e-4);
+    # an M dwarf with astropy's sigma_sb, L = 4 pi R^2 sigma Teff^4 (Stefan-Boltzmann law)
+    assert sky_view.stellar_luminosity_lsun(Star(name="sun", mass=1.0, radius=1.0, teff=5772.0)) == pytest.approx(
+        1.0, abs=1e-4)
+    expected = float(4 * np.pi * (0.21 * const.R_sun) ** 2 * const.sigma_sb * (3150 * u.K) ** 4 / const.L_sun)
+    dwarf = Star(name="m", mass=0.2, radius=0.21, teff=3150.0)
+    assert sky_view.stellar_luminosity_lsun(dwarf) == pytest.approx(expected, rel=1e-12)
+    assert sky_view.stellar_luminosity_lsun(Star(name="m", mass=0.2, radius=0.21, teff=3150.0, luminosity=0.5)) == 0.5
 
 
 def test_moon_reference_size():

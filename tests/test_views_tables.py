@@ -7,6 +7,8 @@ under each value against the derived 16th-84th percentiles.
 
 from __future__ import annotations
 
+import html
+
 import re
 
 import pytest
@@ -74,7 +76,7 @@ def test_estimates_carry_a_caution_naming_their_source(nominal):
     caution = flux.caution.object
     for q in shown_in("flux", "planets"):
         if q.estimate:
-            assert q.label in caution and REFERENCES[q.source].citation in caution
+            assert q.label in caution and html.escape(REFERENCES[q.source].citation) in caution
     assert "model estimates under the stated assumptions" in caution
 
 

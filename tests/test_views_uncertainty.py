@@ -76,6 +76,9 @@ def test_flux_bars_are_the_insolation_and_radius_intervals(app):
     plus, minus = spread.split(" ")
     assert float(plus[1:]) == pytest.approx(s_hi[0] - s[0], rel=0.06)
     assert float(minus[1:]) == pytest.approx(s[0] - s_lo[0], rel=0.06)
+    teq, (_, t_hi) = app.derived.planets["teq_k"], app.derived.intervals["planets"]["teq_k"]
+    spread = re.findall(r">([^<]*)</span>", table["teq_k"].iloc[-1])[1]
+    assert float(spread.split(" ")[0][1:]) == pytest.approx(t_hi[-1] - teq[-1], rel=0.06)
 
 
 def test_ladder_bars_are_the_period_ratio_intervals(app):
@@ -156,8 +159,8 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     assert calls == []
     app.uncertainty = True
     assert calls == [(1000, DEFAULT_SEED)]
-    assert len(flux.plot.data["ranges"]["x0"]) == 14
-    assert len(ladder.plot.data["errors"]["y0"]) == 6
+    assert len(flux.plot.data["ranges"]["x0"]) == 10
+    assert len(ladder.plot.data["errors"]["y0"]) == 4
     calls.clear()
     app.system.star.mass = app.system.star.mass * 1.02  # an edit with the switch on: one derivation with draws
     assert calls == [(1000, DEFAULT_SEED)]
@@ -196,5 +199,5 @@ def test_snapshot_style_assignment_shows_intervals_with_the_switch_off():
     assert not app.uncertainty
     np.testing.assert_array_equal(app.views["Period ladder"].plot.data["errors"]["y1"],
                                   app.derived.intervals["pairs"]["period_ratio"][1])
-    np.testing.assert_array_equal(app.views["Flux & temperature"].plot.data["ranges"]["x1"][:7],
+    np.testing.assert_array_equal(app.views["Flux & temperature"].plot.data["ranges"]["x1"][:5],
                                   app.derived.intervals["planets"]["insolation_earth"][1])

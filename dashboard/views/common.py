@@ -13,12 +13,17 @@ from __future__ import annotations
 import functools
 import html
 import math
+import re
 
 import holoviews as hv
 import numpy as np
 import panel as pn
 import param
 
+#: what a missing, infinite or undefined number shows as
+MISSING = "\u2014"
+#: a number format as the views write them: "0.000", "+0.00000", "0", "0.000e"
+_NUMBER_FORMAT = re.compile(r"(\+?)0(?:\.(0+))?(e?)")
 #: a note beneath a plot (never drawn over the data)
 NOTE_STYLE = {"font-size": "12px", "color": "#5a6270", "line-height": "1.35"}
 
@@ -114,13 +119,41 @@ def escape(text) -> str:
 
 
 def fmt(value, digits: int = 4) -> str:
-    """A number with ``digits`` significant digits; an em dash for a missing value."""
+    """A number with ``digits`` significant digits; an em dash for a missing or infinite value; never "-0"."""
     if value is None:
-        return "\u2014"
+        return MISSING
     value = float(value)
     if not math.isfinite(value):
-        return "\u2014"
-    return f"{value:.{digits}g}"
+        return MISSING
+    return f"{value + 0.0 if value else 0.0:.{digits}g}"
+
+
+def number_texts(values, fmt: str = "0.00") -> list[str]:
+    """Each value written as the tooltip format ``fmt`` would write it, a dash where missing or infinite.
+
+    For tooltip columns that may hold NaN: a hover tool writes NaN as "NaN" before any formatter sees it.
+    """
+    found = _NUMBER_FORMAT.fullmatch(fmt)
+    if not found:
+        raise ValueError(f"unsupported number format {fmt!r}")
+    plus, places, exponent = found.group(1), len(found.group(2) or ""), found.group(3)
+    out = []
+    for value in as_floats(values):
+        if not math.isfinite(value):
+            out.append(MISSING)
+            continue
+        text = f"{value:.{places}e}" if exponent else f"{value:.{places}f}"
+        if float(text) == 0:
+            text = text.lstrip("-")
+        out.append(f"+{text}" if plus and not text.startswith("-") else text)
+    return out
+
+
+def finite_or_nan(values) -> np.ndarray:
+    """``values`` as floats with every infinity (and None) turned into NaN, which tables show as a dash."""
+    out = as_floats(values)
+    out[~np.isfinite(out)] = np.nan
+    return out
 
 
 def as_floats(values) -> np.ndarray:

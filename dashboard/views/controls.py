@@ -18,12 +18,17 @@ from functools import partial
 
 import panel as pn
 
-from orbitdeck.models import Planet, SystemFileError, dumps_system, loads_system
+from orbitdeck.models import Planet, System, SystemFileError, dumps_system, loads_system
+from orbitdeck.models.files import MAX_FILE_BYTES
+from orbitdeck.models.names import display_key, name_problem
+from orbitdeck.models.system import MAX_PLANETS, TIME_BOUNDS
+from orbitdeck.models.sources import SystemSource
 
 from . import look
 from .common import batched, escape
-from .entries import Entry, Rejected, entry_text, parse_entry  # noqa: F401  (parse_entry, Rejected: part of the API)
+from .entries import Entry, Picker, Rejected, entry_text, parse_entry  # noqa: F401  (parse_entry: part of the API)
 from .sky_from import TimePlayer
+from .upload import SystemFileUpload
 
 #: star entries: field, label, unit, optional (blank allowed)
 STAR_ENTRIES = (("mass", "Mass [Msun]", "Msun", False), ("radius", "Radius [Rsun]", "Rsun", False),
@@ -36,6 +41,8 @@ PLANET_ENTRIES = (("period", "Period [d]", "d", False), ("radius", "Radius [Rear
                   ("omega", "Argument of periastron omega [deg]", "deg", False))
 REDISTRIBUTION_CHOICES = {"full (f = 1/4)": "full", "dayside only (f = 1/2)": "dayside", "none (f = 2/3)": "none"}
 MAX_NAME_LENGTH = 40
+#: what a page that follows a presenter says when a change reaches it anyway
+READ_ONLY = "read-only: this page follows the presenter; the change was not applied"
 WIDGET_WIDTH = 290
 
 
@@ -73,9 +80,9 @@ class Controls:
     def __init__(self, app):
         self.app = app
         self._quiet = False
+        self._locked: list = []   # widgets lock() disabled
         entry = partial(Entry, width=WIDGET_WIDTH)
-        self.file_input = pn.widgets.FileInput(label="Load a system file (orbitdeck-system/1 TOML)", accept=".toml",
-                                               multiple=False, width=WIDGET_WIDTH)
+        self.file_input = SystemFileUpload(accept=".toml", max_bytes=MAX_FILE_BYTES, width=WIDGET_WIDTH)
         self.file_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.download = pn.widgets.FileDownload(callback=self._download, filename="system.toml",
                                                 label="Download the edited system file", color="primary",
@@ -90,8 +97,8 @@ class Controls:
         self.redistribution = pn.widgets.Select(label="Heat redistribution", options=REDISTRIBUTION_CHOICES,
                                                 width=WIDGET_WIDTH)
         self.assumption_message = pn.pane.HTML("", width=WIDGET_WIDTH)
-        self.planet_select = pn.widgets.Select(label="Planet (also picked by clicking it in a view)",
-                                               width=WIDGET_WIDTH)
+        self.planet_select = Picker(label="Planet (also picked by clicking it in a view)",
+                                    width=WIDGET_WIDTH)
         self.planet_entries = {f: entry(label=label) for f, label, _, _ in PLANET_ENTRIES}
         self.eccentricity = pn.widgets.FloatSlider(label="Eccentricity e", start=0.0, end=0.99, step=0.005,
                                                    width=WIDGET_WIDTH)
@@ -116,7 +123,8 @@ class Controls:
         self.uncertainty_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.samples_message = pn.pane.HTML("", width=WIDGET_WIDTH)
 
-        self.file_input.param.watch(self._load, "value")
+        self.file_input.param.watch(self._load, "upload")
+        self.file_input.param.watch(self._too_large, "oversize")
         for field, widget in self.star_entries.items():
             widget.param.watch(partial(self._star_entry, field), "value")
         self.albedo.param.watch(self._albedo, "value_throttled")
@@ -166,7 +174,7 @@ class Controls:
                     widget.value = entry_text(getattr(planet, field))
                 self.eccentricity.value = min(planet.eccentricity, self.eccentricity.end)
             longest = max((p.period for p in system.planets), default=10.0)
-            self.time_slider.end = round(max(longest, 1.0), 2)
+            self.time_slider.end = round(max(min(longest, TIME_BOUNDS[1] - system.epoch), 1.0), 2)
             self.time_slider.value = min(max(app.time - system.epoch, 0.0), self.time_slider.end)
             self.time_entry.value = entry_text(app.time)
             self.samples.value = str(app.samples)
@@ -185,8 +193,19 @@ class Controls:
     # -- widgets -> model ------------------------------------------------------
     # (each handler is batched: the model's change, the views' updates and the handler's message reach the
     # browser as one message)
+    def _refused(self, pane=None) -> bool:
+        """True (and the widgets shown as they were) when the page is read-only: it follows a presenter."""
+        if not self.app.read_only:
+            return False
+        if pane is not None:
+            _message(pane, READ_ONLY)
+        self.sync()
+        return True
+
     def _apply(self, obj, field: str, value, label: str, pane) -> bool:
         """Set ``obj.field``; undo it when the system cannot be derived with it."""
+        if self._refused(pane):
+            return False
         old = getattr(obj, field)
         if value == old:
             _message(pane)
@@ -232,7 +251,7 @@ class Controls:
 
     @batched
     def _pick(self, event):
-        if not self._quiet and event.new:
+        if not self._quiet and event.new and not self._refused():
             self.app.selected = event.new
 
     def _current_planet(self) -> Planet | None:
@@ -262,6 +281,8 @@ class Controls:
 
     @batched
     def _remove(self, _):
+        if self._refused(self.planet_message):
+            return
         system, planet = self.app.system, self._current_planet()
         if planet is None:
             return
@@ -273,14 +294,22 @@ class Controls:
 
     @batched
     def _add(self, _):
+        if self._refused(self.add_message):
+            return
         name = (self.new_name.value_input or self.new_name.value or "").strip()
         try:
+            if len(self.app.system.planets) >= MAX_PLANETS:
+                raise Rejected(f"new planet: a system holds at most {MAX_PLANETS} planets; remove one first")
             if not name:
                 raise Rejected("new planet: a name is needed")
             if len(name) > MAX_NAME_LENGTH:
                 raise Rejected(f"new planet: the name is longer than {MAX_NAME_LENGTH} characters")
-            if name in self.app.system.planet_names:
-                raise Rejected(f"new planet: a planet named {name!r} already exists")
+            if name_problem(name):
+                raise Rejected(f"new planet: the name {name!r} {name_problem(name)}")
+            twins = [n for n in self.app.system.planet_names if display_key(n) == display_key(name)]
+            if twins:
+                raise Rejected(f"new planet: a planet named {twins[0]!r} already exists"
+                               + ("" if twins[0] == name else f" (it looks the same as {name!r})"))
             period = parse_entry(self.new_period.value_input or self.new_period.value, Planet.param.period,
                                  "new planet: period", "d")
             radius = parse_entry(self.new_radius.value_input or self.new_radius.value, Planet.param.radius,
@@ -300,6 +329,8 @@ class Controls:
         _message(self.add_message, f"added planet {name} (no transit time: its phase is arbitrary)", ok=True)
 
     def _set_time(self, value: float) -> None:
+        if self._refused(self.time_message):
+            return
         self.app.time = float(value)
         _message(self.time_message)
 
@@ -308,7 +339,7 @@ class Controls:
         if self._quiet:
             return
         try:
-            value = parse_entry(event.new, None, "time", "BJD_TDB")
+            value = parse_entry(event.new, System.param.epoch, "time", "d (BJD_TDB)")
         except Rejected as error:
             _message(self.time_message, str(error))
             return
@@ -316,7 +347,7 @@ class Controls:
 
     @batched
     def _samples(self, event):
-        if self._quiet:
+        if self._quiet or self._refused(self.samples_message):
             return
         label = self.samples.label
         try:
@@ -334,23 +365,34 @@ class Controls:
             self._set_time(self.app.system.epoch + float(event.new))
 
     @batched
-    def _load(self, event):
-        if not event.new:
+    def _too_large(self, event):
+        if event.new is None:
             return
-        source = self.file_input.filename or "uploaded file"
+        name, size = event.new
+        _message(self.file_message, f"not loaded, the current system is kept: {name or 'the file'}: file is {size} "
+                                    f"bytes; system files are limited to {MAX_FILE_BYTES} bytes")
+
+    @batched
+    def _load(self, event):
+        if event.new is None or self._refused(self.file_message):
+            return
+        name, data = event.new
+        source = name or "uploaded file"
+        notes = []
         try:
-            system = loads_system(event.new, source)
+            system = loads_system(data, source, notes)
         except SystemFileError as error:
             shown = error.problems[:12]
             more = len(error.problems) - len(shown)
             text = "; ".join(str(p) for p in shown) + (f"; and {more} more" if more > 0 else "")
             _message(self.file_message, f"not loaded, the current system is kept: {text}")
             return
-        self.app.replace_system(system)
+        self.app.replace_system(system, SystemSource(source, bytes(data)))
+        remarks = "".join(f"; {note}" for note in notes)
         if self.app.problem:
-            _message(self.file_message, f"loaded {source}, but: {self.app.problem}")
+            _message(self.file_message, f"loaded {source}, but: {self.app.problem}{remarks}")
         else:
-            _message(self.file_message, f"loaded {source}: {len(system.planets)} planets", ok=True)
+            _message(self.file_message, f"loaded {source}: {len(system.planets)} planets{remarks}", ok=True)
 
     def _download(self):
         return io.BytesIO(dumps_system(self.app.system).encode("utf-8"))
@@ -360,10 +402,22 @@ class Controls:
         from orbitdeck.dashboard.snapshot import render_snapshot
 
         app = self.app
-        text = dumps_system(app.system).encode("utf-8")
-        page = render_snapshot(app.system, "edited in the dashboard", text, time=app.time,
-                               samples=app.draws, seed=app.seed if app.draws else None)
+        page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
+                               samples=app.draws, seed=app.seed if app.draws else None,
+                               pinned=app.pinned, pinned_label=app.pinned_label)
         return io.BytesIO(page.encode("utf-8"))
+
+    def lock(self, locked: bool) -> None:
+        """Disable every control that edits (downloads stay), or enable again those this disabled."""
+        if locked:
+            for widget in self._panel.select(pn.widgets.Widget):
+                if not (isinstance(widget, pn.widgets.FileDownload) or widget.disabled):
+                    self._locked.append(widget)
+                    widget.disabled = True
+        else:
+            for widget in self._locked:
+                widget.disabled = False
+            self._locked = []
 
     # -- layout ------------------------------------------------------------------
     def panel(self):
@@ -375,8 +429,10 @@ class Controls:
             return pn.Card(*objects, header=header, width=WIDGET_WIDTH + 24, margin=(6, 4),
                            stylesheets=[look.CARD_CSS])
 
-        return pn.Column(
-            card(self.file_input, self.file_message, self.download, self.snapshot, title="System file"),
+        self._panel = pn.Column(
+            card(pn.pane.HTML(f"<small>Load an orbitdeck-system/1 TOML file (at most "
+                              f"{MAX_FILE_BYTES // 2**20} MiB)</small>"), self.file_input,
+                 self.file_message, self.download, self.snapshot, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
             card(self.planet_select, *self.planet_entries.values(), self.eccentricity, self.planet_message,
@@ -387,3 +443,4 @@ class Controls:
             card(self.uncertainty, self.samples, self.samples_message, self.uncertainty_message,
                  title="Uncertainties"),
             width=WIDGET_WIDTH + 40)
+        return self._panel

@@ -58,3 +58,9 @@ def entry_text(value) -> str:
     if value is None:
         return ""
     return f"{value:.10g}" if isinstance(value, (int, float)) else str(value)
+
+
+class Picker(pn.widgets.Select):
+    """A drop-down list whose choice is applied at once (one choice per pick: no burst to wait for)."""
+
+    _debounce = 0

@@ -24,9 +24,8 @@ import panel as pn
 from orbitdeck.models.engine.references import REFERENCES
 from orbitdeck.models.engine.registry import Quantity, declared
 
-from .common import escape
+from .common import MISSING, escape
 
-MISSING = "\u2014"
 ESTIMATE_MARK = "\u2020"
 #: the look of the tables (Tabulator in its shadow root): wrapped headings, numbers in tabular figures,
 #: the range under each value in a smaller, quieter type

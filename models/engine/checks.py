@@ -18,9 +18,13 @@ def collect_warnings(system: System, derived) -> list[str]:
     warnings = []
     teff = system.star.teff
     lo, hi = irradiation.HZ_TEFF_RANGE
-    if not lo <= teff <= hi:
+    if irradiation.HZ_EXTRAPOLATED_MIN_TEFF <= teff < lo:
+        warnings.append(f"Teff = {teff:g} K is below {lo:g}-{hi:g} K, the calibrated range of the Kopparapu et al. "
+                        "2014 habitable-zone fit; the habitable-zone limits and regions shown are extrapolated.")
+    elif not lo <= teff <= hi:
         warnings.append(f"Teff = {teff:g} K is outside {lo:g}-{hi:g} K, the range of the Kopparapu et al. 2014 "
-                        "habitable-zone fit; no habitable-zone limits or regions are given.")
+                        f"habitable-zone fit (extrapolated down to {irradiation.HZ_EXTRAPOLATED_MIN_TEFF:g} K only); "
+                        "the model does not apply to this host, so no habitable-zone limits or regions are given.")
     pl = derived.planets
     star_radius_au = system.star.radius * R_SUN / AU
     for name, peri in zip(pl["name"], derived.extra["periastron_au"]):
@@ -42,10 +46,19 @@ def collect_warnings(system: System, derived) -> list[str]:
     if crossed.size > MAX_LISTED_CROSSINGS:
         warnings.append(f"... and {crossed.size - MAX_LISTED_CROSSINGS} more pairs of planets whose orbits cross.")
     pr = derived.pairs
-    for a, b, spacing in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"]):
-        if spacing < dynamics.HILL_STABLE_SPACING:
+    eccentric = np.array([p.eccentricity > 0.0 for p in system.planets])
+    eccentric_pair = eccentric[:-1] | eccentric[1:]
+    for a, b, spacing, stable, with_e in zip(pr["inner"], pr["outer"], pr["mutual_hill_spacing"], pr["hill_stable"],
+                                             eccentric_pair):
+        if with_e and not stable:   # the circular-orbit limit below does not hold for eccentric orbits
+            warnings.append(f"planets {a} and {b}: not Hill stable for their eccentricities (Gladman 1993 "
+                            f"criterion with eccentricities; spacing {spacing:.2f} mutual Hill radii).")
+        elif not with_e and spacing < dynamics.HILL_STABLE_SPACING:
             warnings.append(f"planets {a} and {b}: spacing {spacing:.2f} mutual Hill radii is below "
                             "2 sqrt(3), the Hill-stability limit for circular orbits (Gladman 1993).")
+    for a, b in zip(pr["inner"][pr["in_overlap_zone"]], pr["outer"][pr["in_overlap_zone"]]):
+        warnings.append(f"planets {a} and {b}: inside the zone of overlapping first-order resonances "
+                        "(Deck, Payne & Holman 2013), where the motion is expected to be chaotic.")
     estimated = [str(n) for n, est in zip(pl["name"], pl["mass_estimated"]) if est]
     if estimated:
         warnings.append("masses of " + ", ".join(estimated) + " are estimated from radius "

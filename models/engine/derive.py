@@ -18,6 +18,7 @@ from .. import irradiation
 from ..system import System
 from .draws import percentile_bounds, sampled_inputs
 from .inputs import nominal_inputs
+from .methods import depends_on
 from .registry import ONE_ROW_TABLES, Context, declared
 from .quantities.skies import all_sky_rows
 from .checks import collect_warnings
@@ -77,9 +78,12 @@ class Derived:
     of the intermediate arrays the views use (orbital elements in SI and
     au, periastron and apoastron distances, the habitable-zone limit
     fluxes). Missing values are NaN in float columns and None in object
-    columns. ``intervals`` is empty without Monte Carlo draws; with them,
+    columns. ``hz_valid`` says whether the habitable zone is given at all
+    (``star["hz_extrapolated"]`` whether beyond its fit's calibrated range).
+    ``intervals`` is empty without Monte Carlo draws; with them,
     ``fractions`` holds the fraction of draws in which each yes/no quantity
-    holds, by table and key.
+    holds, by table and key. ``provenance``, when attached, goes into the
+    document as its ``provenance`` object.
     """
 
     system_name: str
@@ -96,6 +100,8 @@ class Derived:
     intervals: Mapping = field(default_factory=dict)
     fractions: dict = field(default_factory=dict)
     extra: dict = field(default_factory=dict)
+    #: where the numbers came from (see :mod:`orbitdeck.models.engine.provenance`); None until attached
+    provenance: dict | None = None
 
     @property
     def planet_names(self) -> list[str]:
@@ -116,6 +122,8 @@ class Derived:
                     doc[table]["fraction"] = _plain(self.fractions[table])
             doc["samples"] = self.samples
             doc["seed"] = self.seed
+        if self.provenance is not None:
+            doc["provenance"] = _plain(self.provenance)
         return doc
 
 
@@ -164,18 +172,26 @@ def _nest(flat: dict) -> dict:
     return nested
 
 
+def rests_on_habitable_zone(quantity) -> bool:
+    """Whether ``quantity`` is computed from the habitable-zone limits (withheld where they do not apply)."""
+    return "hz_limit_flux" in depends_on(quantity.name)
+
+
 def _nominal_column(quantity, value: np.ndarray, hz_valid: bool) -> np.ndarray:
-    """Row 0 of a computed array, as the document shows it (labels as text)."""
+    """Row 0 of a computed array, as the document shows it (labels as text; None where the
+    habitable-zone limits it rests on are withheld)."""
     column = np.asarray(value)[0]
+    if not hz_valid and rests_on_habitable_zone(quantity):
+        return np.full(column.shape, None, dtype=object)
     if quantity.kind == "label":
-        return np.array([quantity.labels[i] if hz_valid else None for i in column], dtype=object)
+        return np.array([quantity.labels[i] for i in column], dtype=object)
     return column
 
 
 def _one_row_table(table: str, context: Context, hz_valid: bool) -> dict:
     """The values of a one-row table (the system's or the star's), dotted keys nested."""
     values = {q.key: _nominal_column(q, getattr(context, q.name), hz_valid)[0] for q in declared(table)
-              if hz_valid or not q.key.startswith("hz_au.")}
+              if hz_valid or not rests_on_habitable_zone(q)}
     return _nest(values)
 
 
@@ -218,13 +234,13 @@ def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals,
     and the fraction of draws in which each yes/no quantity holds."""
     tables, fractions = {}, {}
     for table in ("system", "star", "planets", "pairs", "triples"):
-        wanted = [q for q in declared(table) if hz_valid or not q.key.startswith("hz_au.")]
+        wanted = [q for q in declared(table) if hz_valid or not rests_on_habitable_zone(q)]
         sampled = [q for q in wanted if q.sampled]
         arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
         rows = max((a.shape[1] for a in arrays), default=0)
         stacked = (np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays
                    else np.empty((0, samples)))
-        low, high = percentile_bounds(stacked)
+        low, high = percentile_bounds(stacked, overwrite=True)
         tables[table] = {q.key: (low[i * rows:(i + 1) * rows], high[i * rows:(i + 1) * rows])
                          for i, q in enumerate(sampled)}
         fractions[table] = {q.key: np.broadcast_to(getattr(draws, q.name), (samples, 1)).mean(axis=0)
@@ -242,11 +258,14 @@ def _sky_intervals(draws: Context, samples: int) -> dict:
     observer, body = draws.sky_rows
     low = {q.key: np.empty(observer.size) for q in sampled}
     high = {q.key: np.empty(observer.size) for q in sampled}
+    # rows in the order of their pair of planets (star rows first), so that a chunk holds both
+    # directions of a pair, whose closest approach is then worked out once
+    order = np.lexsort((np.maximum(observer, body), np.minimum(observer, body), body >= 0))
     for start in range(0, observer.size, SKY_ROWS_PER_CHUNK):
-        chunk = slice(start, start + SKY_ROWS_PER_CHUNK)
+        chunk = order[start:start + SKY_ROWS_PER_CHUNK]
         part = draws.restricted("skies", sky_rows=(observer[chunk], body[chunk]))
         for q in sampled:
-            rows = np.broadcast_to(getattr(part, q.name), (samples, observer[chunk].size)).T
+            rows = np.broadcast_to(getattr(part, q.name), (samples, chunk.size)).T
             low[q.key][chunk], high[q.key][chunk] = percentile_bounds(rows)
     return {key: (low[key], high[key]) for key in low}
 
@@ -274,8 +293,7 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
     Derived
     """
     nominal = nominal_inputs(system)
-    lo, hi = irradiation.HZ_TEFF_RANGE
-    hz_valid = lo <= system.star.teff <= hi
+    hz_valid = irradiation.HZ_EXTRAPOLATED_MIN_TEFF <= system.star.teff <= irradiation.HZ_TEFF_RANGE[1]
     tables = nominal_tables(system, Context(nominal), hz_valid)
     derived = Derived(system_name=system.name, system=tables["system"], star=tables["star"], planets=tables["planets"],
                       pairs=tables["pairs"], triples=tables["triples"], skies=tables["skies"],

@@ -10,7 +10,10 @@ same numbers. Draws outside a parameter's physical domain (its param
 bounds: masses and radii > 0, 0 <= e < 1, 0 <= A < 1 ...) are drawn again,
 which truncates the distribution instead of piling draws on the boundary.
 The draws feed the same quantities as the nominal values, so correlations
-(one stellar-mass draw feeds a, S and Teq alike) are kept.
+(one stellar-mass draw feeds a, S and Teq alike) are kept. A mass estimated
+from the radius also draws the intrinsic scatter of the mass-radius relation
+(``mass_relation_z``, unit normals of the same generator, drawn last so the
+other inputs' draws do not depend on whether any mass is estimated).
 """
 
 from __future__ import annotations
@@ -20,7 +23,7 @@ from dataclasses import replace
 import numpy as np
 
 from ..system import System
-from .inputs import PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
+from .inputs import ASSUMPTION_FIELDS, PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 
 #: percentiles that bound the reported interval (one sigma for a normal)
 PERCENTILES = (16.0, 84.0)
@@ -81,6 +84,7 @@ def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inpu
     inputs = [(field, planets, field) for field in PLANET_FIELDS]
     inputs += [(f"star_{field}", star, field) for field in STAR_FIELDS]
     inputs += [("j_mag", star, "j_mag"), ("k_mag", star, "k_mag"), ("bond_albedo", assumptions, "bond_albedo")]
+    inputs += [(field, assumptions, name) for field, name in ASSUMPTION_FIELDS.items()]
     drawn = {}
     for name, bodies, parameter in inputs:
         values = getattr(nominal, name)
@@ -92,22 +96,28 @@ def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inpu
         declared = type(bodies[0]).param[parameter]   # its bounds are the physical domain
         drawn[name] = truncated_split_normal(rng, (samples, len(bodies)), values, plus, minus,
                                              declared.bounds, declared.inclusive_bounds)
+    estimated = np.isnan(nominal.mass[0])
+    if estimated.any():   # the relation's scatter, for the planets whose mass is estimated
+        drawn["mass_relation_z"] = np.where(estimated, rng.standard_normal((samples, len(planets))), 0.0)
     return replace(nominal, **drawn)
 
 
-def percentile_bounds(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def percentile_bounds(rows: np.ndarray, overwrite: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The 16th and 84th percentiles of each row of ``rows`` (rows, draws), numpy's 'linear' definition.
 
     NaN draws (a quantity undefined in some draws) are left out; a row of
-    nothing but NaN gives NaN.
+    nothing but NaN gives NaN. With ``overwrite`` the rows may be reordered
+    in place (saves a copy of a large array the caller no longer needs).
     """
     rows = np.asarray(rows, dtype=float)
     bounds = np.full((len(PERCENTILES), rows.shape[0]), np.nan)
     nan = np.isnan(rows)
     partly, complete = nan.any(axis=1) & ~nan.all(axis=1), ~nan.any(axis=1)
     with np.errstate(invalid="ignore"):   # an infinite draw (an exact commensurability's super-period)
-        if complete.any():
-            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1)
+        if complete.all():
+            bounds[:] = np.percentile(rows, PERCENTILES, axis=1, overwrite_input=overwrite)
+        elif complete.any():
+            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1, overwrite_input=True)
         if partly.any():   # nanpercentile loops over rows in Python: only the rows that need it
             bounds[:, partly] = np.nanpercentile(rows[partly], PERCENTILES, axis=1)
     return bounds[0], bounds[1]

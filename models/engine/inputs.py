@@ -14,9 +14,15 @@ import numpy as np
 from ..system import System
 
 #: planet fields carried as (samples, planets) arrays, with their Planet attribute
-PLANET_FIELDS = ("period", "radius", "mass", "eccentricity", "inclination", "omega")
+PLANET_FIELDS = ("period", "radius", "mass", "eccentricity", "inclination", "omega", "tidal_q")
 #: star fields carried as (samples, 1) arrays
 STAR_FIELDS = ("mass", "radius", "teff", "luminosity")
+#: assumptions carried as (samples, 1) arrays: the Inputs field and its Assumptions attribute
+ASSUMPTION_FIELDS = {"assumed_tidal_q": "tidal_q", "mean_molecular_weight": "mean_molecular_weight",
+                     "eclipse_wavelength_um": "eclipse_wavelength_um", "xuv_flux": "xuv_flux",
+                     "escape_efficiency": "escape_efficiency",
+                     "free_eccentricity_amplitude": "free_eccentricity_amplitude",
+                     "free_eccentricity_angle": "free_eccentricity_angle"}
 
 
 @dataclass(frozen=True)
@@ -25,8 +31,11 @@ class Inputs:
 
     Units: periods [d], planet radius [Rearth], planet mass [Mearth],
     angles [deg], star mass [Msun], star radius [Rsun], Teff [K],
-    luminosity [Lsun], magnitudes [mag] (star values and the albedo
-    are (samples, 1)).
+    luminosity [Lsun], magnitudes [mag], free-eccentricity angle [deg]
+    (star values and the assumptions are (samples, 1)). ``tidal_q`` is each planet's own Q' (NaN: the
+    assumption ``assumed_tidal_q``); the eclipse wavelength is in um.
+    ``mass_relation_z`` holds unit normal deviates of the mass-radius
+    relation's intrinsic scatter, zero for the nominal values.
     """
 
     period: np.ndarray
@@ -43,6 +52,15 @@ class Inputs:
     redistribution: float
     j_mag: np.ndarray
     k_mag: np.ndarray
+    tidal_q: np.ndarray
+    assumed_tidal_q: np.ndarray
+    mean_molecular_weight: np.ndarray
+    eclipse_wavelength_um: np.ndarray
+    xuv_flux: np.ndarray
+    escape_efficiency: np.ndarray
+    mass_relation_z: np.ndarray
+    free_eccentricity_amplitude: np.ndarray
+    free_eccentricity_angle: np.ndarray
 
     @property
     def samples(self) -> int:
@@ -61,7 +79,9 @@ def nominal_inputs(system: System) -> Inputs:
                      dtype=float).reshape(len(planets), len(PLANET_FIELDS))
     columns = {field: table[:, i][None, :].copy() for i, field in enumerate(PLANET_FIELDS)}
     stars = {f"star_{field}": np.array([[_value(getattr(star, field))]]) for field in STAR_FIELDS}
-    return Inputs(**columns, **stars,
+    assumed = {field: np.array([[float(getattr(system.assumptions, name))]]) for field, name in ASSUMPTION_FIELDS.items()}
+    return Inputs(**columns, **stars, **assumed,
                   bond_albedo=np.array([[system.assumptions.bond_albedo]]),
                   redistribution=system.assumptions.redistribution_factor,
-                  j_mag=np.array([[_value(star.j_mag)]]), k_mag=np.array([[_value(star.k_mag)]]))
+                  j_mag=np.array([[_value(star.j_mag)]]), k_mag=np.array([[_value(star.k_mag)]]),
+                  mass_relation_z=np.zeros((1, len(planets))))

@@ -67,6 +67,36 @@ _ENTRIES = [
           "temperature)", "Princeton University Press", 2010, "equilibrium temperature (Seager 2010)"),
     _book("rv_semi_amplitude", "Perryman, M.", "The Exoplanet Handbook (radial-velocity semi-amplitude)",
           "Cambridge University Press", 2018, "RV semi-amplitude (Perryman 2018)"),
+    _article("zeng2016", "Zeng, L. and Sasselov, D. D. and Jacobsen, S. B.", "Mass-Radius Relation for Rocky "
+             "Planets Based on PREM", "The Astrophysical Journal", 2016, 819, "127", "Zeng, Sasselov & Jacobsen 2016"),
+    _article("lopez_fortney2014", "Lopez, E. D. and Fortney, J. J.", "Understanding the Mass-Radius Relation for "
+             "Sub-Neptunes: Radius as a Proxy for Composition", "The Astrophysical Journal", 2014, 792, "1",
+             "Lopez & Fortney 2014"),
+    _article("jackson2008", "Jackson, B. and Greenberg, R. and Barnes, R.", "Tidal Heating of Extrasolar Planets",
+             "The Astrophysical Journal", 2008, 681, "1631-1638", "Jackson, Greenberg & Barnes 2008"),
+    _article("zahnle_catling2017", "Zahnle, K. J. and Catling, D. C.", "The Cosmic Shoreline: The Evidence that "
+             "Escape Determines which Planets Have Atmospheres, and what this May Mean for Proxima Centauri B",
+             "The Astrophysical Journal", 2017, 843, "122", "Zahnle & Catling 2017"),
+    _article("erkaev2007", "Erkaev, N. V. and Kulikov, Yu. N. and Lammer, H. and Selsis, F. and Langmayr, D. and "
+             "Jaritz, G. F. and Biernat, H. K.", "Roche Lobe Effects on the Atmospheric Loss from "
+             "``Hot Jupiters''", "Astronomy and Astrophysics", 2007, 472, "329-334",
+             "energy-limited escape (Watson et al. 1981; Erkaev et al. 2007)"),
+    _article("koll2019", "Koll, D. D. B. and Malik, M. and Mansfield, M. and Kempton, E. M.-R. and Kite, E. and "
+             "Abbot, D. and Bean, J. L.", "Identifying Candidate Atmospheres on Rocky M Dwarf Planets via Eclipse "
+             "Photometry", "The Astrophysical Journal", 2019, 886, "140",
+             "bare-rock eclipse depth (Cowan & Agol 2011; Koll et al. 2019)"),
+    _book("scale_height", "Seager, S.", "Exoplanet Atmospheres: Physical Processes (pressure scale height)",
+          "Princeton University Press", 2010, "scale height H = kT / (mu m_u g) (Seager 2010)"),
+    _article("laskar_petit2017", "Laskar, J. and Petit, A. C.", "AMD-stability and the classification of planetary "
+             "systems", "Astronomy & Astrophysics", 2017, 605, "A72", "Laskar & Petit 2017"),
+    _article("petit_laskar_boue2017", "Petit, A. C. and Laskar, J. and Bou\\'e, G.", "AMD-stability in the presence "
+             "of first-order mean motion resonances", "Astronomy & Astrophysics", 2017, 607, "A35",
+             "Petit, Laskar & Boué 2017"),
+    _article("gladman1993", "Gladman, B.", "Dynamics of Systems of Two Close Planets", "Icarus", 1993, 106,
+             "247-263", "Gladman 1993"),
+    _article("deck2013", "Deck, K. M. and Payne, M. and Holman, M. J.", "First-order Resonance Overlap and the "
+             "Stability of Close Two-planet Systems", "The Astrophysical Journal", 2013, 774, "129",
+             "Deck, Payne & Holman 2013"),
     _article("laplace_relation", "Lithwick, Y. and Wu, Y.", "Resonant Repulsion of Kepler Planet Pairs",
              "The Astrophysical Journal Letters", 2012, 756, "L11", "three-body (Laplace-type) relation"),
 ]

@@ -52,6 +52,11 @@ class Quantity:
         One line for exports and tooltips.
     source : str or None
         Key of the published method in :mod:`orbitdeck.models.engine.references`.
+    source_when : str
+        Name of a boolean array of the context (same table) that is true
+        where the method of ``source`` is what gave the value (a mass
+        estimated from the radius, say); "" when it always is. The
+        references of a derivation list a method only where it was used.
     estimate : bool
         A model estimate that views and exports flag with a caution.
     group : str
@@ -79,6 +84,7 @@ class Quantity:
     fmt: str = ".4g"
     description: str = ""
     source: str | None = None
+    source_when: str = ""
     estimate: bool = False
     group: str = ""
     views: tuple = ()
@@ -124,9 +130,10 @@ def quantity(table: str, name: str | None = None, **metadata) -> Callable:
     return declare
 
 
-def intermediate(table: str, name: str | None = None, unit: str = "", description: str = "") -> Callable:
-    """Declare an array that quantities share but no reader shows (an SI orbit, say)."""
-    return quantity(table, name, unit=unit, description=description, document=False)
+def intermediate(table: str, name: str | None = None, unit: str = "", description: str = "", **metadata) -> Callable:
+    """Declare an array that quantities share but no reader shows (an SI orbit, say); ``metadata`` may
+    name the ``source`` (and ``source_when``) of a method it applies."""
+    return quantity(table, name, unit=unit, description=description, document=False, **metadata)
 
 
 def declared(table: str | None = None, *, document: bool = True) -> list[Quantity]:

@@ -2,8 +2,10 @@
 
 The text members of ``tests/data/bad`` are ordinary files, readable and
 edited by hand. The members below are bytes no editor should be trusted
-with (binary garbage, other encodings, control characters, empty files),
-so they are written by this script, deterministically:
+with (binary garbage, other encodings, control characters, raw invisible
+and bidirectional characters, byte-order marks, empty files) or too long to
+write by hand (more planets than a system may hold), so they are written by
+this script, deterministically:
 
     python tests/data/make_bad_corpus.py            # rewrite them in tests/data/bad
     python tests/data/make_bad_corpus.py --check    # exit 1 if any differs
@@ -18,6 +20,8 @@ import argparse
 import random
 import sys
 from pathlib import Path
+
+MAX_PLANETS = 100  # orbitdeck.models.system.MAX_PLANETS, restated so that this script imports nothing of ours
 
 BAD = Path(__file__).resolve().parent / "bad"
 
@@ -58,7 +62,23 @@ def binary_members() -> dict[str, bytes]:
              + VALID_DOCUMENT).encode("utf-16")
     control = ("# Control characters: a NUL and an ESC inside the system name.\n"
                + VALID_DOCUMENT.replace('name = "Corpus Base"', 'name = "Corpus\x00Base\x1b"')).encode("utf-8")
+    rlo = ("# A raw right-to-left override (U+202E) in the second planet's name: it reorders what follows.\n"
+           + VALID_DOCUMENT.replace('name = "c"', 'name = "\u202ec"')).encode("utf-8")
+    zero_width = ("# A raw zero-width space after the first planet's letter: it prints as b.\n"
+                  + VALID_DOCUMENT.replace('name = "b"', 'name = "b\u200b"')).encode("utf-8")
+    bom = "\ufeff".encode("utf-8")
+    bom_then_zero = bom + ("# A byte-order mark is accepted; the content after it is checked as usual.\n"
+                           + VALID_DOCUMENT.replace("period = 4.51", "period = 0")).encode("utf-8")
+    double_bom = bom + bom + ("# Two byte-order marks: only one is taken for a mark.\n" + VALID_DOCUMENT).encode("utf-8")
+    head, planet = VALID_DOCUMENT.split("[[planets]]", 1)
+    many = ("# One planet more than a system may hold.\n" + head + "".join(
+        f'[[planets]]\nname = "p{i}"\nperiod = {1.0 + 0.25 * i}\nradius = 1.0\n\n' for i in range(MAX_PLANETS + 1)))
     return {
+        "raw_right_to_left_override.toml": rlo,
+        "raw_zero_width_space.toml": zero_width,
+        "bom_then_zero_period.toml": bom_then_zero,
+        "double_byte_order_mark.toml": double_bom,
+        "too_many_planets.toml": many.encode("utf-8"),
         "binary_garbage.bin": garbage,
         "not_utf8.toml": latin1,
         "utf16.toml": utf16,

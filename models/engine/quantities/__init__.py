@@ -3,4 +3,4 @@
 Modules are imported in the order their quantities appear in tables and documents.
 """
 
-from . import star, orbit, irradiation, bulk, observing, pairs, triples, skies  # noqa: F401
+from . import star, orbit, irradiation, bulk, observing, pairs, triples, skies, dynamics, interiors, atmospheres  # noqa: F401,E501

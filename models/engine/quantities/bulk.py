@@ -15,14 +15,14 @@ def radius_rearth(c):
 
 @quantity("planets", unit="earthMass", unit_label="M_earth", label="M",
           description="planet mass (measured, or estimated from the radius)", source="chen_kipping2017",
-          group=_BULK, views=("flux",))
+          source_when="mass_is_estimated", group=_BULK, views=("flux",))
 def mass_mearth(c):
     return c.mass_kg / M_EARTH
 
 
 @quantity("planets", kind="bool", label="M estimated",
           description="True where the mass is estimated from the radius (Chen & Kipping 2017)",
-          source="chen_kipping2017", estimate=True)
+          source="chen_kipping2017", source_when="mass_is_estimated", estimate=True)
 def mass_estimated(c):
     return c.mass_is_estimated
 

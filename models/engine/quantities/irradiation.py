@@ -13,15 +13,16 @@ def insolation_earth(c):
 
 
 @quantity("planets", unit="K", label="Teq", fmt=".0f",
-          description="equilibrium temperature under the stated albedo and heat redistribution",
-          source="equilibrium_temperature", estimate=True, group=_ORBITS, views=("flux",))
+          description="equilibrium temperature of the orbit-averaged flux, under the stated albedo and heat "
+                      "redistribution", source="mendez_rivera2017", estimate=True, group=_ORBITS, views=("flux",))
 def teq_k(c):
-    return irradiation.equilibrium_temperature(c.star_teff, c.star_radius_m, c.a_m, c.bond_albedo, c.redistribution)
+    return irradiation.equilibrium_temperature(c.insolation_earth, c.bond_albedo, c.redistribution)
 
 
-@intermediate("planets", unit="K", description="Teq for zero albedo and full redistribution (the TSM/ESM convention)")
+@intermediate("planets", unit="K", description="Teq for zero albedo and full redistribution (the TSM/ESM convention)",
+              source="equilibrium_temperature")
 def teq_zero_albedo_k(c):
-    return irradiation.equilibrium_temperature(c.star_teff, c.star_radius_m, c.a_m, 0.0, 0.25)
+    return irradiation.equilibrium_temperature(c.insolation_earth, 0.0, 0.25)
 
 
 @quantity("planets", label="HZ region", kind="label", labels=irradiation.HZ_REGIONS,
@@ -29,3 +30,19 @@ def teq_zero_albedo_k(c):
           group=_ORBITS, views=("flux",))
 def hz_region(c):
     return irradiation.hz_region_index(c.insolation_earth, c.hz_limit_flux)
+
+
+@quantity("planets", kind="bool", label="in conservative HZ",
+          description="insolation between the runaway and maximum greenhouse limits", source="kopparapu2014",
+          estimate=True)
+def in_conservative_hz(c):
+    return c.hz_region == irradiation.HZ_REGIONS.index("conservative")
+
+
+@quantity("planets", kind="bool", label="in optimistic HZ",
+          description="insolation between the recent Venus and early Mars limits", source="kopparapu2014",
+          estimate=True)
+def in_optimistic_hz(c):
+    region = c.hz_region
+    return (region >= irradiation.HZ_REGIONS.index("optimistic inner")) & (
+        region <= irradiation.HZ_REGIONS.index("optimistic outer"))

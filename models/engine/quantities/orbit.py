@@ -24,9 +24,11 @@ def mass_is_estimated(c):
     return np.isnan(c.mass)
 
 
-@intermediate("planets", unit="earthMass", description="measured mass, else the mass-radius relation's")
+@intermediate("planets", unit="earthMass",
+              description="measured mass, else the mass-radius relation's (its intrinsic scatter in the draws)",
+              source="chen_kipping2017", source_when="mass_is_estimated")
 def mass_or_estimate_mearth(c):
-    return np.where(c.mass_is_estimated, composition.mass_from_radius(c.radius), c.mass)
+    return np.where(c.mass_is_estimated, composition.mass_from_radius_with_scatter(c.radius, c.mass_relation_z), c.mass)
 
 
 @intermediate("planets", unit="kg")
@@ -55,7 +57,7 @@ def semi_major_axis_au(c):
     return c.a_m / AU
 
 
-@intermediate("planets", unit="m")
+@intermediate("planets", unit="m", source="kepler_third_law")
 def a_m(c):
     return orbits.semi_major_axis(c.period_s, c.star_mass_kg + c.mass_kg)
 

@@ -4,7 +4,7 @@ Rows: for each observer in period order, the star first, then every other
 planet in period order (N^2 rows for N planets). A planet's largest
 apparent size is at the closest approach of the two orbits (coplanar
 orbits sharing a focus, the common practice for compact transiting
-systems); the star's at the observer's semi-major axis.
+systems); the star's at the observer's periastron, a (1 - e).
 """
 
 from functools import lru_cache
@@ -34,16 +34,20 @@ def sky_rows(c):
 
 
 @quantity("skies", unit="au", label="closest", fmt=".4g",
-          description="closest distance between observer and body (orbits coplanar, sharing a focus)",
+          description="closest distance between observer and body (the star: at periastron; planets: closest "
+                      "approach of coplanar orbits)",
           source="murray_dermott1999", group=_SKIES, views=("skies",))
 def closest_distance_au(c):
     observer, body = c.sky_rows
     a, e, omega = c.semi_major_axis_au, c.eccentricity, c.omega_rad
-    distance = np.array(np.broadcast_to(a[:, observer], (max(a.shape[0], e.shape[0]), observer.size)))
+    distance = np.array(np.broadcast_to(c.periastron_au[:, observer], (max(a.shape[0], e.shape[0]), observer.size)))
     planet = np.flatnonzero(body >= 0)
-    low, high = np.minimum(observer[planet], body[planet]), np.maximum(observer[planet], body[planet])
-    distance[:, planet] = orbits.closest_orbit_distance(a[:, low], e[:, low], omega[:, low],
-                                                        a[:, high], e[:, high], omega[:, high])
+    # each pair of orbits once, whichever planet observes the other
+    pairs, row_pair = np.unique(np.stack([np.minimum(observer[planet], body[planet]),
+                                          np.maximum(observer[planet], body[planet])]), axis=1, return_inverse=True)
+    low, high = pairs
+    closest = orbits.closest_orbit_distance(a[:, low], e[:, low], omega[:, low], a[:, high], e[:, high], omega[:, high])
+    distance[:, planet] = closest[:, row_pair.ravel()]
     return distance
 
 

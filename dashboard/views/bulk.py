@@ -1,0 +1,326 @@
+"""Bulk & atmosphere: what the planets may be made of, whether they keep air, and whether it can be seen.
+
+Four panels, HoloViews elements drawn with the Bokeh backend:
+
+* mass against radius, with the composition curves of Zeng, Sasselov &
+  Jacobsen 2016 and the Solar System planets; estimated masses (Chen &
+  Kipping 2017) are hollow markers;
+* the cosmic shoreline of Zahnle & Catling 2017, escape speed against
+  insolation, with the Solar System bodies that anchor it;
+* tidal heat flux on a logarithmic axis against Earth's and Io's mean heat flow;
+* a spectroscopy table: scale height and the signal of one scale height for a
+  set of mean molecular weights, the transits needed for a feature of N scale
+  heights at a per-transit precision entered here, and the bare-rock eclipse depth.
+
+Every number here is a model estimate under the assumptions stated beside it.
+A tap on a planet selects it in every view.
+"""
+
+from __future__ import annotations
+
+import html
+
+import holoviews as hv
+import numpy as np
+import pandas as pd
+import panel as pn
+import param
+from bokeh.models import NumberFormatter
+
+from orbitdeck.models import atmospheres, interiors, solar_system, tides
+from orbitdeck.models.constants import R_EARTH, R_SUN
+
+from . import palette
+from .plotting import load_backend
+
+#: mean molecular weights of the spectroscopy table [u]: H2/He (solar), water, N2, CO2
+MOLECULAR_WEIGHTS = (2.3, 18.0, 28.0, 44.0)
+#: feature-to-noise ratio at which a spectral feature counts as seen
+SIGNIFICANCE = 3.0
+#: colours of the composition curves (greys and browns, apart from the planet colours)
+CURVE_COLOURS = ("#3d3d3d", "#8c6d46", "#b89f7a", "#5f8fb0", "#9cc3de")
+REFERENCE_COLOUR = "#7a7a7a"
+PLOT_HEIGHT = 380
+
+
+def _floats(values) -> np.ndarray:
+    return np.array([np.nan if v is None else v for v in values], dtype=float)
+
+
+def _bounds(derived, key: str, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(value - low, high - value) of a planet column from its Monte Carlo interval (zeros without one)."""
+    found = (derived.intervals or {}).get("planets", {}).get(key) if derived.intervals else None
+    if found is None:
+        return np.zeros_like(values), np.zeros_like(values)
+    low, high = (np.asarray(b, dtype=float) for b in found)
+    return np.clip(values - low, 0.0, None), np.clip(high - values, 0.0, None)
+
+
+class BulkView(param.Parameterized):
+    """The "Bulk & atmosphere" view of one app."""
+
+    title = "Bulk & atmosphere"
+    tab = title
+
+    scale_heights = param.Number(default=2.0, bounds=(0.5, 20.0), doc="Size of the feature in scale heights")
+    precision_ppm = param.Number(default=30.0, bounds=(0.1, 1e5), doc="Noise of one transit on the feature [ppm]")
+    revision = param.Integer(default=0, doc="Counts the derivations shown")
+    selected = param.String(default=None, allow_None=True, doc="The app's selected planet, as shown here")
+
+    def __init__(self, app, **params):
+        super().__init__(**params)
+        load_backend("bokeh")   # HoloViews' Bokeh options, without changing the current backend
+        self.app = app
+        self.taps = {}
+        mass_radius = (self._composition_curves() * self._reference_planets()
+                       * hv.DynamicMap(self._mass_radius_errors) * self._tappable(self._mass_radius_points, "mr")
+                       * hv.DynamicMap(self._mass_radius_selected))
+        shoreline = (self._shoreline_line() * self._shoreline_references()
+                     * self._tappable(self._shoreline_points, "shore") * hv.DynamicMap(self._shoreline_selected))
+        heat = (self._tappable(self._heat_bars, "heat") * hv.HLine(tides.EARTH_HEAT_FLUX).opts(
+                    color=palette.ACCENT, line_dash="dashed", line_width=2)
+                * hv.HLine(tides.IO_HEAT_FLUX).opts(color=palette.STAR_COLOUR, line_dash="dashed", line_width=2))
+        self.plots = {
+            "mass_radius": mass_radius.opts(
+                title="Mass and radius, with composition curves (Zeng et al. 2016)", logx=True, logy=True,
+                xlabel="mass [M\u2295]", ylabel="radius [R\u2295]", height=PLOT_HEIGHT, responsive=True,
+                legend_position="right"),
+            "shoreline": shoreline.opts(
+                title="Cosmic shoreline (Zahnle & Catling 2017)", logx=True, logy=True,
+                xlabel="escape speed [km/s]", ylabel="insolation [S\u2295]", height=PLOT_HEIGHT, responsive=True,
+                legend_position="top_left"),
+            "heat": heat.opts(
+                title=f"Tidal heat flux for the stated Q' (dashed: Earth {tides.EARTH_HEAT_FLUX} W/m\u00b2, "
+                      f"Io {tides.IO_HEAT_FLUX} W/m\u00b2)",
+                logy=True, xlabel="planet", ylabel="heat flux [W/m\u00b2]", height=PLOT_HEIGHT, responsive=True),
+        }
+        self.panes = {name: pn.pane.HoloViews(plot, backend="bokeh", sizing_mode="stretch_width")
+                      for name, plot in self.plots.items()}
+        self.caution = pn.pane.HTML("", sizing_mode="stretch_width", styles={"font-size": "12px", "color": "#5c4400"})
+        self.table = pn.widgets.Tabulator(pd.DataFrame(), disabled=True, show_index=False, selectable=1, height=300,
+                                          layout="fit_data_table", sizing_mode="stretch_width")
+        self.table.param.watch(self._table_selected, "selection")
+        self.scale_input = pn.widgets.FloatInput.from_param(self.param.scale_heights, name="feature [scale heights]",
+                                                            step=0.5, width=170)
+        self.precision_input = pn.widgets.FloatInput.from_param(self.param.precision_ppm,
+                                                                name="precision per transit [ppm]", step=5.0, width=190)
+        self.param.watch(self._update_table, ["scale_heights", "precision_ppm", "revision"])
+        app.param.watch(self._refresh, "derived")
+        app.param.watch(self._follow_selection, "selected")
+        self._refresh()
+
+    # -- state -------------------------------------------------------------------------------
+    def _refresh(self, *_):
+        """Show the app's current derivation (later, when the tab is hidden in a served page)."""
+        if self.app.tab_hidden(self.tab):
+            self.app.mark_stale(self.tab, (id(self), "_refresh"), self._refresh)
+            return
+        with pn.io.hold():
+            self.param.update(revision=self.revision + 1, selected=self.app.selected)
+            self.caution.object = self._caution_text()
+
+    def _follow_selection(self, *_):
+        if self.app.tab_hidden(self.tab):
+            self.app.mark_stale(self.tab, (id(self), "_refresh"), self._refresh)
+            return
+        with pn.io.hold():
+            self.selected = self.app.selected
+            self._sync_table_selection()
+
+    def _planets(self) -> dict:
+        """Planet columns this view draws, as float arrays, with names and colours."""
+        d = self.app.derived
+        pl = d.planets
+        names = [str(n) for n in pl["name"]]
+        columns = {key: _floats(pl[key]) for key in (
+            "mass_mearth", "radius_rearth", "escape_speed_kms", "insolation_earth", "tidal_heat_flux_w_m2")}
+        return {"name": names, "colour": self.app.colours.colours(names),
+                "estimated": np.asarray(pl["mass_estimated"], dtype=bool), **columns}
+
+    def _tappable(self, method, key):
+        """A DynamicMap of ``method`` whose tapped point selects its planet in the app."""
+        dmap = hv.DynamicMap(method)
+        tap = hv.streams.Selection1D(source=dmap)
+        tap.add_subscriber(lambda index: self._tapped(index, key))
+        self.taps[key] = tap
+        return dmap
+
+    def _tapped(self, index, key):
+        if index:
+            names = self._planets()["name"]
+            if 0 <= index[0] < len(names):
+                self.app.selected = names[index[0]]
+
+    # -- mass and radius ---------------------------------------------------------------------
+    def _composition_curves(self):
+        curves = [hv.Curve((mass, radius), "mass", "radius", label=label).opts(color=colour, line_width=2)
+                  for (label, (mass, radius)), colour in zip(interiors.composition_curves().items(), CURVE_COLOURS)]
+        return hv.Overlay(curves)
+
+    def _reference_planets(self):
+        ref = solar_system.reference_points(planets_only=True)
+        keep = [i for i, m in enumerate(ref["mass_mearth"]) if m < 40.0]   # the giants lie off the diagram
+        frame = pd.DataFrame({k: [ref[k][i] for i in keep] for k in ("name", "mass_mearth", "radius_rearth")})
+        points = hv.Scatter(frame, "mass_mearth", ["radius_rearth", "name"], label="Solar System").opts(
+            color=REFERENCE_COLOUR, marker="square", size=8, tools=["hover"])
+        labels = hv.Labels(frame, ["mass_mearth", "radius_rearth"], "name").opts(
+            text_font_size="9pt", text_color=REFERENCE_COLOUR, yoffset=0.04, text_align="left")
+        return points * labels
+
+    def _mass_radius_frame(self) -> pd.DataFrame:
+        p = self._planets()
+        return pd.DataFrame({"name": p["name"], "mass": p["mass_mearth"], "radius": p["radius_rearth"],
+                             "colour": p["colour"], "fill": np.where(p["estimated"], "white", p["colour"]),
+                             "mass_kind": np.where(p["estimated"], "estimated (Chen & Kipping 2017)", "measured")})
+
+    @param.depends("revision")
+    def _mass_radius_points(self):
+        return hv.Scatter(self._mass_radius_frame(), "mass", ["radius", "name", "mass_kind", "colour", "fill"],
+                          label="planets (hollow: estimated mass)").opts(
+            color="colour", fill_color="fill", line_color="colour", size=12, line_width=2, tools=["hover", "tap"],
+            nonselection_alpha=1.0, selection_alpha=1.0)
+
+    @param.depends("revision")
+    def _mass_radius_errors(self):
+        d, p = self.app.derived, self._planets()
+        mass, radius = p["mass_mearth"], p["radius_rearth"]
+        m_low, m_high = _bounds(d, "mass_mearth", mass)
+        r_low, r_high = _bounds(d, "radius_rearth", radius)
+        vertical = hv.ErrorBars((mass, radius, r_low, r_high), "mass", ["radius", "r_low", "r_high"])
+        horizontal = hv.ErrorBars((mass, radius, m_low, m_high), "mass", ["radius", "m_low", "m_high"],
+                                  horizontal=True)
+        style = dict(color=palette.MUTED_INK, line_width=1)
+        return vertical.opts(**style) * horizontal.opts(**style)
+
+    @param.depends("revision", "selected")
+    def _mass_radius_selected(self):
+        frame = self._mass_radius_frame().rename(columns={"name": "highlighted_name"})
+        chosen = frame[frame["highlighted_name"] == self.selected]
+        return hv.Scatter(chosen, "mass", ["radius", "highlighted_name"]).opts(
+            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2, tools=["hover"])
+
+    # -- cosmic shoreline --------------------------------------------------------------------
+    def _shoreline_line(self):
+        speed = np.geomspace(0.5, 80.0, 50)
+        return hv.Curve((speed, atmospheres.shoreline_insolation(speed)), "escape speed", "insolation",
+                        label="shoreline I \u221d v\u2074 (through Mars)").opts(color="#2f6f9f", line_width=2)
+
+    def _shoreline_references(self):
+        ref = pd.DataFrame(solar_system.reference_points())
+        ref["atmosphere"] = np.where(ref["has_atmosphere"], "yes", "no")
+        kept = hv.Scatter(ref[ref["has_atmosphere"]], "escape_speed_kms", ["insolation_earth", "name", "atmosphere"],
+                          label="Solar System, with atmosphere").opts(
+            color=REFERENCE_COLOUR, marker="square", size=8, tools=["hover"])
+        bare = hv.Scatter(ref[~ref["has_atmosphere"]], "escape_speed_kms", ["insolation_earth", "name", "atmosphere"],
+                          label="Solar System, airless").opts(
+            color="white", line_color=REFERENCE_COLOUR, marker="square", size=8, line_width=2, tools=["hover"])
+        labels = hv.Labels(ref, ["escape_speed_kms", "insolation_earth"], "name").opts(
+            text_font_size="8pt", text_color=REFERENCE_COLOUR, xoffset=0.0, yoffset=0.0, text_align="left")
+        return kept * bare * labels
+
+    def _shoreline_frame(self) -> pd.DataFrame:
+        p = self._planets()
+        return pd.DataFrame({"name": p["name"], "speed": p["escape_speed_kms"], "insolation": p["insolation_earth"],
+                             "colour": p["colour"]})
+
+    @param.depends("revision")
+    def _shoreline_points(self):
+        return hv.Scatter(self._shoreline_frame(), "speed", ["insolation", "name", "colour"], label="planets").opts(
+            color="colour", size=12, tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0)
+
+    @param.depends("revision", "selected")
+    def _shoreline_selected(self):
+        frame = self._shoreline_frame()
+        return hv.Scatter(frame[frame["name"] == self.selected], "speed", ["insolation", "name"]).opts(
+            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2)
+
+    # -- tidal heating -----------------------------------------------------------------------
+    @param.depends("revision", "selected")
+    def _heat_bars(self):
+        p = self._planets()
+        flux = p["tidal_heat_flux_w_m2"]
+        shown = np.where(flux > 0.0, flux, np.nan)   # a circular orbit has no tidal heating: no bar on a log axis
+        frame = pd.DataFrame({"planet": p["name"], "flux": shown})
+        colours = dict(zip(p["name"], p["colour"]))
+        outline = {name: palette.HIGHLIGHT_COLOUR if name == self.selected else colours[name] for name in p["name"]}
+        known = [f for f in shown if np.isfinite(f)] + [tides.EARTH_HEAT_FLUX, tides.IO_HEAT_FLUX]
+        return hv.Bars(frame, "planet", "flux").opts(
+            color=hv.dim("planet").categorize(colours), line_color=hv.dim("planet").categorize(outline),
+            line_width=2, tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
+            ylim=(min(known) / 10.0, max(known) * 10.0), framewise=True)
+
+    # -- spectroscopy table ------------------------------------------------------------------
+    def spectroscopy_frame(self) -> pd.DataFrame:
+        """The rows of the spectroscopy table: one per planet."""
+        d = self.app.derived
+        pl = d.planets
+        teq, gravity = _floats(pl["teq_k"]), _floats(pl["surface_gravity_ms2"])
+        radius_m = _floats(pl["radius_rearth"]) * R_EARTH
+        star_radius_m = d.star["radius_rsun"] * R_SUN
+        frame = {"planet": [str(n) for n in pl["name"]], "Teq [K]": teq}
+        for mu in MOLECULAR_WEIGHTS:
+            height = atmospheres.scale_height(teq, mu, gravity)
+            signal = atmospheres.transmission_signal(height, radius_m, star_radius_m) * 1e6
+            frame[f"H(\u03bc={mu:g}) [km]"] = height / 1000.0
+            frame[f"signal(\u03bc={mu:g}) [ppm]"] = signal
+            frame[f"transits(\u03bc={mu:g})"] = atmospheres.transits_needed(self.scale_heights * signal,
+                                                                             self.precision_ppm, SIGNIFICANCE)
+        assumed = self.app.system.assumptions
+        frame[f"eclipse {assumed.eclipse_wavelength_um:g} \u00b5m [ppm]"] = _floats(pl["eclipse_depth_ppm"])
+        frame["escape [kg/s]"] = _floats(pl["escape_rate_kg_s"])
+        return pd.DataFrame(frame)
+
+    def _update_table(self, *_):
+        frame = self.spectroscopy_frame()
+        formats = {c: NumberFormatter(format="0.0" if c.startswith(("H(", "Teq")) else "0.00",
+                                      nan_format="\u2014") for c in frame.columns[1:]}
+        for c in frame.columns:
+            if c.startswith("transits") or c.startswith("escape"):
+                formats[c] = NumberFormatter(format="0,0" if c.startswith("transits") else "0.00e+0",
+                                             nan_format="\u2014")
+        with pn.io.hold():
+            self.table.formatters = formats
+            self.table.value = frame
+            self._sync_table_selection()
+
+    def _sync_table_selection(self):
+        names = list(self.table.value["planet"]) if "planet" in self.table.value else []
+        wanted = [names.index(self.app.selected)] if self.app.selected in names else []
+        if self.table.selection != wanted:
+            self.table.selection = wanted
+
+    def _table_selected(self, event):
+        names = list(self.table.value["planet"]) if "planet" in self.table.value else []
+        if event.new and 0 <= event.new[0] < len(names):
+            self.app.selected = names[event.new[0]]
+
+    def _caution_text(self) -> str:
+        a = self.app.system.assumptions
+        d = self.app.derived
+        estimated = [str(n) for n, e in zip(d.planets["name"], d.planets["mass_estimated"]) if e]
+        lines = [
+            "<b>Model estimates, not measurements.</b> Composition curves and core mass fractions: Zeng, Sasselov "
+            "&amp; Jacobsen 2016; H/He envelope fractions: Lopez &amp; Fortney 2014 at an assumed age of "
+            f"{interiors.ENVELOPE_AGE_GYR:g} Gyr. A mass and radius fit many interiors.",
+            f"Tidal heating for Q' = {a.tidal_q:g} (where a planet gives none of its own), synchronous rotation; "
+            "a circular orbit (e = 0) gets none and no bar.",
+            f"Escape: energy-limited, XUV flux {a.xuv_flux:g} of the bolometric flux, efficiency "
+            f"{a.escape_efficiency:g}. Shoreline drawn through Mars (Zahnle &amp; Catling 2017's I \u221d v\u2074).",
+            f"Spectroscopy: scale heights at Teq; transits for a {self.scale_heights:g}-scale-height feature seen at "
+            f"{SIGNIFICANCE:g}\u03c3 with {self.precision_ppm:g} ppm per transit; eclipse of a bare black-body rock "
+            f"(no heat transport) at {a.eclipse_wavelength_um:g} \u00b5m; mean molecular weight in the assumptions "
+            f"{a.mean_molecular_weight:g}.",
+        ]
+        if estimated:
+            lines.append("Masses of " + html.escape(", ".join(estimated)) + " are estimated from the radius (Chen "
+                         "&amp; Kipping 2017, with the relation's scatter in the ranges): so is everything drawn "
+                         "from them.")
+        return "<br>".join(lines)
+
+    def panel(self):
+        return pn.Column(
+            self.caution,
+            pn.Row(self.panes["mass_radius"], self.panes["shoreline"], sizing_mode="stretch_width"),
+            self.panes["heat"],
+            pn.Row(self.scale_input, self.precision_input),
+            self.table, sizing_mode="stretch_width")

@@ -1,0 +1,93 @@
+"""Hill stability with eccentricities (Gladman 1993, Icarus 106, 247) and first-order resonance
+overlap (Deck, Payne & Holman 2013, ApJ 774, 129).
+
+Checked against: Gladman's own circular-orbit limit, a separation of
+2 sqrt(3) mutual Hill radii (Chambers et al. 1996's mutual Hill radius;
+the boundary found with scipy's brentq), the criterion's behaviour with
+eccentricity (more eccentric orbits need a wider spacing), and the
+overlap zone's 1.46 epsilon^(2/7) in the period-ratio form of Kepler's law.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.optimize import brentq
+
+from orbitdeck.models import derive, dynamics
+
+
+@pytest.mark.parametrize("mu_in, mu_out", [(1e-9, 1e-9), (3e-9, 1e-9), (1e-10, 2e-10)])
+def test_gladman_reduces_to_two_sqrt_three_mutual_hill_radii_for_circular_orbits(mu_in, mu_out):
+    # Gladman 1993: for e = 0 and small masses, Hill stable iff a2 - a1 > 2 sqrt(3) R_H,m,
+    # R_H,m = ((m1 + m2) / 3M*)^(1/3) (a1 + a2) / 2 (Chambers, Wetherill & Boss 1996 eq. 1); the boundary of the
+    # full criterion found with brentq agrees to order (mu)^(1/3) ~ 1e-3
+    def margin(a_out):
+        left = (mu_in + mu_out) ** -3 * (mu_in + mu_out / a_out) * (mu_in + mu_out * np.sqrt(a_out)) ** 2
+        return left - 1 - 3 ** (4 / 3) * mu_in * mu_out / (mu_in + mu_out) ** (4 / 3)
+
+    boundary = brentq(margin, 1.0 + 1e-6, 1.5, xtol=1e-15)
+    spacing = dynamics.mutual_hill_spacing(1.0, boundary, mu_in, mu_out, 1.0)
+    assert spacing == pytest.approx(2 * np.sqrt(3), rel=5e-3)
+    assert dynamics.gladman_hill_stable(1.0, boundary * (1 + 1e-6), 0.0, 0.0, mu_in, mu_out)
+    assert not dynamics.gladman_hill_stable(1.0, boundary * (1 - 1e-6), 0.0, 0.0, mu_in, mu_out)
+
+
+def test_small_eccentricity_expansion():
+    # to second order in e and in the spacing, Gladman's criterion reads
+    # (Delta / a)^2 > 12 (R_H / a)^2 + (8/3) (e1^2 + e2^2), R_H = ((m1 + m2) / 3M*)^(1/3) a (Gladman 1993, his
+    # expansion for small eccentricities; from memory, and re-derived from the full criterion): the boundary
+    # found with brentq agrees to a few per cent
+    mu, e1, e2 = 1e-9, 0.01, 0.006
+
+    def margin(a_out):
+        return float(dynamics.gladman_hill_stable(1.0, a_out, e1, e2, mu, mu)) - 0.5
+
+    boundary = brentq(margin, 1.0 + 1e-6, 1.5, xtol=1e-12)
+    expected = np.sqrt(12 * (2 * mu / 3) ** (2 / 3) + 8 / 3 * (e1**2 + e2**2))
+    assert boundary - 1.0 == pytest.approx(expected, rel=0.03)
+
+
+def test_eccentric_orbits_need_a_wider_spacing():
+    # gamma_i = sqrt(1 - e_i^2) < 1 lowers the left side (Gladman 1993): the boundary moves outwards with e
+    mu = 3e-6
+    boundaries = []
+    for e in (0.0, 0.02, 0.05, 0.1):
+        a_out = np.linspace(1.0001, 1.6, 60000)
+        stable = dynamics.gladman_hill_stable(1.0, a_out, e, e, mu, mu)
+        boundaries.append(a_out[np.argmax(stable)])
+    assert all(later > earlier for earlier, later in zip(boundaries, boundaries[1:]))
+
+
+def test_overlap_zone_edge_in_period_ratio():
+    # (a' - a) / a < 1.46 epsilon^(2/7) (Deck, Payne & Holman 2013); for epsilon = 6e-6 (two Earths around the
+    # Sun) 1.46 x (6e-6)^(2/7) = 0.0470, a period ratio of 1.0470^1.5 = 1.0714 by Kepler's law
+    assert dynamics.overlap_spacing(6e-6) == pytest.approx(1.46 * 6e-6 ** (2 / 7), rel=1e-12)
+    assert dynamics.overlap_spacing(6e-6) == pytest.approx(0.0470, abs=1e-4)
+    assert dynamics.in_overlap_zone(1.0, 1.046, 6e-6) and not dynamics.in_overlap_zone(1.0, 1.048, 6e-6)
+
+
+def planets(make_system, ratio, e=0.0, mass=3.0):
+    return make_system([dict(name="b", period=10.0, radius=1.5, mass=mass, eccentricity=e),
+                        dict(name="c", period=10.0 * ratio, radius=1.5, mass=mass)])
+
+
+def test_derive_flags_overlap_and_hill_stability(make_system):
+    close = derive(planets(make_system, 1.05))
+    assert close.pairs["in_overlap_zone"][0] and close.pairs["ttv_inner_min"][0] != close.pairs["ttv_inner_min"][0]
+    assert any("overlapping first-order resonances" in w for w in close.warnings)
+    wide = derive(planets(make_system, 1.5))
+    assert not wide.pairs["in_overlap_zone"][0] and wide.pairs["hill_stable"][0]
+    assert not any("overlapping" in w for w in wide.warnings)
+
+
+def test_eccentric_pair_gets_the_eccentric_warning_instead_of_the_circular_one(make_system):
+    # spaced beyond 2 sqrt(3) mutual Hill radii, but with e = 0.3 not Hill stable by Gladman's criterion
+    derived = derive(planets(make_system, 1.5, e=0.3))
+    assert derived.pairs["mutual_hill_spacing"][0] > 2 * np.sqrt(3)
+    assert not derived.pairs["hill_stable"][0]
+    assert any("not Hill stable for their eccentricities" in w for w in derived.warnings)
+    assert not any("2 sqrt(3)" in w for w in derived.warnings)
+    # circular and tight: the circular-orbit warning as before
+    tight = derive(planets(make_system, 1.02, mass=10.0))
+    assert any("2 sqrt(3)" in w for w in tight.warnings) and not tight.pairs["hill_stable"][0]
