@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G, M_EARTH, M_JUP, M_SUN, R_EARTH
+from .constants import G, M_EARTH, M_JUP
 
 # Chen & Kipping 2017 (ApJ 834, 17), Table 1, mean posterior values:
 # R = C M^S piecewise in Earth units, continuous at the transitions.
@@ -12,7 +12,6 @@ _TERRAN_C, _TERRAN_S = 1.008, 0.2790
 _NEPTUNIAN_S = 0.589
 _TERRAN_TO_NEPTUNIAN_MEARTH = 2.04
 _NEPTUNIAN_TO_JOVIAN_MEARTH = 0.414 * M_JUP / M_EARTH
-_JOVIAN_TO_STELLAR_MEARTH = 0.0800 * M_SUN / M_EARTH
 _R_TERRAN_MAX = _TERRAN_C * _TERRAN_TO_NEPTUNIAN_MEARTH**_TERRAN_S
 _NEPTUNIAN_C = _R_TERRAN_MAX / _TERRAN_TO_NEPTUNIAN_MEARTH**_NEPTUNIAN_S
 #: largest radius [Rearth] for which the relation can be inverted uniquely
@@ -137,12 +136,3 @@ def escape_speed(mass_kg, radius_m):
     """
     return np.sqrt(2.0 * G * mass_kg / radius_m)
 
-
-def kg_from_mearth(mass_mearth):
-    """Earth masses to kilograms."""
-    return np.asarray(mass_mearth) * M_EARTH
-
-
-def m_from_rearth(radius_rearth):
-    """Earth radii to metres."""
-    return np.asarray(radius_rearth) * R_EARTH

@@ -25,6 +25,12 @@ def _article(key, authors, title, journal, year, volume, pages, citation):
     return Reference(key, citation, bibtex)
 
 
+def _chapter(key, authors, title, book, editor, publisher, year, pages, citation):
+    bibtex = (f"@incollection{{{key},\n  author = {{{authors}}},\n  title = {{{title}}},\n  booktitle = {{{book}}},\n"
+              f"  editor = {{{editor}}},\n  publisher = {{{publisher}}},\n  year = {{{year}}},\n  pages = {{{pages}}}\n}}")
+    return Reference(key, citation, bibtex)
+
+
 def _book(key, authors, title, publisher, year, citation):
     bibtex = (f"@book{{{key},\n  author = {{{authors}}},\n  title = {{{title}}},\n  publisher = {{{publisher}}},\n"
               f"  year = {{{year}}}\n}}")
@@ -34,8 +40,8 @@ def _book(key, authors, title, publisher, year, citation):
 _ENTRIES = [
     _book("murray_dermott1999", "Murray, C. D. and Dermott, S. F.", "Solar System Dynamics",
           "Cambridge University Press", 1999, "Murray & Dermott 1999"),
-    _article("winn2010", "Winn, J. N.", "Transits and Occultations", "Exoplanets (ed. S. Seager), University of "
-             "Arizona Press", 2010, "", "55-77", "Winn 2010"),
+    _chapter("winn2010", "Winn, J. N.", "Transits and Occultations", "Exoplanets", "Seager, S.",
+             "University of Arizona Press", 2010, "55-77", "Winn 2010"),
     _article("kopparapu2014", "Kopparapu, R. K. and Ramirez, R. M. and SchottelKotte, J. and Kasting, J. F. and "
              "Domagal-Goldman, S. and Eymet, V.", "Habitable Zones around Main-sequence Stars: Dependence on "
              "Planetary Mass", "The Astrophysical Journal Letters", 2014, 787, "L29", "Kopparapu et al. 2014"),
