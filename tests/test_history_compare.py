@@ -90,7 +90,7 @@ def test_a_pinned_comparison_lists_what_changed_with_sign_and_size(app):
     view = app.views["Compare"]
     html = view.body.object
     assert "transit_depth_ppm" in html and "+" in html
-    row = html[html.index(f'data-key="planets.transit_depth_ppm"'):].split("</tr>")[0]
+    row = html[html.index('data-key="planets.transit_depth_ppm"'):].split("</tr>")[0]
     assert f"+{depth.sigmas:.2f}" in row
     # smaller than pinned: a minus sign
     inner.radius = old_radius * 0.5

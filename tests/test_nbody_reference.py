@@ -16,7 +16,7 @@ import pytest
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
-from orbitdeck.models.constants import EARTH_TO_SUN_MASS, GM_SUN_AU3_D2
+from orbitdeck.models.constants import GM_SUN_AU3_D2
 from orbitdeck.models.nbody.integrator import WisdomHolman, step_many
 from orbitdeck.models.nbody.jacobi import Masses, cartesian_from_elements, heliocentric_from_jacobi, semi_major_axis
 from orbitdeck.models.nbody.kepler_drift import kepler_drift, stumpff_c0_to_c3

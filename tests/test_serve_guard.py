@@ -10,19 +10,13 @@
 
 from __future__ import annotations
 
-import contextlib
 import http.client
-import os
 import socket
-import subprocess
-import sys
 import time
 
 import pytest
 
-from browser_support import stop, wait_until_serving
 from orbitdeck.dashboard.serve import port_is_free
-from orbitdeck.dashboard.sharing import share_settings
 
 
 def test_a_port_left_in_time_wait_is_free_and_a_listened_one_is_not():
