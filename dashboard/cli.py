@@ -12,6 +12,8 @@ import sys
 from orbitdeck import __version__
 
 EXIT_BAD_INPUT = 2
+#: ``check``: the file is valid but has warnings (a status of its own, so scripts can tell it from ok and from bad)
+EXIT_WARNINGS = 3
 DEFAULT_SAMPLES = 4000
 DEFAULT_SEED = 20261201
 #: most Monte Carlo samples a command draws (100 planets with 20000 draws: about 7 s and 0.7 GB)
@@ -157,9 +159,25 @@ def cmd_cite(args) -> int:
 
 
 def cmd_check(args) -> int:
-    _load(args.file)
-    print("ok")
-    return 0
+    """Errors (status 2), else every warning of the file and of its nominal derivation (status 3), else ok (0)."""
+    from orbitdeck.dashboard.text_tables import unsigned_zeros
+    from orbitdeck.models import derive
+    from orbitdeck.models.engine.checks import system_warnings
+
+    source = _source(args.file)
+    notes = []
+    system = source.system(notes)
+    model = system_warnings(system, derive(system, samples=0))
+    warnings = [str(note) for note in notes] + [f"{source.name}: {unsigned_zeros(text)}" for text in model]
+    for warning in warnings:
+        say(f"warning: {warning}")
+    if not warnings:
+        print("ok")
+        return 0
+    print(f"valid, with {len(warnings)} warning{'' if len(warnings) == 1 else 's'}"
+          + ("; those of the derivation rest on its nominal values, model estimates under the file's assumptions"
+             if model else ""))
+    return EXIT_WARNINGS
 
 
 def _add_file(parser, required=False):
@@ -216,9 +234,18 @@ def build_parser() -> argparse.ArgumentParser:
     add_overwrite(cite, "OUT")
     cite.set_defaults(run=cmd_cite)
 
-    check = commands.add_parser("check", help="check a system file",
-                                description="Check a system file: print 'ok' and exit 0, or one line per problem "
-                                            "and exit 2.")
+    check = commands.add_parser(
+        "check", help="check a system file, and warn of doubtful systems",
+        description="Check a system file, then derive its nominal values and look for what is doubtful in the "
+                    "system (orbits that cross, planets closer than the Hill-stability limits, a star outside "
+                    "the habitable-zone fit's range, a unit string astropy remarks on...). Exit statuses: 0 and "
+                    "'ok' when the file is valid and nothing is doubtful; 3 when it is valid but has warnings, "
+                    "each printed on its own line to stderr ('warning: FILE: ...', naming the planets), then "
+                    "'valid, with N warnings'; 2 when it is not valid, with one line per problem on stderr "
+                    "('FILE: planets[1] (c).period: reason'). Warnings of the derivation rest on model "
+                    "estimates under the file's assumptions. Masses estimated from radii are normal and no "
+                    "warning here ('orbitdeck table' notes them).",
+        epilog="In a script: 'orbitdeck check F || [ $? -eq 3 ]' accepts a valid file with warnings.")
     _add_file(check, required=True)
     check.set_defaults(run=cmd_check)
 

@@ -24,7 +24,7 @@ import tomli_w
 
 from .file_sky import SkyFields, _join, _kind
 from .names import display_key, name_problem
-from .problems import Problem, SystemFileError, SystemFileWarning
+from .problems import Problem, SystemFileError, SystemFileWarning, valid_planet_names, with_planet_names
 from .quantity import Uncertainty
 from .safe_io import atomic_write, read_regular_file
 from .system import MAX_PLANETS, REDISTRIBUTION_FACTORS, Assumptions, Planet, Star, System, _Body
@@ -273,6 +273,8 @@ def system_from_document(doc: dict, source: str = "<document>", notes: list | No
                            + ("" if other == planet.name else f", whose name {other!r} looks the same") + ")")
             seen.setdefault(key, i)
     sites = check.sites(doc["sites"]) if "sites" in doc else []
+    names = valid_planet_names(raw_planets, check.problems)
+    check.problems, check.notes = with_planet_names(check.problems, names), with_planet_names(check.notes, names)
     if check.problems:
         raise SystemFileError(check.problems)
     if notes is None:

@@ -24,6 +24,7 @@ import numpy as np
 
 from . import composition, kepler, observability, orbits
 from .constants import DAY, M_EARTH, M_SUN, R_EARTH, R_SUN
+from .problems import planet_field
 from .system import System
 
 #: the longest range one forecast may span [d] (5 Julian years)
@@ -57,7 +58,8 @@ class Conditions:
 
 
 class ForecastInputError(ValueError):
-    """Input a forecast cannot use; ``problems`` holds (field, reason) pairs."""
+    """Input a forecast cannot use; ``problems`` holds (field, reason) pairs, a planet's field naming
+    the planet (``planets[1] (c).transit_time``)."""
 
     def __init__(self, problems: list[tuple[str, str]]):
         self.problems = list(problems)
@@ -253,8 +255,8 @@ def forecast_transits(system: System, start: float, end: float, ttv_padding=None
     check_range(start, end)
     planets = system.planets
     timed = [i for i, p in enumerate(planets) if p.transit_time is not None]
-    missing = [(f"planets[{i}].transit_time", f"planet {p.name!r} has none (a mid-transit time, BJD_TDB), which "
-                "forecasts need") for i, p in enumerate(planets) if p.transit_time is None]
+    missing = [(planet_field(f"planets[{i}].transit_time", p.name), "has none (a mid-transit time, BJD_TDB), "
+                "which forecasts need") for i, p in enumerate(planets) if p.transit_time is None]
     if not timed:
         raise ForecastInputError(missing)
     notes = [f"{field}: {reason}; it is left out" for field, reason in missing]

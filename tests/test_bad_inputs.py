@@ -42,9 +42,11 @@ def _param(name, *rest):
 
 
 def _expectations(name):
+    """([(field, reason, field as shown)...], count) of a member."""
     entry = EXPECTED[name]
-    pairs = [(entry["field"], entry["reason"]), *[tuple(p) for p in entry.get("also", [])]]
-    return pairs, entry.get("count", 1)
+    expected = [(entry["field"], entry["reason"], entry.get("shown", entry["field"])),
+                *[(also[0], also[1], also[2] if len(also) > 2 else also[0]) for also in entry.get("also", [])]]
+    return expected, entry.get("count", 1)
 
 
 COMMANDS = ("check", "table")
@@ -70,9 +72,10 @@ def test_corpus_is_large_and_fully_described():
     assert len(MEMBERS) >= 100
     assert set(MEMBERS) == set(EXPECTED)
     for name, entry in EXPECTED.items():
-        assert set(entry) <= {"field", "reason", "count", "also"}, name
+        assert set(entry) <= {"field", "reason", "shown", "count", "also"}, name
         assert entry["reason"].strip(), name
         assert entry.get("count", 1) >= 1 + len(entry.get("also", [])), name
+        assert all(len(also) in (2, 3) for also in entry.get("also", [])), name
 
 
 def test_text_members_say_what_is_wrong_on_their_first_line():
@@ -99,11 +102,12 @@ def test_no_member_is_large():
 # -- the loader --------------------------------------------------------------------------------
 
 def _assert_problems(problems, name, source):
-    pairs, count = _expectations(name)
+    expected, count = _expectations(name)
     assert all(p.file == source for p in problems), problems
-    for field, reason in pairs:
-        assert any(p.field == field and reason.casefold() in p.reason.casefold() for p in problems), (
-            f"{name}: expected {field!r} ({reason!r}), got {[(p.field, p.reason) for p in problems]}")
+    for field, reason, shown in expected:
+        assert any(p.field == field and p.where == shown and reason.casefold() in p.reason.casefold()
+                   for p in problems), (
+            f"{name}: expected {shown!r} ({reason!r}), got {[(p.where, p.reason) for p in problems]}")
     assert len(problems) == count, [(p.field, p.reason) for p in problems]
 
 
@@ -129,7 +133,7 @@ def _is_control(char: str) -> bool:
 def test_cli_refuses_member(cli_runs, name, command):
     result = cli_runs[(name, command)]
     path = str(BAD / name)
-    pairs, count = _expectations(name)
+    expected, count = _expectations(name)
     assert "Traceback" not in result.stderr
     assert result.returncode == 2, result.stderr
     assert result.stdout == ""
@@ -137,8 +141,8 @@ def test_cli_refuses_member(cli_runs, name, command):
     assert 1 <= len(lines) <= MAX_LINES and len(lines) == count, lines
     assert all(line.startswith(f"{path}: ") for line in lines), lines
     assert not any(_is_control(c) for c in result.stderr), repr(result.stderr)
-    for field, reason in pairs:
-        prefix = f"{path}: {field}: " if field else f"{path}: "
+    for _, reason, shown in expected:
+        prefix = f"{path}: {shown}: " if shown else f"{path}: "
         assert any(line.startswith(prefix) and reason.casefold() in line[len(prefix):].casefold()
                    for line in lines), (field, reason, lines)
 

@@ -313,8 +313,10 @@ def test_every_problem_is_reported_at_once(tmp_path):
         assert reason in found.get(field, ""), (field, found)
     # the planet list is broken, so the duplicate name is not even reached; nothing else is reported
     assert set(found) == set(MANY_FIELDS)
-    # one line per problem: file, field path, reason
-    assert str(caught.value).splitlines() == [f"{path}: {p.field}: {p.reason}" for p in problems]
+    # one line per problem: file, field path (naming the planet, unless its name repeats an earlier one's), reason
+    shown = {"planets[1].period.unit": "planets[1] (b).period.unit",
+             "planets[1].eccentricity": "planets[1] (b).eccentricity"}
+    assert str(caught.value).splitlines() == [f"{path}: {shown.get(p.field, p.field)}: {p.reason}" for p in problems]
 
 
 def test_duplicate_names_are_reported_with_the_other_problems():
@@ -327,6 +329,48 @@ def test_duplicate_names_are_reported_with_the_other_problems():
     assert "'c'" in duplicate.reason and "planets[0]" in duplicate.reason
 
 
+def _two_planets(second: str) -> str:
+    return (f'format = "{FORMAT}"\n[system]\nname = "two"\n[star]\nname = "s"\n{STAR_LINES}\n'
+            f'[[planets]]\nname = "b"\n{PLANET_LINES}\n[[planets]]\n{second}\n')
+
+
+@pytest.mark.parametrize("name_line, shown", [
+    ('name = "c"', "planets[1] (c)"),
+    ('name = "Kepler-90 c (inner)"', "planets[1] (Kepler-90 c (inner))"),
+    # no valid name: the index alone, never an empty or broken name
+    ("", "planets[1]"), ('name = ""', "planets[1]"), ('name = "  "', "planets[1]"), ("name = 3", "planets[1]"),
+    ('name = "c\\u202e"', "planets[1]"), ('name = "B"', "planets[1]"),
+])
+def test_a_planet_field_is_shown_with_the_planet_name(name_line, shown):
+    with pytest.raises(SystemFileError) as caught:
+        loads_system(_two_planets(f'{name_line}\nperiod = 0.0\nradius = {{ value = 1.0, unit = "kg" }}'), "two.toml")
+    lines = str(caught.value).splitlines()
+    assert f"two.toml: {shown}.period: must be >= 0.001 d, not 0" in lines
+    assert f"two.toml: {shown}.radius.unit: unit 'kg' is not convertible to Rearth (length)" in lines
+    assert all(line.startswith(("two.toml: planets[1].name: ", f"two.toml: {shown}.")) for line in lines), lines
+    assert all(p.field.startswith("planets[1].") for p in caught.value.problems)   # the paths stay plain
+
+
+def test_a_duplicate_name_is_not_shown_as_the_planet_name():
+    # with its other fields good the duplicate is found, and no field of the planet takes the name
+    with pytest.raises(SystemFileError) as caught:
+        loads_system(_two_planets('name = "B"\nperiod = 4.0\nradius = 1.0\nmass = { value = 1.0, ref = 3 }'),
+                     "two.toml")
+    assert str(caught.value).splitlines() == ["two.toml: planets[1].mass.ref: must be a string, not an integer"]
+    with pytest.raises(SystemFileError) as caught:
+        loads_system(_two_planets('name = "B"\nperiod = 4.0\nradius = 1.0'), "two.toml")
+    assert str(caught.value).splitlines() == ["two.toml: planets[1].name: duplicate planet name 'B' (also planets[0], "
+                                              "whose name 'b' looks the same)"]
+
+
+def test_a_note_on_a_planet_field_names_the_planet():
+    notes = []
+    loads_system(_two_planets('name = "c"\nperiod = { value = 96.0, unit = "h s2/s/s" }\nradius = 1.0'), "two.toml",
+                 notes)
+    assert [str(n) for n in notes] == ["two.toml: planets[1] (c).period.unit: astropy: 'h s2/s/s' contains multiple "
+                                       "slashes, which is discouraged by the FITS standard"]
+
+
 def test_problem_structure():
     with pytest.raises(SystemFileError) as caught:
         loads_system(b"", "nothing.toml")
@@ -334,11 +378,17 @@ def test_problem_structure():
     assert isinstance(error, ValueError)
     assert isinstance(error.problems, list) and len(error.problems) == 1
     (problem,) = error.problems
-    assert dataclasses.astuple(problem) == ("nothing.toml", "", "is empty")
+    assert dataclasses.astuple(problem) == ("nothing.toml", "", "is empty", None)
     assert str(problem) == "nothing.toml: is empty" == str(error)
     with pytest.raises(dataclasses.FrozenInstanceError):
         problem.reason = "changed"
     assert str(Problem("f", "star.teff", "why")) == "f: star.teff: why"
+    assert str(Problem("f", "planets[1].period.unit", "why", planet="c")) == "f: planets[1] (c).period.unit: why"
+    assert str(Problem("f", "planets[1].period", "why")) == "f: planets[1].period: why"
+    assert str(Problem("f", "planets[1]", "why", planet="c")) == "f: planets[1] (c): why"
+    # a name goes only beside a planet's index, whatever its digits; other paths stay as they are
+    assert str(Problem("f", "planets[10].period", "why", planet="k")) == "f: planets[10] (k).period: why"
+    assert str(Problem("f", "sites[0].latitude", "why", planet="c")) == "f: sites[0].latitude: why"
 
 
 def test_unreadable_path_is_a_file_error(tmp_path):

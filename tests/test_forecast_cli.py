@@ -212,12 +212,12 @@ def test_bad_command_lines_name_the_field(cli, tmp_path, argv, field, words):
 
 def test_planets_without_transit_time_are_named(cli, tmp_path):
     path = _file(tmp_path, HEADER + "\n[[planets]]\nname = \"b\"\nperiod = 2.5\nradius = 1.1\n")
-    message = _refused(cli.run("transits", path, *RANGE), "planets[0].transit_time")
-    assert "'b'" in message
+    message = _refused(cli.run("transits", path, *RANGE), "planets[0] (b).transit_time")
+    assert "has none (a mid-transit time, BJD_TDB)" in message
     # with one timed planet beside it, the forecast runs and names the missing field in a warning
     both = _file(tmp_path, HEADER + PLANET + "\n[[planets]]\nname = \"c\"\nperiod = 4.5\nradius = 1.1\n", "two.toml")
     result = _ok(cli.run("transits", both, *RANGE))
-    assert "planets[1].transit_time" in result.stdout
+    assert "planets[1] (c).transit_time: has none" in result.stdout
 
 
 def test_a_site_without_star_coordinates_gives_the_list_without_sky_columns(cli, tmp_path):

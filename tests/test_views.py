@@ -504,6 +504,27 @@ def test_file_input_errors_are_shown_and_the_system_kept(app):
     assert downloaded.planet_names == system.planet_names and downloaded.name == "Edited <b>copy</b>"
 
 
+def test_a_refused_upload_names_the_planet_of_each_field(app):
+    import tomli_w
+
+    from orbitdeck.models.files import system_to_document
+
+    system = app.system
+    doc = system_to_document(system)
+    second = doc["planets"][1]["name"]
+    doc["planets"][1]["period"] = -3.0
+    app.controls.file_input.receive("bad.toml", tomli_w.dumps(doc).encode())
+    assert shown(app.controls.file_message) == ("not loaded, the current system is kept: bad.toml: "
+                                                f"planets[1] ({second}).period: must be >= 0.001 d, not -3")
+    # a planet whose name is itself refused is shown by its index alone
+    doc["planets"][1]["name"] = " "
+    app.controls.file_input.receive("bad.toml", tomli_w.dumps(doc).encode())
+    assert shown(app.controls.file_message) == ("not loaded, the current system is kept: bad.toml: planets[1].name: "
+                                                "must not be empty; bad.toml: planets[1].period: must be >= 0.001 d, "
+                                                "not -3")
+    assert app.system is system
+
+
 def hostile_system():
     """The demo with markup in its free-text names (and an estimated mass, so a name is in the warnings)."""
     import tomli_w

@@ -14,7 +14,15 @@ MAX_LISTED_CROSSINGS = 20
 
 
 def collect_warnings(system: System, derived) -> list[str]:
-    """The warnings of ``derived``, the nominal derivation of ``system``."""
+    """The warnings of ``derived``, the nominal derivation of ``system``: :func:`system_warnings`,
+    then :func:`estimate_notes`."""
+    return system_warnings(system, derived) + estimate_notes(derived)
+
+
+def system_warnings(system: System, derived) -> list[str]:
+    """What is doubtful in ``system`` or beyond a model's reach there (crossing orbits, spacings
+    below the Hill-stability limits, a host outside the habitable-zone fit's range...): each a
+    reason to look at the file again, as ``orbitdeck check`` reports them."""
     warnings = []
     teff = system.star.teff
     lo, hi = irradiation.HZ_TEFF_RANGE
@@ -59,8 +67,13 @@ def collect_warnings(system: System, derived) -> list[str]:
     for a, b in zip(pr["inner"][pr["in_overlap_zone"]], pr["outer"][pr["in_overlap_zone"]]):
         warnings.append(f"planets {a} and {b}: inside the zone of overlapping first-order resonances "
                         "(Deck, Payne & Holman 2013), where the motion is expected to be chaotic.")
-    estimated = [str(n) for n, est in zip(pl["name"], pl["mass_estimated"]) if est]
-    if estimated:
-        warnings.append("masses of " + ", ".join(estimated) + " are estimated from radius "
-                        "(Chen & Kipping 2017), not measured.")
     return warnings
+
+
+def estimate_notes(derived) -> list[str]:
+    """Estimates a reader of ``derived`` should know of, common in valid files (masses from radii)."""
+    pl = derived.planets
+    estimated = [str(n) for n, est in zip(pl["name"], pl["mass_estimated"]) if est]
+    if not estimated:
+        return []
+    return ["masses of " + ", ".join(estimated) + " are estimated from radius (Chen & Kipping 2017), not measured."]
