@@ -238,8 +238,10 @@ def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals,
         sampled = [q for q in wanted if q.sampled]
         arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
         rows = max((a.shape[1] for a in arrays), default=0)
-        stacked = (np.concatenate([np.broadcast_to(a, (samples, rows)).T for a in arrays]) if arrays
-                   else np.empty((0, samples)))
+        # one row of draws per quantity and table row, each row's draws side by side in memory
+        stacked = np.empty((len(arrays) * rows, samples))
+        for i, array in enumerate(arrays):
+            stacked[i * rows:(i + 1) * rows] = array.T
         low, high = percentile_bounds(stacked, overwrite=True)
         tables[table] = {q.key: (low[i * rows:(i + 1) * rows], high[i * rows:(i + 1) * rows])
                          for i, q in enumerate(sampled)}
