@@ -205,8 +205,9 @@ def runaway_greenhouse_flux(teff_k, mass_mearth):
         S_eff [S_earth].
     """
     teff = np.asarray(teff_k, dtype=float)
-    t = teff - 5780.0
-    limits = [s_sun + a * t + b * t**2 + c * t**3 + d * t**4 for s_sun, a, b, c, d in RUNAWAY_COEFFICIENTS]
+    t = teff[..., None] - 5780.0   # the three masses' limits along a last axis: each power of t once
+    s_sun, a, b, c, d = RUNAWAY_COEFFICIENTS.T
+    limits = np.moveaxis(s_sun + a * t + b * t**2 + c * t**3 + d * t**4, -1, 0)
     x = np.log10(np.clip(mass_mearth, *RUNAWAY_MASSES_MEARTH[::2]))
     low_mass = x < 0.0
     step = np.where(low_mass, (x + 1.0) / 1.0, x / np.log10(5.0))

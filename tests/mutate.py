@@ -117,7 +117,7 @@ MUTANTS = (
            "runaway by mass: 5 Mearth sign of c"),
     Mutant("models/irradiation.py", "[1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15],   # 1 Mearth",
            "[1.170, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15],   # 1 Mearth", "runaway by mass: 1 Mearth S_eff,sun"),
-    Mutant("models/irradiation.py", "t = teff - 5780.0", "t = teff - 5778.0", "runaway by mass: reference temperature"),
+    Mutant("models/irradiation.py", "t = teff[..., None] - 5780.0", "t = teff[..., None] - 5778.0", "runaway by mass: reference temperature"),
     Mutant("models/irradiation.py", "x / np.log10(5.0))", "x / np.log(5.0))", "runaway by mass: log10 interpolation above 1 Mearth"),
     Mutant("models/irradiation.py", "(x + 1.0) / 1.0,", "(x + 1.0) / 2.0,", "runaway by mass: interpolation below 1 Mearth"),
     Mutant("models/irradiation.py", "valid = (teff >= HZ_TEFF_RANGE[0]) & (teff <= HZ_TEFF_RANGE[1])",
