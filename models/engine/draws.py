@@ -38,6 +38,8 @@ def split_normal(z, value, plus, minus) -> np.ndarray:
     each side keeps half the probability (Wallis 2014, Stat. Sci. 29, 106);
     for plus == minus it is a normal.
     """
+    if np.array_equal(plus, minus):   # a normal: no side to pick
+        return value + z * plus
     return value + z * np.where(z >= 0.0, plus, minus)
 
 
@@ -61,12 +63,14 @@ def truncated_split_normal(rng: np.random.Generator, shape, value, plus, minus, 
     """
     value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), shape) for x in (value, plus, minus))
     draws = split_normal(rng.standard_normal(shape), value, plus, minus)
-    bad = _outside(draws, bounds, inclusive)
+    # indices of the draws outside, in the order of a boolean mask (C order): each round touches only them
+    bad = np.nonzero(_outside(draws, bounds, inclusive))
     for _ in range(_REDRAW_ROUNDS):
-        if not bad.any():
+        if not bad[0].size:
             return draws
-        draws[bad] = split_normal(rng.standard_normal(int(bad.sum())), value[bad], plus[bad], minus[bad])
-        bad[bad] = _outside(draws[bad], bounds, inclusive)
+        draws[bad] = split_normal(rng.standard_normal(bad[0].size), value[bad], plus[bad], minus[bad])
+        still = _outside(draws[bad], bounds, inclusive)
+        bad = tuple(index[still] for index in bad)
     draws[bad] = value[bad]
     return draws
 
