@@ -173,13 +173,18 @@ def water_mass_fraction(mass_mearth, radius_rearth):
     ndarray
         Water mass fraction, 0 < f <= 1, or NaN.
     """
-    r = np.asarray(radius_rearth, dtype=float)
-    result = np.full(np.broadcast_shapes(np.shape(mass_mearth), r.shape), np.nan)
-    curves = [zeng2016_radius(curve, mass_mearth) for curve, _ in _WATER_STEPS]   # each curve once
+    m, r = np.broadcast_arrays(np.asarray(mass_mearth, dtype=float), np.asarray(radius_rearth, dtype=float))
+    result = np.full(m.shape, np.nan)
+    rock = zeng2016_radius(_WATER_STEPS[0][0], m)
+    wet = r > rock   # the water curves are read only for planets larger than pure rock
+    m, r = m[wet], r[wet]
+    curves = [rock[wet]] + [zeng2016_radius(curve, m) for curve, _ in _WATER_STEPS[1:]]
     fractions = [fraction for _, fraction in _WATER_STEPS]
+    water = np.full(m.shape, np.nan)
     for low, high, low_f, high_f in zip(curves[:-1], curves[1:], fractions[:-1], fractions[1:]):
         inside = (r > low) & (r <= high)
-        result = np.where(inside, low_f + (high_f - low_f) * (r - low) / (high - low), result)
+        water = np.where(inside, low_f + (high_f - low_f) * (r - low) / (high - low), water)
+    result[wet] = water
     return result
 
 

@@ -169,8 +169,8 @@ def hz_region_index(insolation_earth, limit_fluxes):
     ndarray of int
         0 ... 4, same shape as ``insolation_earth``.
     """
-    s = np.asarray(insolation_earth)[..., None]
-    return np.sum(s <= np.asarray(limit_fluxes)[..., None, :], axis=-1)
+    limits = np.moveaxis(np.asarray(limit_fluxes), -1, 0)[..., None]   # one limit at a time, against every planet
+    return np.sum(np.asarray(insolation_earth) <= limits, axis=0)
 
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: the runaway-greenhouse rows for planets of

@@ -109,7 +109,7 @@ MUTANTS = (
            "HZ: coolest extrapolated Teff"),
     Mutant("models/irradiation.py", "np.sqrt(luminosity_lsun / effective_flux)", "(luminosity_lsun / effective_flux)",
            "HZ distance: square root"),
-    Mutant("models/irradiation.py", "np.sum(s <= np.asarray(limit_fluxes)", "np.sum(s >= np.asarray(limit_fluxes)",
+    Mutant("models/irradiation.py", "np.sum(np.asarray(insolation_earth) <= limits", "np.sum(np.asarray(insolation_earth) >= limits",
            "HZ region: comparison"),
     # -- runaway greenhouse by planet mass (Kopparapu et al. 2014 Table 1) ---------------------------
     Mutant("models/irradiation.py", "[0.990, 1.209e-4,", "[0.990, 1.290e-4,", "runaway by mass: 0.1 Mearth a"),
