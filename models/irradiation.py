@@ -103,6 +103,30 @@ def equilibrium_temperature(insolation_earth, bond_albedo, redistribution):
     return (redistribution * (1.0 - bond_albedo) * flux / SIGMA_SB) ** 0.25
 
 
+def effective_flux_polynomial(teff_k, coefficients):
+    """S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K (Kopparapu et al. 2014, eq. 4).
+
+    Evaluated by Horner's rule, S_eff,sun + T (a + T (b + T (c + T d))):
+    numpy raises a negative T (every M dwarf) to the third and fourth
+    powers about a hundred times slower than it multiplies.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K], any shape.
+    coefficients : array_like
+        Rows (S_eff,sun, a, b, c, d) of Kopparapu et al. 2014, Table 1.
+
+    Returns
+    -------
+    ndarray
+        S_eff [S_earth], shape ``teff_k.shape + (rows,)``.
+    """
+    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
+    s_sun, a, b, c, d = np.asarray(coefficients, dtype=float).T
+    return s_sun + t * (a + t * (b + t * (c + t * d)))
+
+
 def hz_effective_flux(teff_k):
     """Effective stellar flux at the four habitable-zone limits.
 
@@ -122,9 +146,7 @@ def hz_effective_flux(teff_k):
         S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
         runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
     """
-    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
-    s_sun, a, b, c, d = HZ_COEFFICIENTS.T
-    return s_sun + a * t + b * t**2 + c * t**3 + d * t**4
+    return effective_flux_polynomial(teff_k, HZ_COEFFICIENTS)
 
 
 def hz_distance(luminosity_lsun, effective_flux):
@@ -205,9 +227,7 @@ def runaway_greenhouse_flux(teff_k, mass_mearth):
         S_eff [S_earth].
     """
     teff = np.asarray(teff_k, dtype=float)
-    t = teff[..., None] - 5780.0   # the three masses' limits along a last axis: each power of t once
-    s_sun, a, b, c, d = RUNAWAY_COEFFICIENTS.T
-    limits = np.moveaxis(s_sun + a * t + b * t**2 + c * t**3 + d * t**4, -1, 0)
+    limits = np.moveaxis(effective_flux_polynomial(teff, RUNAWAY_COEFFICIENTS), -1, 0)   # 0.1, 1 and 5 Mearth
     x = np.log10(np.clip(mass_mearth, *RUNAWAY_MASSES_MEARTH[::2]))
     low_mass = x < 0.0
     step = np.where(low_mass, (x + 1.0) / 1.0, x / np.log10(5.0))
