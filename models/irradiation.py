@@ -122,9 +122,8 @@ def effective_flux_polynomial(teff_k, coefficients):
     ndarray
         S_eff [S_earth], shape ``teff_k.shape + (rows,)``.
     """
-    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
-    s_sun, a, b, c, d = np.asarray(coefficients, dtype=float).T
-    return s_sun + t * (a + t * (b + t * (c + t * d)))
+    t = np.asarray(teff_k, dtype=float) - 5780.0
+    return np.stack([s_sun + t * (a + t * (b + t * (c + t * d))) for s_sun, a, b, c, d in coefficients], axis=-1)
 
 
 def hz_effective_flux(teff_k):
