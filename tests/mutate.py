@@ -150,6 +150,10 @@ MUTANTS = (
     # direction alone is turned round here, in the radial gap that finds crossings and seeds the search)
     Mutant("models/orbits.py", "- p_in / (1.0 + e_in * np.cos(theta - w_in))", "- p_in / (1.0 - e_in * np.cos(theta - w_in))",
            "closest distance: inner orbit's periastron direction in the radial gap"),
+    Mutant("models/orbits.py", "periastron, apoastron = a * (1.0 - e), a * (1.0 + e)",
+           "periastron, apoastron = a * (1.0 - e), a * (1.0 + 0.5 * e)", "circle and ellipse: apoastron"),
+    Mutant("models/orbits.py", "radius = np.where(inner_eccentric, a_out[one_circle], a_in[one_circle])",
+           "radius = np.where(inner_eccentric, a_in[one_circle], a_out[one_circle])", "circle and ellipse: which is the circle"),
     Mutant("models/orbits.py", "dr = latus * e * sin_u / d**2", "dr = latus * e * sin_u / d**3",
            "closest distance: dr/dtheta of the conic"),
     Mutant("models/orbits.py", "cy = a_out * e_out * np.sin(w_out) - a_in * e_in * np.sin(w_in)",
