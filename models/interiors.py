@@ -173,12 +173,18 @@ def water_mass_fraction(mass_mearth, radius_rearth):
     ndarray
         Water mass fraction, 0 < f <= 1, or NaN.
     """
-    r = np.asarray(radius_rearth, dtype=float)
-    result = np.full(np.broadcast_shapes(np.shape(mass_mearth), r.shape), np.nan)
-    for (low_curve, low_f), (high_curve, high_f) in zip(_WATER_STEPS[:-1], _WATER_STEPS[1:]):
-        low, high = zeng2016_radius(low_curve, mass_mearth), zeng2016_radius(high_curve, mass_mearth)
+    m, r = np.broadcast_arrays(np.asarray(mass_mearth, dtype=float), np.asarray(radius_rearth, dtype=float))
+    result = np.full(m.shape, np.nan)
+    rock = zeng2016_radius(_WATER_STEPS[0][0], m)
+    wet = r > rock   # the water curves are read only for planets larger than pure rock
+    m, r = m[wet], r[wet]
+    curves = [rock[wet]] + [zeng2016_radius(curve, m) for curve, _ in _WATER_STEPS[1:]]
+    fractions = [fraction for _, fraction in _WATER_STEPS]
+    water = np.full(m.shape, np.nan)
+    for low, high, low_f, high_f in zip(curves[:-1], curves[1:], fractions[:-1], fractions[1:]):
         inside = (r > low) & (r <= high)
-        result = np.where(inside, low_f + (high_f - low_f) * (r - low) / (high - low), result)
+        water = np.where(inside, low_f + (high_f - low_f) * (r - low) / (high - low), water)
+    result[wet] = water
     return result
 
 
@@ -258,9 +264,13 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
     with np.errstate(invalid="ignore", divide="ignore"):
         smallest = radius_with_envelope(m, ENVELOPE_FRACTION_RANGE[0], s, age_gyr)
         largest = radius_with_envelope(m, ENVELOPE_FRACTION_RANGE[1], s, age_gyr)
+        applies = ((m >= ENVELOPE_MASS_RANGE[0]) & (m <= ENVELOPE_MASS_RANGE[1])
+                   & (s >= ENVELOPE_INSOLATION_RANGE[0]) & (s <= ENVELOPE_INSOLATION_RANGE[1])
+                   & (r >= smallest) & (r <= largest))
+        # the root is sought only where the fit applies: the result is NaN elsewhere
+        m, r, s, g0, g1 = (x[applies] for x in (m, r, s, smallest - r, largest - r))
         x0 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[0]))
         x1 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[1]))
-        g0, g1 = smallest - r, largest - r
         for _ in range(_ROOT_STEPS):
             x2 = x1 - g1 * (x1 - x0) / (g1 - g0)
             x2 = np.where(np.isfinite(x2), x2, x1)
@@ -269,7 +279,6 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
             crossed = np.sign(g2) != np.sign(g1)
             x0, g0 = np.where(crossed, x1, x0), np.where(crossed, g1, 0.5 * g0)
             x1, g1 = x2, g2
-        applies = ((m >= ENVELOPE_MASS_RANGE[0]) & (m <= ENVELOPE_MASS_RANGE[1])
-                   & (s >= ENVELOPE_INSOLATION_RANGE[0]) & (s <= ENVELOPE_INSOLATION_RANGE[1])
-                   & (r >= smallest) & (r <= largest))
-    return np.where(applies, np.exp(x1), np.nan)
+    fraction = np.full(applies.shape, np.nan)
+    fraction[applies] = np.exp(x1)
+    return fraction

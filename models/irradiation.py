@@ -103,6 +103,29 @@ def equilibrium_temperature(insolation_earth, bond_albedo, redistribution):
     return (redistribution * (1.0 - bond_albedo) * flux / SIGMA_SB) ** 0.25
 
 
+def effective_flux_polynomial(teff_k, coefficients):
+    """S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K (Kopparapu et al. 2014, eq. 4).
+
+    Evaluated by Horner's rule, S_eff,sun + T (a + T (b + T (c + T d))):
+    numpy raises a negative T (every M dwarf) to the third and fourth
+    powers about a hundred times slower than it multiplies.
+
+    Parameters
+    ----------
+    teff_k : array_like
+        Stellar effective temperature [K], any shape.
+    coefficients : array_like
+        Rows (S_eff,sun, a, b, c, d) of Kopparapu et al. 2014, Table 1.
+
+    Returns
+    -------
+    ndarray
+        S_eff [S_earth], shape ``teff_k.shape + (rows,)``.
+    """
+    t = np.asarray(teff_k, dtype=float) - 5780.0
+    return np.stack([s_sun + t * (a + t * (b + t * (c + t * d))) for s_sun, a, b, c, d in coefficients], axis=-1)
+
+
 def hz_effective_flux(teff_k):
     """Effective stellar flux at the four habitable-zone limits.
 
@@ -122,9 +145,7 @@ def hz_effective_flux(teff_k):
         S_eff [S_earth], shape ``teff_k.shape + (4,)``, ordered recent Venus,
         runaway greenhouse (1 Mearth), maximum greenhouse, early Mars.
     """
-    t = np.asarray(teff_k, dtype=float)[..., None] - 5780.0
-    s_sun, a, b, c, d = HZ_COEFFICIENTS.T
-    return s_sun + a * t + b * t**2 + c * t**3 + d * t**4
+    return effective_flux_polynomial(teff_k, HZ_COEFFICIENTS)
 
 
 def hz_distance(luminosity_lsun, effective_flux):
@@ -169,8 +190,8 @@ def hz_region_index(insolation_earth, limit_fluxes):
     ndarray of int
         0 ... 4, same shape as ``insolation_earth``.
     """
-    s = np.asarray(insolation_earth)[..., None]
-    return np.sum(s <= np.asarray(limit_fluxes)[..., None, :], axis=-1)
+    limits = np.moveaxis(np.asarray(limit_fluxes), -1, 0)[..., None]   # one limit at a time, against every planet
+    return np.sum(np.asarray(insolation_earth) <= limits, axis=0)
 
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: the runaway-greenhouse rows for planets of
@@ -205,8 +226,7 @@ def runaway_greenhouse_flux(teff_k, mass_mearth):
         S_eff [S_earth].
     """
     teff = np.asarray(teff_k, dtype=float)
-    t = teff - 5780.0
-    limits = [s_sun + a * t + b * t**2 + c * t**3 + d * t**4 for s_sun, a, b, c, d in RUNAWAY_COEFFICIENTS]
+    limits = np.moveaxis(effective_flux_polynomial(teff, RUNAWAY_COEFFICIENTS), -1, 0)   # 0.1, 1 and 5 Mearth
     x = np.log10(np.clip(mass_mearth, *RUNAWAY_MASSES_MEARTH[::2]))
     low_mass = x < 0.0
     step = np.where(low_mass, (x + 1.0) / 1.0, x / np.log10(5.0))

@@ -93,7 +93,18 @@ def _radial_gap(theta, p_in, e_in, w_in, p_out, e_out, w_out):
 def _closest_block(a_in, e_in, w_in, a_out, e_out, w_out):
     """:func:`closest_orbit_distance` of one block of flat arrays."""
     distance = np.abs(a_out - a_in)          # two circles: along any ray
-    eccentric = np.flatnonzero((e_in > 0.0) | (e_out > 0.0))
+    # a circle about the focus and an ellipse: the circle's nearest point to any point lies on that
+    # point's ray, so the distance is the least radial gap, at the ellipse's periastron or apoastron
+    # (zero where the circle's radius lies between them: the orbits cross)
+    one_circle = np.flatnonzero((e_in > 0.0) != (e_out > 0.0))
+    if one_circle.size:
+        inner_eccentric = e_in[one_circle] > 0.0
+        radius = np.where(inner_eccentric, a_out[one_circle], a_in[one_circle])
+        a = np.where(inner_eccentric, a_in[one_circle], a_out[one_circle])
+        e = np.maximum(e_in[one_circle], e_out[one_circle])
+        periastron, apoastron = a * (1.0 - e), a * (1.0 + e)
+        distance[one_circle] = np.maximum(np.maximum(periastron - radius, radius - apoastron), 0.0)
+    eccentric = np.flatnonzero((e_in > 0.0) & (e_out > 0.0))
     if not eccentric.size:
         return distance
     a_in, e_in, w_in, a_out, e_out, w_out = (x[eccentric] for x in (a_in, e_in, w_in, a_out, e_out, w_out))
@@ -157,8 +168,11 @@ def closest_orbit_distance(a_in, e_in, omega_in, a_out, e_out, omega_out):
     minimised over both longitudes by Newton steps, seeded at the
     first-order longitude of the least gap for nearly circular orbits, by a
     sweep of 96 longitudes (and, beyond e = 0.3, a grid of both) for the
-    others. Exact, |a_out - a_in|, for circular orbits; it ignores the small mutual inclination of compact
-    transiting systems (common practice).
+    others. Exact for circular orbits, |a_out - a_in|, and for a circle of
+    radius R and an ellipse, max(a (1 - e) - R, R - a (1 + e), 0): the
+    circle's nearest point to any point lies on that point's ray. It
+    ignores the small mutual inclination of compact transiting systems
+    (common practice).
 
     Parameters
     ----------

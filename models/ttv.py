@@ -158,17 +158,20 @@ def resonance_coefficients(alpha, j):
         rho = ratio[interpolated] + np.sqrt(ratio[interpolated] ** 2 - 1.0)
         needed = np.ceil(np.log(1e16) / np.log(rho)) + 1
     count = int(np.clip(np.max(needed, initial=2.0), 2, _CHEBYSHEV_NODES))
-    centre, radius = np.where(interpolated, middle, 0.5), np.where(interpolated, half, 0.0)
-    x = np.cos(np.pi * (np.arange(count) + 0.5) / count)            # Chebyshev points of the first kind
-    points = centre + radius * x[:, None]                           # (points, pairs)
-    scaled = (alpha - centre) / np.where(radius > 0.0, radius, 1.0)
-    f, g = (chebyshev.chebval(scaled, chebyshev.chebfit(x, values, count - 1), tensor=False)
-            for values in (resonance_coefficient_f(points, j), resonance_coefficient_g(points, j)))
+    f, g = np.full(alpha.shape, np.nan), np.full(alpha.shape, np.nan)
+    if interpolated.any():   # the pairs interpolated, and only they, are integrated at the points
+        centre, radius = middle[interpolated], half[interpolated]
+        x = np.cos(np.pi * (np.arange(count) + 0.5) / count)        # Chebyshev points of the first kind
+        points = centre + radius * x[:, None]                       # (points, pairs)
+        scaled = (alpha[:, interpolated] - centre) / np.where(radius > 0.0, radius, 1.0)
+        f[:, interpolated], g[:, interpolated] = (
+            chebyshev.chebval(scaled, chebyshev.chebfit(x, values, count - 1), tensor=False)
+            for values in (resonance_coefficient_f(points, j[interpolated]),
+                           resonance_coefficient_g(points, j[interpolated])))
     direct = some & ~interpolated
     if direct.any():
         f[:, direct] = resonance_coefficient_f(alpha[:, direct], j[direct])
         g[:, direct] = resonance_coefficient_g(alpha[:, direct], j[direct])
-    f[:, ~some], g[:, ~some] = np.nan, np.nan
     return f, g
 
 

@@ -105,6 +105,29 @@ def test_closest_distance_matches_scipy_at_every_eccentricity(e_max):
     np.testing.assert_array_equal(many, np.tile(model, 300))
 
 
+@pytest.mark.parametrize("circle_inside", [True, False])
+def test_closest_distance_of_a_circle_and_an_ellipse_matches_scipy_minimum(circle_inside):
+    # one orbit circular (e = 0 exactly), the other eccentric, either side: scipy's minimum over both
+    # anomalies is the reference, crossing pairs included
+    rng = np.random.default_rng(11 if circle_inside else 12)
+    count = 40
+    a_circle, a_ellipse = rng.uniform(0.05, 1.0, count), rng.uniform(0.05, 1.0, count)
+    e, w = rng.uniform(0.001, 0.6, count), rng.uniform(0, 2 * np.pi, count)
+    zero = np.zeros(count)
+    if circle_inside:
+        args = (a_circle, zero, w[::-1], a_ellipse, e, w)
+    else:
+        args = (a_ellipse, e, w, a_circle, zero, w[::-1])
+    expected = np.array([_scipy_closest(*pair) for pair in zip(*args)])
+    model = orbits.closest_orbit_distance(*args)
+    scale = np.maximum(a_circle, a_ellipse)
+    crossing = model == 0.0
+    assert 0 < crossing.sum() < count
+    assert np.all(expected[crossing] <= 1e-6 * scale[crossing])
+    error = np.abs(model - expected)[~crossing] / scale[~crossing]
+    assert error.max() <= 1e-10, error.max()
+
+
 def test_closest_distance_is_vectorised_and_matches_scalar_calls():
     a_in, e_in, w_in = np.array([1.0, 1.0, 0.5]), np.array([0.0, 0.05, 0.1]), np.array([0.0, 0.3, 1.0])
     a_out, e_out, w_out = np.array([1.5, 1.6, 0.6]), np.array([0.0, 0.2, 0.3]), np.array([0.0, 2.0, 4.0])

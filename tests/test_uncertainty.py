@@ -299,3 +299,28 @@ def test_far_reaching_systems_give_finite_intervals():
         low, high = derived.intervals["planets"][key]
         assert np.all(np.isfinite(low) & np.isfinite(high) & (high > low)), key
     assert np.isfinite(derived.intervals["planets"]["transit_duration_h"][1][3])   # some draws transit
+
+
+@pytest.mark.parametrize("draws", [1, 2, 5, 999, 4000])
+def test_percentile_bounds_are_numpys_percentiles_bit_for_bit(draws):
+    # numpy's percentile (rows without NaN) and nanpercentile (rows with some) are the reference,
+    # to the last bit: rows with ties, infinities, NaN in some or all draws, constant rows
+    from orbitdeck.models.engine.draws import percentile_bounds
+
+    rng = np.random.default_rng(draws)
+    rows = rng.standard_normal((12, draws)) * np.logspace(-8, 8, 12)[:, None]
+    rows[1] = np.round(rows[1], 0)
+    rows[2, rng.random(draws) < 0.4] = np.nan
+    rows[3] = np.nan
+    rows[4, ::7] = np.inf
+    rows[5, ::3] = -np.inf
+    rows[6] = 2.5
+    rows[7, 1:] = np.nan
+    rows[8, rng.random(draws) < 0.9] = np.nan
+    with np.errstate(invalid="ignore"), pytest.warns(RuntimeWarning, match="All-NaN"):
+        expected = np.array([np.nanpercentile(row, (16, 84)) if np.isnan(row).any() else
+                             np.percentile(row, (16, 84)) for row in rows]).T
+    for given_rows, overwrite in ((rows, False), (np.asfortranarray(rows), True)):
+        low, high = percentile_bounds(given_rows.copy(), overwrite=overwrite)
+        np.testing.assert_array_equal(low, expected[0])
+        np.testing.assert_array_equal(high, expected[1])

@@ -38,6 +38,8 @@ def split_normal(z, value, plus, minus) -> np.ndarray:
     each side keeps half the probability (Wallis 2014, Stat. Sci. 29, 106);
     for plus == minus it is a normal.
     """
+    if np.array_equal(plus, minus):   # a normal: no side to pick
+        return value + z * plus
     return value + z * np.where(z >= 0.0, plus, minus)
 
 
@@ -61,12 +63,14 @@ def truncated_split_normal(rng: np.random.Generator, shape, value, plus, minus, 
     """
     value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), shape) for x in (value, plus, minus))
     draws = split_normal(rng.standard_normal(shape), value, plus, minus)
-    bad = _outside(draws, bounds, inclusive)
+    # indices of the draws outside, in the order of a boolean mask (C order): each round touches only them
+    bad = np.nonzero(_outside(draws, bounds, inclusive))
     for _ in range(_REDRAW_ROUNDS):
-        if not bad.any():
+        if not bad[0].size:
             return draws
-        draws[bad] = split_normal(rng.standard_normal(int(bad.sum())), value[bad], plus[bad], minus[bad])
-        bad[bad] = _outside(draws[bad], bounds, inclusive)
+        draws[bad] = split_normal(rng.standard_normal(bad[0].size), value[bad], plus[bad], minus[bad])
+        still = _outside(draws[bad], bounds, inclusive)
+        bad = tuple(index[still] for index in bad)
     draws[bad] = value[bad]
     return draws
 
@@ -105,19 +109,29 @@ def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inpu
 def percentile_bounds(rows: np.ndarray, overwrite: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The 16th and 84th percentiles of each row of ``rows`` (rows, draws), numpy's 'linear' definition.
 
-    NaN draws (a quantity undefined in some draws) are left out; a row of
-    nothing but NaN gives NaN. With ``overwrite`` the rows may be reordered
-    in place (saves a copy of a large array the caller no longer needs).
+    Each row is sorted (NaN last) and the percentile q is interpolated
+    between the order statistics around (n - 1) q, n the row's draws that
+    are not NaN (Hyndman & Fan 1996, Am. Stat. 50, 361, definition 7; numpy's
+    'linear' method, whose interpolation this repeats operation for
+    operation). NaN draws (a quantity undefined in some draws) are thus
+    left out, as ``np.nanpercentile`` leaves them, with no loop over rows;
+    a row of nothing but NaN gives NaN. With ``overwrite`` a C-ordered
+    ``rows`` is sorted in place (saves a copy of a large array the caller
+    no longer needs).
     """
-    rows = np.asarray(rows, dtype=float)
-    bounds = np.full((len(PERCENTILES), rows.shape[0]), np.nan)
-    nan = np.isnan(rows)
-    partly, complete = nan.any(axis=1) & ~nan.all(axis=1), ~nan.any(axis=1)
+    rows = np.ascontiguousarray(rows, dtype=float) if overwrite else np.array(rows, dtype=float, order="C")
+    rows.sort(axis=1)   # one vectorised sort per row beats numpy's partition at four order statistics
+    counts = np.full(rows.shape[0], rows.shape[1])
+    some_nan = np.isnan(rows[:, -1])   # sorted last, so a row has NaN draws only if it ends with one
+    counts[some_nan] = rows.shape[1] - np.count_nonzero(np.isnan(rows[some_nan]), axis=1)
+    position = (counts[:, None] - 1) * (np.asarray(PERCENTILES) / 100.0)
+    below = np.floor(position)
+    gamma = position - below
+    lower = np.maximum(below, 0.0).astype(np.intp)
+    upper = np.minimum(lower + 1, np.maximum(counts[:, None] - 1, 0))
+    low_value, high_value = np.take_along_axis(rows, lower, axis=1), np.take_along_axis(rows, upper, axis=1)
     with np.errstate(invalid="ignore"):   # an infinite draw (an exact commensurability's super-period)
-        if complete.all():
-            bounds[:] = np.percentile(rows, PERCENTILES, axis=1, overwrite_input=overwrite)
-        elif complete.any():
-            bounds[:, complete] = np.percentile(rows[complete], PERCENTILES, axis=1, overwrite_input=True)
-        if partly.any():   # nanpercentile loops over rows in Python: only the rows that need it
-            bounds[:, partly] = np.nanpercentile(rows[partly], PERCENTILES, axis=1)
-    return bounds[0], bounds[1]
+        step = high_value - low_value
+        bounds = np.where(gamma >= 0.5, high_value - step * (1.0 - gamma), low_value + step * gamma)
+    bounds[counts == 0] = np.nan
+    return bounds[:, 0], bounds[:, 1]

@@ -30,6 +30,7 @@ class _Recording(Context):
 
     _reading: list = field(default_factory=list)
     _reads: dict = field(default_factory=dict)
+    _keeps_attributes = False   # every read must come through __getattr__ to be noted
 
     def __getattr__(self, name: str):
         if name.startswith("_"):

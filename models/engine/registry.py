@@ -162,18 +162,23 @@ class Context:
     inputs: object
     anchor: object = None
     _values: dict = field(default_factory=dict, repr=False)
+    #: whether a value read is also kept as an attribute, so that later reads skip ``__getattr__``
+    #: (a context that must see every read turns it off)
+    _keeps_attributes = True
 
     def __getattr__(self, name: str):
         if name.startswith("_"):
             raise AttributeError(name)
         values = self.__dict__["_values"]
-        if name in values:
-            return values[name]
         found = REGISTRY.get(name)
-        if found is None:
-            return getattr(self.__dict__["inputs"], name)
-        value = found.function(self)
-        values[name] = value
+        if name in values:
+            value = values[name]
+        elif found is None:
+            value = getattr(self.__dict__["inputs"], name)
+        else:
+            value = values[name] = found.function(self)
+        if self._keeps_attributes:
+            self.__dict__[name] = value
         return value
 
     def __getitem__(self, name: str):

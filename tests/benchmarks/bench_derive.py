@@ -4,12 +4,15 @@ Run: python tests/benchmarks/bench_derive.py [--repeat N]
 
 What a user waits for: the derivation behind every edit in the page (the sky
 table's intervals are worked out only when the Neighbour skies view, the
-JSON or a snapshot reads them, so they are timed apart).
+JSON or a snapshot reads them, so they are timed apart). Every bundled demo
+is timed; the load average beside each figure tells how busy the shared
+machine was.
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import time
 from pathlib import Path
@@ -19,7 +22,7 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).parent))
 from synthetic import synthetic_system  # noqa: E402
 
-from orbitdeck.demo_systems import demo_path  # noqa: E402
+from orbitdeck.demo_systems import DEFAULT_DEMO, demo_names, demo_path  # noqa: E402
 from orbitdeck.models import derive, load_system  # noqa: E402
 
 
@@ -35,7 +38,8 @@ def timings(function, repeat: int) -> np.ndarray:
 
 
 def report(label: str, times: np.ndarray) -> None:
-    print(f"{label:<58} median {np.median(times):8.2f} ms   p95 {np.percentile(times, 95):8.2f} ms")
+    print(f"{label:<58} median {np.median(times):8.2f} ms   p95 {np.percentile(times, 95):8.2f} ms"
+          f"   (load average {os.getloadavg()[0]:.1f})")
 
 
 def main(argv=None) -> None:
@@ -46,9 +50,14 @@ def main(argv=None) -> None:
     thirty = synthetic_system(30)
     n_demo = len(demo.planets)
     report(f"default demo ({n_demo} planets), nominal", timings(lambda: derive(demo), repeat))
-    report(f"default demo, 4000 draws (no sky intervals)", timings(lambda: derive(demo, 4000, 1), repeat))
-    report(f"default demo, 4000 draws, sky intervals read",
+    report("default demo, 4000 draws (no sky intervals)", timings(lambda: derive(demo, 4000, 1), repeat))
+    report("default demo, 4000 draws, sky intervals read",
            timings(lambda: derive(demo, 4000, 1).intervals["skies"], repeat))
+    for name in demo_names():
+        if name != DEFAULT_DEMO:
+            other = load_system(demo_path(name))
+            report(f"{name} ({len(other.planets)} planets), 4000 draws (no sky intervals)",
+                   timings(lambda system=other: derive(system, 4000, 1), repeat))
     report("30 planets, nominal", timings(lambda: derive(thirty), repeat))
     report("30 planets, 4000 draws (no sky intervals)", timings(lambda: derive(thirty, 4000, 1), repeat))
     report("30 planets, 4000 draws, sky intervals read",

@@ -42,10 +42,11 @@ def closest_distance_au(c):
     a, e, omega = c.semi_major_axis_au, c.eccentricity, c.omega_rad
     distance = np.array(np.broadcast_to(c.periastron_au[:, observer], (max(a.shape[0], e.shape[0]), observer.size)))
     planet = np.flatnonzero(body >= 0)
-    # each pair of orbits once, whichever planet observes the other
-    pairs, row_pair = np.unique(np.stack([np.minimum(observer[planet], body[planet]),
-                                          np.maximum(observer[planet], body[planet])]), axis=1, return_inverse=True)
-    low, high = pairs
+    # each pair of orbits once, whichever planet observes the other (a pair's key: low * N + high)
+    count = c.planet_count
+    keys, row_pair = np.unique(np.minimum(observer[planet], body[planet]) * count
+                               + np.maximum(observer[planet], body[planet]), return_inverse=True)
+    low, high = np.divmod(keys, count)
     closest = orbits.closest_orbit_distance(a[:, low], e[:, low], omega[:, low], a[:, high], e[:, high], omega[:, high])
     distance[:, planet] = closest[:, row_pair.ravel()]
     return distance
