@@ -30,7 +30,7 @@ from . import palette, pinned
 from .common import (View, batched, escape, interval, interval_caption, note, section, select_on_tap, span_texts,
                      while_shown)
 from .pair_choice import PairRows, chosen_pair
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts, with_a_row
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
 VIEW = "ladder"
@@ -120,7 +120,7 @@ PINNED_VDIMS = ["colour", "pair", "now", "ratio_range"]
 def pinned_pairs(d):
     columns = {"position": d["x"], "ratio": d["y"], "colour": texts(d["colour"]), "pair": texts(d["pair"]),
                "now": d["now"], "ratio_range": texts(d["ratio_range"])}
-    return drawn(hv.Points(columns, _dims(d), PINNED_VDIMS, group="LadderPinnedPair",
+    return drawn(hv.Points(with_a_row(columns), _dims(d), PINNED_VDIMS, group="LadderPinnedPair",
                            label="pinned reference: period ratios"), len(d["x"]) > 0)
 
 

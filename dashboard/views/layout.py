@@ -27,7 +27,7 @@ from orbitdeck.models.constants import AU, R_SUN
 from . import habitable, palette, pinned
 from .common import View, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
 from .orbit_drawing import circle_points, curve_segments, ellipse_points, in_plane_positions, orbit_ellipses
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts, with_a_row
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
@@ -117,7 +117,7 @@ PINNED_VDIMS = ["name", "colour", "r", "f_deg"]
 def pinned_planets(d):
     columns = {"x": d["x"], "y": d["y"], "name": texts(d["name"]), "colour": texts(d["colour"]), "r": d["r"],
                "f_deg": d["f_deg"]}
-    return drawn(hv.Points(columns, _dims(d), PINNED_VDIMS, group="LayoutPinnedPlanet",
+    return drawn(hv.Points(with_a_row(columns), _dims(d), PINNED_VDIMS, group="LayoutPinnedPlanet",
                            label="pinned reference: planets now"), len(d["x"]) > 0)
 
 
