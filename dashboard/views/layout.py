@@ -111,12 +111,13 @@ def pinned_orbits(d):
     return _lines(d, "LayoutPinnedOrbit", "pinned reference: orbits")
 
 
-PINNED_VDIMS = ["name", "colour", "r", "f_deg"]
+#: columns of their own (browser tests and tools find the current planets by theirs)
+PINNED_VDIMS = ["name", "colour", "pinned_r", "pinned_f_deg"]
 
 
 def pinned_planets(d):
-    columns = {"x": d["x"], "y": d["y"], "name": texts(d["name"]), "colour": texts(d["colour"]), "r": d["r"],
-               "f_deg": d["f_deg"]}
+    columns = {"x": d["x"], "y": d["y"], "name": texts(d["name"]), "colour": texts(d["colour"]),
+               "pinned_r": d["r"], "pinned_f_deg": d["f_deg"]}
     return drawn(hv.Points(with_a_row(columns), _dims(d), PINNED_VDIMS, group="LayoutPinnedPlanet",
                            label="pinned reference: planets now"), len(d["x"]) > 0)
 
@@ -163,8 +164,8 @@ STYLES = Styles(
         "Points.LayoutPinnedPlanet": dict(line_color="colour", fill_alpha=0.0, line_width=2.2, line_alpha=0.8,
                                           size=PINNED_SIZE, tools=["hover"],
                                           hover_tooltips=[("pinned reference", "@name"),
-                                                          ("distance then", "@r{0.00000} au"),
-                                                          ("true anomaly f then", "@f_deg{0.0} deg")]),
+                                                          ("distance now", "@pinned_r{0.00000} au"),
+                                                          ("true anomaly f now", "@pinned_f_deg{0.0} deg")]),
         "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1,
                                     show_legend=True),
         "Segments.LayoutHill": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
