@@ -5,8 +5,10 @@ its ``revision`` and derives it once per change into ``derived`` (and the
 Keplerian elements used for positions into ``elements``); every view reads
 from those two parameters and patches its plots in place. ``selected`` is
 the planet chosen anywhere (a click on a point or a bar, a table row, the
-planet selector) and every view highlights it; ``colours`` gives each
-planet its colour for the session. An app object belongs to one browser
+planet selector) and every view highlights it; ``selected_pair`` is the
+adjacent pair chosen (the Period ladder highlights it), which follows its
+two planets through edits; ``colours`` gives each planet its colour for the
+session. An app object belongs to one browser
 session or one notebook cell; nothing mutable is shared.
 
 A view is a class in :data:`VIEW_CLASSES` built as ``cls(app)``, with a
@@ -40,6 +42,8 @@ from .views.ladder import LadderView
 from .views.layout import REFERENCE_ORBITS, LayoutView
 from .views.observability import ObservabilityView
 from .views.palette import ColourBook
+from .views.pair_choice import pair_index_after, pair_or_none
+from .views.pinned import elements_of_pin
 from .views.skies import SkiesView
 from .views.transits import TransitPlannerView
 
@@ -60,6 +64,11 @@ class OrbitDeckApp(param.Parameterized):
                                   doc="derive(system), recomputed once per change of the system")
     elements = param.Parameter(default=None, doc="Keplerian elements (ephemeris.OrbitalElements) for positions")
     selected = param.String(default=None, allow_None=True, doc="Name of the selected planet")
+    selected_pair = param.Integer(default=None, allow_None=True, bounds=(0, None),
+                                  doc="Index of the highlighted adjacent pair in period order (the index of its "
+                                      "inner planet); None for none. It follows the same two planets when planets "
+                                      "are added, removed or reordered, and becomes None when they are no longer "
+                                      "neighbours; an index beyond the pairs is taken as none")
     time = param.Number(default=2461000.0, doc="Time of the positions in Layout [BJD_TDB, d]")
     show_hill = param.Boolean(default=False, doc="Draw Hill spheres in Layout")
     reference = param.Selector(default="none", objects=list(REFERENCE_ORBITS),
@@ -71,6 +80,10 @@ class OrbitDeckApp(param.Parameterized):
     pinned = param.ClassSelector(class_=Derived, allow_None=True, instantiate=False,
                                  doc="The derivation pinned as the reference that the Compare tab compares with")
     pinned_label = param.String(default="", doc="What the pinned reference was (for the Compare tab)")
+    pinned_elements = param.Parameter(default=None, doc=(
+        "Keplerian elements (ephemeris.OrbitalElements) of the pinned reference, kept with it when pinned, for "
+        "the overlays in Layout; None without a reference. A reference pinned without them gets them made once "
+        "from its derivation, without transit times (orbits, no positions)"))
     read_only = param.Boolean(default=False, doc="True while this session follows a presenter (no edits)")
 
     def __init__(self, system: System, source: SystemSource | None = None, **params):
@@ -79,6 +92,7 @@ class OrbitDeckApp(param.Parameterized):
         derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
         names = derived.planet_names
         params.setdefault("selected", names[0] if names else None)
+        params["selected_pair"] = pair_or_none(params.get("selected_pair"), derived)
         #: each planet's colour for the session, by first appearance (see palette.ColourBook)
         self.colours = ColourBook(names)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
@@ -86,6 +100,10 @@ class OrbitDeckApp(param.Parameterized):
         self._set_source(source)
         self._revision_watcher = system.param.watch(self._on_revision, "revision")
         self.param.watch(self._on_draws, ["uncertainty", "samples"])
+        self.param.watch(self._pin_elements, ["pinned", "pinned_elements"])
+        self.param.watch(self._check_pair, "selected_pair")
+        if self.pinned is not None:
+            self._pin_elements()
         #: True in a served page (see page()): views of hidden tabs wait until their tab is opened
         self.defer_hidden_tabs = False
         self.tabs = None
@@ -142,7 +160,8 @@ class OrbitDeckApp(param.Parameterized):
         selected = self.selected if self.selected in names else (names[0] if names else None)
         self.colours.note(names)
         with pn.io.hold(freeze=True):
-            self.param.update(derived=derived, elements=elements, selected=selected, problem="")
+            self.param.update(derived=derived, elements=elements, selected=selected, problem="",
+                              selected_pair=pair_index_after(self.derived, derived, self.selected_pair))
 
     def replace_system(self, system: System, source: SystemSource | None = None) -> None:
         """Show ``system`` (read from ``source``) instead of the current one: a new file, with a fresh
@@ -176,6 +195,8 @@ class OrbitDeckApp(param.Parameterized):
         self.colours.note(names)
         selected = shown.pop("selected", self.selected)
         shown["selected"] = selected if selected in names else (names[0] if names else None)
+        shown["selected_pair"] = pair_or_none(
+            shown.pop("selected_pair", pair_index_after(self.derived, derived, self.selected_pair)), derived)
         wanted = dict(system=system, derived=derived, elements=elements, problem="", **shown)
         changed = {name: value for name, value in wanted.items() if not _same_value(getattr(self, name), value)}
         if not changed:
@@ -212,13 +233,26 @@ class OrbitDeckApp(param.Parameterized):
         if derived.intervals:
             derived.intervals["skies"]   # worked out now: the pinned state outlives its draws
         draws = f"{derived.samples} Monte Carlo draws" if derived.samples else "nominal values only"
-        self.param.update(pinned=derived,
+        # the elements shown with this state go with it: the overlays need no derivation of their own
+        self.param.update(pinned=derived, pinned_elements=self.elements,
                           pinned_label=f"{self.system.name}, edit {self.history.position} ({draws})")
 
     def clear_reference(self) -> None:
         """Forget the pinned reference (not while read-only)."""
         if not self.read_only:
-            self.param.update(pinned=None, pinned_label="")
+            self.param.update(pinned=None, pinned_elements=None, pinned_label="")
+
+    def _pin_elements(self, *events):
+        """Keep ``pinned_elements`` the elements of ``pinned`` (see :func:`.views.pinned.elements_of_pin`)."""
+        changed = {event.name for event in events}
+        wanted = elements_of_pin(self.pinned, self.pinned_elements,
+                                 set_with_it="pinned_elements" in changed or "pinned" not in changed)
+        if self.pinned_elements is not wanted:
+            self.pinned_elements = wanted
+
+    def _check_pair(self, *_):
+        """An index beyond the adjacent pairs highlights none."""
+        self.selected_pair = pair_or_none(self.selected_pair, self.derived)
 
     # -- text around the views ----------------------------------------------------
     def _texts(self, *_):

@@ -39,8 +39,8 @@ from panel.io.state import set_curdoc
 from .views.common import escape
 
 #: app parameters a follower takes from the presenter (besides the system, its derivation and the tab)
-SHARED_PARAMETERS = ("selected", "time", "uncertainty", "samples", "show_hill", "reference", "pinned",
-                     "pinned_label")
+SHARED_PARAMETERS = ("selected", "selected_pair", "time", "uncertainty", "samples", "show_hill", "reference",
+                     "pinned", "pinned_label", "pinned_elements")
 QUERY_ARGUMENT = "present"
 
 

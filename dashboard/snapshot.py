@@ -113,8 +113,9 @@ def _section(title: str, body):
                      sizing_mode="stretch_width", stylesheets=[PRINT_SECTION_CSS])
 
 
-def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = ""):
-    """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``) for a static page."""
+def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", pinned_elements=None):
+    """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``, whose Keplerian
+    elements ``pinned_elements`` place its planets in Layout) for a static page."""
     from .app import OrbitDeckApp
 
     app = OrbitDeckApp(system, source=info.source)
@@ -122,7 +123,8 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
     if info.samples:
         app.derived = derive(system, samples=info.samples, seed=info.seed)
     if pinned is not None:
-        app.param.update(pinned=pinned, pinned_label=pinned_label or "pinned reference")
+        app.param.update(pinned=pinned, pinned_label=pinned_label or "pinned reference",
+                         pinned_elements=pinned_elements)
     sections = [_section(title, view.panel()) for title, view in app.views.items()
                 if pinned is not None or title != "Compare"]
     provenance = provenance_of(system, app.derived, info.source.name, info.source.sha256,
@@ -135,7 +137,7 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
 
 def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
                     samples: int = 0, seed: int | None = None, exported: datetime | None = None,
-                    pinned=None, pinned_label: str = "") -> str:
+                    pinned=None, pinned_label: str = "", pinned_elements=None) -> str:
     """The snapshot page of ``system`` as HTML text.
 
     Parameters
@@ -153,7 +155,11 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     exported : datetime, optional
         Export time (default now, UTC).
     pinned : Derived, optional
-        A reference state to compare with (a section "Compare"), described by ``pinned_label``.
+        A reference state to compare with (a section "Compare"), described by ``pinned_label``; Layout
+        and the Period ladder draw it beside the state shown.
+    pinned_elements : ephemeris.OrbitalElements, optional
+        The Keplerian elements of ``pinned`` (its planets' positions in Layout; without them only its
+        orbits are drawn).
     """
     moment = (exported or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
     info = Provenance(SystemSource(source_name, bytes(source_bytes)), moment.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -161,7 +167,7 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     text = dumps_system(system)
     meta = (f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
             f"<style>{look.PAGE_CSS}</style>")
-    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label),
+    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, pinned_elements),
                              f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta + PRINT_PAGE_CSS)
     return page
 

@@ -404,7 +404,8 @@ class Controls:
         app = self.app
         page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
                                samples=app.draws, seed=app.seed if app.draws else None,
-                               pinned=app.pinned, pinned_label=app.pinned_label)
+                               pinned=app.pinned, pinned_label=app.pinned_label,
+                               pinned_elements=app.pinned_elements)
         return io.BytesIO(page.encode("utf-8"))
 
     def lock(self, locked: bool) -> None:

@@ -9,7 +9,12 @@ integers p and q come from ``Derived.pairs``) and the offset
 Delta = (P2/P1)/(p/q) - 1 (Lithwick, Xie & Wu 2012) beside it; consecutive
 pairs are linked where they form a triple, labelled with the best
 small-integer three-body relation p/P1 - (p+q)/P2 + q/P3 and its residual.
-The tables beneath list every quantity the registry shows in this view.
+The pair chosen as ``app.selected_pair`` (in the Dynamics view, or a row of
+the pairs table here) stands on a band, and its table row is selected. With
+a pinned reference, its period ratios (and their intervals, with draws) are
+drawn as rings beside the current pair of the same two planets
+(:mod:`.pinned`). The tables beneath list every quantity the registry shows
+in this view.
 """
 
 from __future__ import annotations
@@ -21,10 +26,11 @@ import param
 
 from orbitdeck.models.resonances import commensurability_table
 
-from . import palette
+from . import palette, pinned
 from .common import (View, batched, escape, interval, interval_caption, note, section, select_on_tap, span_texts,
                      while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .pair_choice import PairRows, chosen_pair
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts, with_a_row
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
 VIEW = "ladder"
@@ -35,6 +41,9 @@ PAIR_SIZE = 15
 #: above this many pairs the offsets and relations are left to the tooltips and tables (labels would overlap)
 MAX_LABELLED_PAIRS = 12
 LINK_COLOUR, LINK_SELECTED = "#8a6fae", "#2b1a40"
+#: the band behind the chosen pair, and its half-width in pair positions
+BAND_FILL, BAND_LINE, BAND_HALF_WIDTH = "#ece5f4", "#4a2d6a", 0.3
+PINNED_SIZE = 12
 X_DIM = hv.Dimension("position", label="adjacent pair")
 Y_DIM = hv.Dimension("ratio", label="period ratio P_outer / P_inner")
 
@@ -95,6 +104,26 @@ def errors(d):
     return _segments(d, "LadderRange", "16th\u201384th percentiles")
 
 
+def pinned_errors(d):
+    return _segments(d, "LadderPinnedRange", "pinned reference: 16th\u201384th percentiles")
+
+
+def pair_band(d):
+    dims = _dims(d) + [hv.Dimension("position1", range=d["x_range"]), hv.Dimension("ratio1", range=d["y_range"])]
+    return drawn(hv.Rectangles((d["x0"], d["y0"], d["x1"], d["y1"]), dims, group="LadderPairBand",
+                               label="chosen pair"), len(d["x0"]) > 0)
+
+
+PINNED_VDIMS = ["colour", "pair", "now", "ratio_range"]
+
+
+def pinned_pairs(d):
+    columns = {"position": d["x"], "ratio": d["y"], "colour": texts(d["colour"]), "pair": texts(d["pair"]),
+               "now": d["now"], "ratio_range": texts(d["ratio_range"])}
+    return drawn(hv.Points(with_a_row(columns), _dims(d), PINNED_VDIMS, group="LadderPinnedPair",
+                           label="pinned reference: period ratios"), len(d["x"]) > 0)
+
+
 PAIR_VDIMS = ["colour", "line_colour", "line_width", "pair", "nearest", "order", "delta", "super_period", "spacing",
               "delta_range", "other_text"]
 
@@ -108,9 +137,11 @@ def pairs(d):
                      group="LadderPair", label="adjacent pairs")
 
 
-LAYERS = {"rungs1": _rungs(1), "rungs2": _rungs(2), "rungs3": _rungs(3), "rung_names": _labels("LadderRungName"),
-          "stubs": stubs, "links": links, "link_names": _labels("LadderLinkName"), "errors": errors,
-          "pairs": pairs, "pair_names": _labels("LadderPairName"), "deltas": _labels("LadderDelta")}
+LAYERS = {"pair_band": pair_band, "rungs1": _rungs(1), "rungs2": _rungs(2), "rungs3": _rungs(3),
+          "rung_names": _labels("LadderRungName"), "stubs": stubs, "links": links,
+          "link_names": _labels("LadderLinkName"), "errors": errors, "pinned_errors": pinned_errors,
+          "pinned_pairs": pinned_pairs, "pairs": pairs, "pair_names": _labels("LadderPairName"),
+          "deltas": _labels("LadderDelta")}
 
 TITLE = "Adjacent period ratios and the commensurabilities near them"
 STYLES = Styles(
@@ -118,6 +149,14 @@ STYLES = Styles(
                          xaxis=None, show_grid=False, fontsize=FONT_SIZES),
            "matplotlib": dict(fig_size=250, aspect=1.8, legend_position="right", title=TITLE, xaxis=None)},
     bokeh={
+        "Rectangles.LadderPairBand": dict(fill_color=BAND_FILL, line_color=BAND_LINE, line_width=2.0),
+        "Segments.LadderPinnedRange": dict(color=pinned.RANGE_COLOUR, line_width=2.0, line_dash="dashed",
+                                           alpha=0.8),
+        "Points.LadderPinnedPair": dict(line_color="colour", fill_alpha=0.0, line_width=2.2, line_alpha=0.85,
+                                        size=PINNED_SIZE, tools=["hover"], hover_tooltips=[
+                                            ("pinned reference", "@pair"), ("P2/P1 then", "@ratio{0.00000}"),
+                                            ("16th\u201384th pct then", "@ratio_range"),
+                                            ("P2/P1 now", "@now{0.00000}")]),
         "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], line_width=1.4),
         "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], line_width=1.1, line_dash="dashed"),
         "Segments.LadderRung3": dict(color=RUNG_COLOURS[3], line_width=1.1, line_dash="dotted"),
@@ -143,6 +182,10 @@ STYLES = Styles(
                                    background_fill_alpha=0.85),
     },
     matplotlib={
+        "Rectangles.LadderPairBand": dict(facecolor=BAND_FILL, edgecolor=BAND_LINE, linewidth=1.5),
+        "Segments.LadderPinnedRange": dict(color=pinned.RANGE_COLOUR, linewidth=1.5, linestyle="--", alpha=0.8),
+        "Points.LadderPinnedPair": dict(facecolors="none", edgecolors=hv.dim("colour"), s=PINNED_SIZE ** 2 * 0.6,
+                                        linewidth=1.6, alpha=0.85),
         "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], linewidth=1.2),
         "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], linewidth=1.0, linestyle="--"),
         "Segments.LadderRung3": dict(color=RUNG_COLOURS[3], linewidth=1.0, linestyle=":"),
@@ -173,7 +216,8 @@ class LadderView(View):
         self.caption = note()
         self.pair_quantities = quantities_of(VIEW, "pairs")
         self.triple_quantities = quantities_of(VIEW, "triples")
-        self.pairs_table = table_widget(self._pairs_frame(), self.pair_quantities, frozen=("pair",), selectable=False)
+        self.pairs_table = table_widget(self._pairs_frame(), self.pair_quantities, frozen=("pair",), selectable=1)
+        self.pair_rows = PairRows(self.pairs_table, app)
         self.triples_table = table_widget(self._triples_frame(), self.triple_quantities, frozen=("planets",),
                                           selectable=False)
         self.caution = note()
@@ -183,9 +227,31 @@ class LadderView(View):
         """The planet each drawn disc stands for (a pair's inner disc its inner planet, its outer disc the outer)."""
         return self.plot.data["pairs"]["planet"]
 
-    @param.depends("app.derived", watch=True)
+    @param.depends("app.derived", "app.pinned", "app.pinned_label", watch=True)
     def _on_derived(self):
         self._refresh()
+
+    @param.depends("app.selected_pair", watch=True)
+    def _on_pair(self):
+        self._show_pair()
+
+    @while_shown
+    @batched
+    def _show_pair(self):
+        data = self.plot.data
+        self.plot.update(pair_band={**data["pair_band"], **self._band(data["pair_band"]["x_range"],
+                                                                      data["pair_band"]["y_range"])})
+        self.pair_rows.show()
+
+    def _band(self, xr, yr) -> dict:
+        """The band behind the chosen pair: its corners (none without a chosen pair)."""
+        chosen = chosen_pair(self.app)
+        if chosen is None:
+            return {"x0": np.zeros(0), "y0": np.zeros(0), "x1": np.zeros(0), "y1": np.zeros(0)}
+        return {"x0": np.array([chosen - BAND_HALF_WIDTH]), "y0": np.array([yr[0]]),
+                "x1": np.array([chosen + (pinned.RING_OFFSETS[1] + 0.13 if self.app.pinned is not None
+                                          else BAND_HALF_WIDTH)]),
+                "y1": np.array([yr[1]])}
 
     @param.depends("app.selected", watch=True)
     def _on_selected(self):
@@ -196,15 +262,17 @@ class LadderView(View):
     def _refresh(self):
         d = self.app.derived
         self.plot.update(**self._layer_data())
-        self.pairs_table.value = self._pairs_frame()
+        self.pair_rows.fill(self._pairs_frame())
         self.triples_table.value = self._triples_frame()
         caption = interval_caption(d)
-        notes = ["Each pair: the inner planet's disc left, the outer's right; the stub runs to the nearest rung."]
+        notes = ["Each pair: the inner planet's disc left, the outer's right; the stub runs to the nearest rung. "
+                 "A pair chosen in the Dynamics view or in the table below stands on a band."]
+        notes += pinned.ladder_notes(self.app.pinned, self.app.pinned_label, self.app.derived)
         if caption:
             notes.append(f"Vertical bars: period ratio, {escape(caption)}; the fraction of draws in which another "
                          "commensurability is nearer is in the tooltips.")
             found = interval(d, "pairs", "period_ratio")
-            lo, hi = ladder_range(d.pairs["period_ratio"])
+            lo, hi = self.plot.data["pairs"]["y_range"]
             if found is not None and np.nanmax(found[1] - found[0], initial=0.0) < 0.01 * (hi - lo):
                 notes.append("(Every bar is shorter than the discs: the ratios are known far more precisely than the "
                              "rungs are apart.)")
@@ -233,7 +301,8 @@ class LadderView(View):
         pr, tr = d.pairs, d.triples
         ratio = np.asarray(pr["period_ratio"], dtype=float)
         n = ratio.size
-        lo, hi = ladder_range(ratio)
+        then = pinned.pinned_ratios(self.app.pinned, d)
+        lo, hi = ladder_range(np.concatenate([ratio, then["ratio"]]))
         x_lo, x_hi = -0.7, max(n - 1, 0) + 1.4
         xr, yr = (x_lo, x_hi), (lo, hi)
         p_all, q_all, order_all, rung_all = rungs_between(lo, hi)
@@ -268,6 +337,8 @@ class LadderView(View):
                             "colour": ["#111111"] * lo_.size, "width": np.ones(lo_.size),
                             "x_range": xr, "y_range": yr}
         layers["pairs"] = self._pairs(d, x, ratio, xr, yr)
+        layers.update(pinned.ladder_layers(then, ratio, self.colours, xr, yr))
+        layers["pair_band"] = {**self._band(xr, yr), "x_range": xr, "y_range": yr}
         names = [f"{a}\u2013{b}" for a, b in zip(pr["inner"], pr["outer"])]
         layers["pair_names"] = {"x": x, "y": np.full(n, lo), "text": names, "x_range": xr, "y_range": yr}
         delta = np.asarray(pr["delta"], dtype=float)

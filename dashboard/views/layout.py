@@ -9,8 +9,10 @@ habitable zone is the project's graded, partly hatched band
 (:mod:`.habitable`, drawn as an image of the annulus), the star is a disc
 of its own radius, Hill spheres are drawn on demand (enlarged by a stated
 factor when they would be smaller than a few pixels) and a Solar System
-orbit can be added for scale. Everything is in au on equal axes; notes sit
-beneath the plot, never over it.
+orbit can be added for scale. With a pinned reference, its orbits are drawn
+dashed and its planets as rings at the same time, in the planets' colours
+(:mod:`.pinned`). Everything is in au on equal axes; notes sit beneath the
+plot, never over it.
 """
 
 from __future__ import annotations
@@ -20,19 +22,19 @@ import numpy as np
 import panel as pn
 import param
 
-from orbitdeck.models import ephemeris
 from orbitdeck.models.constants import AU, R_SUN
 
-from . import habitable, palette
+from . import habitable, palette, pinned
 from .common import View, batched, escape, interval, interval_caption, note, select_on_tap, span_texts, while_shown
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .orbit_drawing import circle_points, curve_segments, ellipse_points, in_plane_positions, orbit_ellipses
+from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts, with_a_row
 
 #: Solar System orbits offered for scale: circles of radius a [au]
 #: (semi-major axes of Mercury 0.387 au and Venus 0.723 au from memory; Earth 1 au)
 REFERENCE_ORBITS = {"none": None, "Mercury (0.387 au)": 0.387, "Venus (0.723 au)": 0.723, "Earth (1 au)": 1.0}
 SIZE_PLAIN, SIZE_SELECTED = 11, 18
-#: points along each drawn orbit and circle
-ORBIT_POINTS, CIRCLE_POINTS = 180, 72
+#: rings of the pinned reference's planets (drawn hollow, so a planet that did not move shows inside its ring)
+PINNED_SIZE = 17
 #: pixels of the habitable-zone image across
 HZ_PIXELS = 320
 #: Hill spheres are drawn at least this share of the shown half-width across (about 8 px), enlarged by a
@@ -41,50 +43,6 @@ HILL_MIN_SHARE = 0.014
 HILL_FACTORS = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
 X_DIM = hv.Dimension("x", label="x, in the orbital plane", unit="au")
 Y_DIM = hv.Dimension("y", label="y, towards the observer", unit="au")
-
-
-def orbit_ellipses(a, e, omega_rad) -> dict:
-    """Keplerian orbits about a focus at the origin: centre, axes [unit of a], angle [rad].
-
-    The ellipse of semi-major axis a and eccentricity e has the semi-minor
-    axis b = a sqrt(1 - e^2) and its centre a e from the focus, opposite
-    periastron (Murray & Dermott 1999, sec. 2.4); periastron lies at the
-    angle omega from the line of nodes, which is also the angle of the major
-    axis. Returns the columns ``x``, ``y`` (centre), ``width`` (2a),
-    ``height`` (2b) and ``angle`` (omega).
-    """
-    a, e, omega = (np.asarray(v, dtype=float) for v in (a, e, omega_rad))
-    cos_w, sin_w = np.cos(omega), np.sin(omega)
-    return {"x": -a * e * cos_w, "y": -a * e * sin_w, "width": 2.0 * a,
-            "height": 2.0 * a * np.sqrt(1.0 - e * e), "angle": omega}
-
-
-def ellipse_points(ellipses: dict, count: int = ORBIT_POINTS):
-    """Points around each ellipse of :func:`orbit_ellipses`, shaped (ellipses, count + 1), closed."""
-    t = np.linspace(0.0, 2.0 * np.pi, count + 1)
-    cx, cy, w, h, angle = (np.asarray(ellipses[k], dtype=float)[:, None]
-                           for k in ("x", "y", "width", "height", "angle"))
-    u, v = 0.5 * w * np.cos(t), 0.5 * h * np.sin(t)
-    return cx + u * np.cos(angle) - v * np.sin(angle), cy + u * np.sin(angle) + v * np.cos(angle)
-
-
-def circle_points(x, y, radius, count: int = CIRCLE_POINTS):
-    """Points around circles of ``radius`` about (x, y), shaped (circles, count + 1), closed."""
-    t = np.linspace(0.0, 2.0 * np.pi, count + 1)
-    x, y, radius = (np.atleast_1d(np.asarray(v, dtype=float))[:, None] for v in (x, y, radius))
-    return x + radius * np.cos(t), y + radius * np.sin(t)
-
-
-def in_plane_positions(elements, time: float):
-    """Planet positions in the orbital plane at ``time`` [BJD_TDB]: x, y, r [au] and f [rad].
-
-    Solves Kepler's equation through :func:`orbitdeck.models.ephemeris.positions`
-    and turns the distance and the true anomaly into in-plane coordinates.
-    """
-    pos = ephemeris.positions(elements, time)
-    r = np.sqrt(pos.x_au**2 + pos.y_au**2 + pos.z_au**2)
-    angle = elements.omega_rad + pos.true_anomaly_rad
-    return r * np.cos(angle), r * np.sin(angle), r, pos.true_anomaly_rad
 
 
 def hill_factor(radii, half_width: float) -> int:
@@ -149,6 +107,21 @@ def reference(d):
     return _lines(d, "LayoutReference", "a Solar System orbit, for scale")
 
 
+def pinned_orbits(d):
+    return _lines(d, "LayoutPinnedOrbit", "pinned reference: orbits")
+
+
+#: columns of their own (browser tests and tools find the current planets by theirs)
+PINNED_VDIMS = ["name", "colour", "pinned_r", "pinned_f_deg"]
+
+
+def pinned_planets(d):
+    columns = {"x": d["x"], "y": d["y"], "name": texts(d["name"]), "colour": texts(d["colour"]),
+               "pinned_r": d["r"], "pinned_f_deg": d["f_deg"]}
+    return drawn(hv.Points(with_a_row(columns), _dims(d), PINNED_VDIMS, group="LayoutPinnedPlanet",
+                           label="pinned reference: planets now"), len(d["x"]) > 0)
+
+
 def star(d):
     disc = [{"x": d["x"], "y": d["y"]}] if len(d["x"]) else []
     return hv.Polygons(disc, _dims(d), group="LayoutStar", label="star (to scale)")
@@ -170,8 +143,8 @@ def names(d):
                      group="LayoutPlanetName")
 
 
-LAYERS = {"hz": hz, "reference": reference, "orbits": orbits, "star": star, "hill": hill, "planets": planets,
-          "names": names}
+LAYERS = {"hz": hz, "reference": reference, "pinned_orbits": pinned_orbits, "orbits": orbits, "star": star,
+          "hill": hill, "pinned_planets": pinned_planets, "planets": planets, "names": names}
 
 FRAME = {
     "bokeh": dict(frame_width=500, frame_height=500, data_aspect=1, legend_position="right", toolbar="above",
@@ -186,6 +159,13 @@ STYLES = Styles(
         "RGB.LayoutHZ": dict(),
         "Segments.LayoutReference": dict(color=palette.REFERENCE_COLOUR, line_dash="dashed", line_width=1.5),
         "Segments.LayoutOrbit": dict(color=hv.dim("colour"), line_width=hv.dim("width"), alpha=0.85),
+        "Segments.LayoutPinnedOrbit": dict(color=hv.dim("colour"), line_width=hv.dim("width"), alpha=0.6,
+                                           line_dash="dashed"),
+        "Points.LayoutPinnedPlanet": dict(line_color="colour", fill_alpha=0.0, line_width=2.2, line_alpha=0.8,
+                                          size=PINNED_SIZE, tools=["hover"],
+                                          hover_tooltips=[("pinned reference", "@name"),
+                                                          ("distance now", "@pinned_r{0.00000} au"),
+                                                          ("true anomaly f now", "@pinned_f_deg{0.0} deg")]),
         "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1,
                                     show_legend=True),
         "Segments.LayoutHill": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
@@ -203,6 +183,10 @@ STYLES = Styles(
         "RGB.LayoutHZ": dict(),
         "Segments.LayoutReference": dict(color=palette.REFERENCE_COLOUR, linestyle="--", linewidth=1.2),
         "Segments.LayoutOrbit": dict(color=hv.dim("colour"), linewidth=hv.dim("width") * 0.8),
+        "Segments.LayoutPinnedOrbit": dict(color=hv.dim("colour"), linewidth=hv.dim("width") * 0.8, alpha=0.6,
+                                           linestyle="--"),
+        "Points.LayoutPinnedPlanet": dict(facecolors="none", edgecolors=hv.dim("colour"), s=PINNED_SIZE ** 2 * 0.6,
+                                          linewidth=1.6, alpha=0.8),
         "Polygons.LayoutStar": dict(facecolor=palette.STAR_COLOUR, edgecolor=palette.STAR_OUTLINE, linewidth=0.5),
         "Segments.LayoutHill": dict(color=hv.dim("colour"), linewidth=1.0),
         "Points.LayoutPlanet": dict(color=hv.dim("colour"), s=hv.dim("size") ** 2 * 0.6,
@@ -210,16 +194,6 @@ STYLES = Styles(
         "Labels.LayoutPlanetName": dict(size=9, horizontalalignment="left", verticalalignment="top",
                                         color=palette.INK),
     })
-
-
-def _segments(xs, ys, colours, widths, x_range, y_range) -> dict:
-    """Closed curves (rows of points) as the columns of a Segments layer, one colour and width per curve."""
-    xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
-    per = max(xs.shape[1] - 1, 0) if xs.ndim == 2 else 0
-    return {"x0": xs[:, :-1].ravel() if per else np.zeros(0), "y0": ys[:, :-1].ravel() if per else np.zeros(0),
-            "x1": xs[:, 1:].ravel() if per else np.zeros(0), "y1": ys[:, 1:].ravel() if per else np.zeros(0),
-            "colour": [c for c in colours for _ in range(per)], "width": np.repeat(np.asarray(widths, float), per),
-            "x_range": x_range, "y_range": y_range}
 
 
 class LayoutView(View):
@@ -236,7 +210,8 @@ class LayoutView(View):
         self.caption = note()
         self._refresh()
 
-    @param.depends("app.derived", "app.elements", "app.time", "app.reference", "app.show_hill", watch=True)
+    @param.depends("app.derived", "app.elements", "app.time", "app.reference", "app.show_hill",
+                   "app.pinned_elements", "app.pinned_label", watch=True)
     def _on_state(self):
         self._refresh()
 
@@ -261,6 +236,12 @@ class LayoutView(View):
         if reference_au:
             notes.append(f"Dashed circle: {app.reference.split(' ')[0]}'s orbit (a = {reference_au:g} au), "
                          "for scale.")
+        if app.pinned_elements is not None:
+            placed = len(self.plot.data["pinned_planets"]["x"])
+            notes.append(f"Dashed orbits{' and rings' if placed else ''}: the pinned reference "
+                         f"({escape(app.pinned_label or 'pinned')})"
+                         + (", its planets at the same time." if placed else
+                            "; its planets' positions are not drawn (pinned without its transit times)."))
         if caption:
             notes.append(f"Semi-major axis ranges in the tooltips: {escape(caption)}.")
         self.caption.object = " ".join(n for n in notes if n)
@@ -272,8 +253,12 @@ class LayoutView(View):
         names_ = data["planets"]["name"]
         widths = self._orbit_widths(names_)
         per = len(data["orbits"]["x0"]) // max(len(names_), 1)
+        then = data["pinned_orbits"]["name"]
+        per_then = len(data["pinned_orbits"]["x0"]) // max(len(then), 1)
         self.plot.update(planets={**data["planets"], **self._marks(names_)},
-                         orbits={**data["orbits"], "width": np.repeat(widths, per)})
+                         orbits={**data["orbits"], "width": np.repeat(widths, per)},
+                         pinned_orbits={**data["pinned_orbits"],
+                                        "width": np.repeat(self._pinned_widths(then), per_then)})
 
     def _marks(self, names_) -> dict:
         chosen = [n == self.app.selected for n in names_]
@@ -284,6 +269,9 @@ class LayoutView(View):
     def _orbit_widths(self, names_) -> np.ndarray:
         return np.array([3.5 if n == self.app.selected else 1.6 for n in names_])
 
+    def _pinned_widths(self, names_) -> np.ndarray:
+        return np.array([2.6 if n == self.app.selected else 1.4 for n in names_])
+
     def _layer_data(self) -> dict:
         app, d = self.app, self.app.derived
         names_ = [str(n) for n in d.planet_names]
@@ -291,7 +279,9 @@ class LayoutView(View):
         pl, elements = d.planets, app.elements
         a, e, omega = np.asarray(pl["semi_major_axis_au"], float), elements.e, elements.omega_rad
         star_radius_au = d.star["radius_rsun"] * R_SUN / AU
-        half = 1.12 * max(float(np.max(d.extra["apoastron_au"], initial=0.0)), 3.0 * star_radius_au)
+        then = app.pinned_elements
+        half = 1.12 * max(float(np.max(d.extra["apoastron_au"], initial=0.0)), pinned.pinned_apoastron_au(then),
+                          3.0 * star_radius_au)
         limits = habitable.limits_of(d)
         if limits and limits["early_mars"] < 3.0 * half:
             half = max(half, 1.05 * limits["early_mars"])
@@ -305,10 +295,10 @@ class LayoutView(View):
         rx, ry = circle_points([0.0], [0.0], [reference_au or 0.0], 180)
         body = app.reference.split(" ")[0]
         own = (-(reference_au or 0.0), reference_au or 0.0)
-        layers["reference"] = _segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5], own, own) \
-            if reference_au else _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], own, own)
+        layers["reference"] = curve_segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5], own, own) \
+            if reference_au else curve_segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], own, own)
         ox, oy = ellipse_points(orbit_ellipses(a, e, omega))
-        layers["orbits"] = _segments(ox, oy, colours, self._orbit_widths(names_), view, view)
+        layers["orbits"] = curve_segments(ox, oy, colours, self._orbit_widths(names_), view, view)
         sx, sy = circle_points([0.0], [0.0], [star_radius_au], 64)
         layers["star"] = {"x": sx[0], "y": sy[0], "x_range": (-star_radius_au, star_radius_au),
                           "y_range": (-star_radius_au, star_radius_au)}
@@ -316,9 +306,9 @@ class LayoutView(View):
         self.hill_factor = hill_factor(pl["hill_radius_au"], half)
         if app.show_hill:
             hx, hy = circle_points(x, y, np.asarray(pl["hill_radius_au"], float) * self.hill_factor)
-            layers["hill"] = _segments(hx, hy, colours, [1.5] * len(names_), view, view)
+            layers["hill"] = curve_segments(hx, hy, colours, [1.5] * len(names_), view, view)
         else:
-            layers["hill"] = _segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], view, view)
+            layers["hill"] = curve_segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], view, view)
         found = interval(d, "planets", "semi_major_axis_au")
         layers["planets"] = {
             "x": x, "y": y, "name": names_, "colour": colours, "r": r, "f_deg": np.degrees(f), "a": a, "e": e,
@@ -327,6 +317,9 @@ class LayoutView(View):
             "a_range": span_texts(*found, digits=5) if found else [""] * len(names_),
             "x_range": view, "y_range": view, **self._marks(names_)}
         layers["names"] = {"x": x, "y": y, "name": names_, "x_range": view, "y_range": view}
+        names_then = list(then.names) if then is not None else []
+        layers.update(pinned.layout_layers(then, self.colours(names_then), self._pinned_widths(names_then),
+                                           app.time, view))
         return layers
 
     def _hz(self, d, limits, half: float) -> dict:

@@ -99,6 +99,22 @@ def drawn(element, shown: bool):
     return element if shown else element.opts(visible=False)
 
 
+def with_a_row(columns: dict, colour_keys=("colour",), colour: str = "#000000") -> dict:
+    """``columns`` of a marker layer as they are, or, when they hold no row, one row that draws nothing
+    (NaN numbers, empty text, ``colour`` in ``colour_keys``), for a layer hidden with :func:`drawn`.
+
+    A Bokeh marker layer that starts with no rows and is later shown with
+    data can fail to draw its legend entry (bokeh 3.9: "Offset is outside
+    the bounds of the DataView" in the browser, which drops the rest of that
+    update); one hidden row avoids it.
+    """
+    if any(len(v) for v in columns.values()):
+        return columns
+    return {k: texts([colour]) if k in colour_keys
+            else texts([""]) if np.asarray(v).dtype.kind in "USO" else np.full(1, np.nan)
+            for k, v in columns.items()}
+
+
 class Styles:
     """The look of a plot's elements per backend.
 
