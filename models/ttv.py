@@ -238,9 +238,18 @@ def longitude_of_conjunctions(time, period_inner, period_outer, transit_inner, t
 
 
 def ttv_signal(amplitude, longitude):
-    """The TTV at a longitude of conjunctions: delta t = Re[V exp(i lambda^j)] (LXW12 Sect. 2).
+    """The TTV at a longitude of conjunctions: delta t = Im[V exp(i lambda^j)] = |V| sin(lambda^j + arg V).
+
+    With the mean longitudes measured from the line of sight
+    (:func:`longitude_of_conjunctions`), a transit happens at true longitude
+    0, and theta = lambda + 2 e sin(lambda - varpi) makes it
+    (P / 2 pi)(2 Im z - delta lambda) late: the forced eccentricity z and the
+    drift of the mean longitude behind LXW12's eqs. (8)-(9) both enter as
+    the imaginary part of V exp(i lambda^j), its real part being a quarter
+    super-period off (worked out from Lagrange's equations and checked
+    against N-body transit times in the tests).
 
     ``amplitude`` is V or V' (complex), ``longitude`` lambda^j [rad]; the
     result takes the amplitude's unit.
     """
-    return np.real(amplitude * np.exp(1j * np.asarray(longitude)))
+    return np.imag(amplitude * np.exp(1j * np.asarray(longitude)))

@@ -42,6 +42,19 @@ def test_critical_amd_is_the_least_amd_on_the_collision_line(alpha, gamma):
                                                                      rel=1e-9, abs=1e-14)
 
 
+def test_amd_of_an_inclined_eccentric_orbit_is_lambda_less_the_normal_angular_momentum():
+    # C = Lambda - G cos i, G = |r x v| the orbit's angular momentum (Laskar & Petit 2017), here from the state at
+    # periastron: r = a (1 - e), v^2 = G M (2/r - 1/a) by the vis-viva equation, v perpendicular to r; astropy units
+    m, star, a, e, i = 3.0 * const.M_earth, 0.3 * const.M_sun, 0.05 * u.au, 0.2, 0.3
+    r = a * (1 - e)
+    v = np.sqrt(const.G * star * (2 / r - 1 / a))
+    circular = (m * np.sqrt(const.G * star * a)).to(u.kg * u.m**2 / u.s).value
+    expected = circular - (m * r * v).to(u.kg * u.m**2 / u.s).value * np.cos(i)
+    lam = amd.circular_angular_momentum(m.value, star.value, a.to(u.m).value)
+    assert lam == pytest.approx(circular, rel=1e-12)
+    assert amd.angular_momentum_deficit(lam, e, i) == pytest.approx(expected, rel=1e-12)
+
+
 def test_critical_eccentricity_is_the_root_of_the_collision_condition():
     # Laskar & Petit 2017 eq. 35; brentq as the independent root finder, over alpha and gamma of many decades
     rng = np.random.default_rng(2)
@@ -107,6 +120,11 @@ def test_close_pairs_take_the_overlap_value_and_wide_pairs_the_collision_value()
     # where the overlap formula, outside its domain, would be smaller (massive planets, alpha = 0.5)
     assert amd.critical_amd_overlap(0.5, 0.01, 0.01) < amd.critical_amd_collision(0.5, 0.01)
     assert amd.critical_amd(0.5, 0.01, 0.01) == amd.critical_amd_collision(0.5, 0.01)
+    # inside the 2:1 (alpha > 2^(-2/3) = 0.630 by Kepler's third law) the correction applies: two planets of
+    # epsilon = 0.01 at alpha = 0.7 lie inside the overlap zone of circular orbits (1 - alpha = 0.3 < 1.46 x
+    # 0.01^(2/7) = 0.39, Deck, Payne & Holman 2013), so no AMD is stable there
+    assert amd.critical_amd_collision(0.7, 1.0) > 0.01
+    assert amd.critical_amd(0.7, 1.0, 0.01) == 0.0
 
 
 # -- through derive() ------------------------------------------------------------------------------
@@ -143,6 +161,47 @@ def test_beta_is_the_system_amd_over_each_pairs_critical_amd(make_system):
     alpha = (a[:-1] / a[1:]).value
     critical = [brute_force_critical_amd(x, g) for x, g in zip(alpha, m[:-1] / m[1:])]
     assert derived.pairs["amd_beta"] == pytest.approx(total / (lam[1:] * np.array(critical)), rel=1e-8)
+
+
+def test_one_amd_unstable_pair_makes_the_system_amd_unstable(make_system):
+    # Laskar & Petit 2017: AMD-stable when every adjacent pair is. The eccentric outer planet's AMD is far below the
+    # wide pair's critical AMD but above the close pair's (their betas checked against scipy above)
+    planets = [dict(name=n, period=p, radius=1.5, mass=5.0, eccentricity=x)
+               for n, p, x in zip("bcd", (5.0, 6.0, 30.0), (0.0, 0.0, 0.08))]
+    derived = derive(make_system(planets))
+    close, wide = derived.pairs["amd_beta"]
+    assert close > 1.2 and wide < 0.05
+    assert not derived.system["amd_stable"]
+
+
+def test_circular_pair_inside_the_overlap_zone_has_no_stable_amd(make_system):
+    # a pair 1.05 apart in period around a 0.4 Msun star: epsilon = 10 Mearth / 0.4 Msun = 7.5e-5, inside the overlap
+    # zone of circular orbits ((a'/a - 1) = 0.033 < 1.46 epsilon^(2/7) = 0.097, Deck, Payne & Holman 2013), where
+    # the critical AMD is zero (Petit, Laskar & Boue 2017): not even the zero AMD of circular orbits is stable
+    planets = [dict(name=n, period=p, radius=1.5, mass=5.0) for n, p in zip("bc", (5.0, 5.25))]
+    derived = derive(make_system(planets, star=dict(name="s", mass=0.4, radius=0.4, teff=3500.0)))
+    assert derived.system["amd_kg_m2_s"] == 0.0 and derived.pairs["amd_critical"][0] == 0.0
+    assert derived.pairs["amd_beta"][0] == np.inf
+    assert not derived.system["amd_stable"]
+
+
+def test_amd_enough_to_bring_the_innermost_planet_to_the_star_is_not_stable(make_system):
+    # Laskar & Petit 2017: the innermost planet can reach the star (e = 1) once C >= Lambda_1. A light inner planet
+    # and a giant far out: the pair's beta stays far below 1 while the giant's small eccentricity already carries
+    # C = 2 Lambda_1 (or 0.5 Lambda_1); Lambda = m sqrt(G M* a) with astropy, a by Kepler's third law
+    masses, periods = (0.01, 300.0), (10.0, 300.0)
+    a = [(const.G * (const.M_sun + m * const.M_earth) * (p * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)
+         for m, p in zip(masses, periods)]
+    lam = [float(m * const.M_earth * np.sqrt(const.G * const.M_sun * x) / (u.kg * u.m**2 / u.s))
+           for m, x in zip(masses, a)]
+    for share, stable in ((2.0, False), (0.5, True)):
+        e = np.sqrt(1 - (1 - share * lam[0] / lam[1]) ** 2)     # Lambda' (1 - sqrt(1 - e^2)) = share x Lambda_1
+        planets = [dict(name="b", period=10.0, radius=0.3, mass=0.01),
+                   dict(name="c", period=300.0, radius=11.0, mass=300.0, eccentricity=float(e))]
+        derived = derive(make_system(planets))
+        assert derived.system["amd_kg_m2_s"] == pytest.approx(share * lam[0], rel=1e-6)
+        assert derived.pairs["amd_beta"][0] < 0.01
+        assert bool(derived.system["amd_stable"]) == stable, share
 
 
 def test_monte_carlo_gives_the_fraction_of_amd_stable_draws(make_system):

@@ -10,6 +10,8 @@ overlap zone's 1.46 epsilon^(2/7) in the period-ratio form of Kepler's law.
 
 from __future__ import annotations
 
+import astropy.constants as const
+import astropy.units as u
 import numpy as np
 import pytest
 from scipy.optimize import brentq
@@ -91,3 +93,43 @@ def test_eccentric_pair_gets_the_eccentric_warning_instead_of_the_circular_one(m
     # circular and tight: the circular-orbit warning as before
     tight = derive(planets(make_system, 1.02, mass=10.0))
     assert any("2 sqrt(3)" in w for w in tight.warnings) and not tight.pairs["hill_stable"][0]
+
+
+def period_for_spacing(spacing, m_in, m_out, period_in=10.0):
+    """Outer period [d] putting the outer planet at a_out = (1 + spacing) a_in around the Sun (Kepler's third law
+    with M* + m, astropy)."""
+    total = [const.M_sun + m * const.M_earth for m in (m_in, m_out)]
+    return float(period_in * (1 + spacing) ** 1.5 * np.sqrt(total[0] / total[1]))
+
+
+def test_derive_places_the_overlap_edge_with_the_pairs_summed_mass(make_system):
+    # epsilon = (m + m') / M* with unequal masses (1 and 8 Mearth around the Sun, astropy): the edge
+    # (a' - a) / a = 1.46 epsilon^(2/7) of Deck, Payne & Holman 2013, a part in 1000 either side
+    epsilon = float(9.0 * const.M_earth / const.M_sun)
+    edge = 1.46 * epsilon ** (2 / 7)
+    for factor, inside in ((0.999, True), (1.001, False)):
+        planets = [dict(name="b", period=10.0, radius=1.0, mass=1.0),
+                   dict(name="c", period=period_for_spacing(factor * edge, 1.0, 8.0), radius=2.0, mass=8.0)]
+        assert bool(derive(make_system(planets)).pairs["in_overlap_zone"][0]) == inside, factor
+
+
+def test_derive_follows_gladmans_criterion_for_unequal_masses_and_an_eccentric_orbit(make_system):
+    # Gladman 1993's criterion written out here (masses over the star's with astropy, a with M* + m), its boundary
+    # in period ratio found with brentq for an inner planet of 1 Mearth on e = 0.05 and an outer one of 10 Mearth
+    # on a circle; derive() must call the pair stable just outside and unstable just inside (a part in 1e5)
+    m_in, m_out, e_in = 1.0, 10.0, 0.05
+    mu_in, mu_out = (float(m * const.M_earth / const.M_sun) for m in (m_in, m_out))
+
+    def a(period, m):
+        return (const.G * (const.M_sun + m * const.M_earth) * (period * u.day) ** 2 / (4 * np.pi**2)) ** (1 / 3)
+
+    def margin(ratio):
+        total, delta = mu_in + mu_out, float(np.sqrt(a(10.0 * ratio, m_out) / a(10.0, m_in)))
+        left = total**-3 * (mu_in + mu_out / delta**2) * (mu_in * np.sqrt(1 - e_in**2) + mu_out * delta) ** 2
+        return left - 1 - 3 ** (4 / 3) * mu_in * mu_out / total ** (4 / 3)
+
+    boundary = brentq(margin, 1.001, 2.0, xtol=1e-14)
+    for factor, stable in ((1 - 1e-5, False), (1 + 1e-5, True)):
+        planets = [dict(name="b", period=10.0, radius=1.0, mass=m_in, eccentricity=e_in),
+                   dict(name="c", period=10.0 * boundary * factor, radius=2.0, mass=m_out)]
+        assert bool(derive(make_system(planets)).pairs["hill_stable"][0]) == stable, factor

@@ -16,6 +16,7 @@ import astropy.units as u
 import numpy as np
 import pytest
 from scipy.integrate import quad
+from scipy.special import factorial, hyp2f1, poch
 
 from orbitdeck.models import Uncertainty, derive, ttv
 
@@ -43,6 +44,15 @@ def test_laplace_coefficients_match_scipy_quadrature(alpha, j):
     b, db = ttv.laplace_coefficients(alpha, j)
     assert b == pytest.approx(laplace_by_quad(alpha, j), rel=1e-11, abs=1e-13)
     assert db == pytest.approx(laplace_derivative_by_quad(alpha, j), rel=1e-10, abs=1e-12)
+
+
+@pytest.mark.parametrize("alpha, j", [(0.3, 30), (0.6, 45), (0.8, 80)])
+def test_laplace_coefficients_of_high_index_match_the_hypergeometric_series(alpha, j):
+    # b_s^(j)(alpha) = 2 (s)_j / j! alpha^j 2F1(s, s + j; j + 1; alpha^2) (Murray & Dermott 1999, eq. 6.68, from
+    # memory), with scipy's hyp2f1: tiny coefficients that the quadrature must still get to its absolute accuracy
+    # (~1e-15, the rounding of a sum of terms of order one), which takes as many more nodes as j
+    expected = 2 * poch(0.5, j) / factorial(j) * alpha**j * hyp2f1(0.5, 0.5 + j, j + 1, alpha**2)
+    assert ttv.laplace_coefficients(alpha, j)[0] == pytest.approx(expected, rel=1e-9, abs=5e-15)
 
 
 @pytest.mark.parametrize("alpha", [0.4, 0.76, 0.9])
@@ -95,6 +105,23 @@ def test_coefficients_of_many_draws_equal_direct_quadrature():
     assert np.allclose(g, ttv.resonance_coefficient_g(alpha, j), rtol=1e-12, atol=0)
 
 
+def test_coefficients_of_widely_spread_draws_equal_direct_quadrature():
+    # draws spread over 0.6 < alpha < 0.9 are too far from a single interpolant's reach (its error would be
+    # ~3^-12 here) and are integrated one by one; a moderately spread pair beside them is interpolated: both
+    # against scipy quad on a sample of draws
+    rng = np.random.default_rng(8)
+    alpha = np.column_stack([rng.uniform(0.6, 0.9, 200), 0.82 * (1 + 1e-3 * rng.standard_normal(200))])
+    j = np.array([3, 4])
+    f, g = ttv.resonance_coefficients(alpha, j)
+    for draw in (0, 99, 199):
+        for column in range(2):
+            a, jj = alpha[draw, column], j[column]
+            expected_f = -jj * laplace_by_quad(a, jj) - a / 2 * laplace_derivative_by_quad(a, jj)
+            expected_g = (jj - 0.5) * laplace_by_quad(a, jj - 1) + a / 2 * laplace_derivative_by_quad(a, jj - 1)
+            assert f[draw, column] == pytest.approx(expected_f, rel=1e-11)
+            assert g[draw, column] == pytest.approx(expected_g, rel=1e-11)
+
+
 # -- the amplitudes of eqs. (8) and (9), worked out by hand ------------------------------------------
 
 def test_amplitudes_worked_by_hand():
@@ -127,7 +154,7 @@ def test_amplitudes_worked_by_hand():
 
 
 def test_signal_is_a_sinusoid_of_the_longitude_of_conjunctions():
-    # delta t = Re[V exp(i lambda^j)], lambda^j = j lambda' - (j - 1) lambda; its period is the super-period
+    # delta t = Im[V exp(i lambda^j)], lambda^j = j lambda' - (j - 1) lambda; its period is the super-period
     # 1 / |j/P' - (j-1)/P| (Lithwick et al. 2012, eq. 7)
     period, period_out, j = 10.0, 15.15, 3
     t = np.linspace(0.0, 3000.0, 4001)
@@ -135,9 +162,53 @@ def test_signal_is_a_sinusoid_of_the_longitude_of_conjunctions():
     signal = ttv.ttv_signal(2e-3 + 1e-3j, longitude)
     assert np.max(np.abs(signal)) == pytest.approx(abs(2e-3 + 1e-3j), rel=1e-4)
     super_period = 1 / abs(j / period_out - (j - 1) / period)
+    # Im[V exp(i lambda)]: at lambda = 0 the imaginary part of V, a quarter turn on its real part
+    assert ttv.ttv_signal(2e-3 + 1e-3j, 0.0) == pytest.approx(1e-3, rel=1e-12)
+    assert ttv.ttv_signal(2e-3 + 1e-3j, np.pi / 2) == pytest.approx(2e-3, rel=1e-12)
     later = ttv.ttv_signal(2e-3 + 1e-3j, ttv.longitude_of_conjunctions(t + super_period, period, period_out,
                                                                           0.0, 0.0, j))
     assert np.allclose(later, signal, atol=1e-12)
+
+
+def test_longitude_of_conjunctions_from_the_transit_times():
+    # lambda^j = j lambda' - (j - 1) lambda, each mean longitude 2 pi (t - T) / P from the line of sight, zero at the
+    # planet's transit time T (Lithwick et al. 2012, Sect. 2), worked by hand for j = 3, P = 10, P' = 15.15,
+    # T = 1, T' = 4: at t = T' lambda' = 0, lambda = 2 pi x 0.3, lambda^3 = -2 x 0.6 pi = -1.2 pi; at t = T
+    # lambda = 0, lambda' = 2 pi (1 - 4) / 15.15, lambda^3 = -18 pi / 15.15 = -3.7325853
+    args = (10.0, 15.15, 1.0, 4.0, 3)
+    assert ttv.longitude_of_conjunctions(4.0, *args) == pytest.approx(-1.2 * np.pi, rel=1e-12)
+    assert ttv.longitude_of_conjunctions(1.0, *args) == pytest.approx(-3.7325853, rel=1e-7)
+
+
+def test_signal_is_the_lateness_of_transits_worked_out_from_first_order_theory():
+    # derived here, independently of eqs. (8)-(9): with longitudes from the line of sight a transit happens at
+    # true longitude theta = 0, and theta = lambda + 2 e sin(lambda - varpi) to first order in e (the equation of
+    # the centre, Murray & Dermott 1999, eq. 2.88, from memory), so a transit comes (P / 2 pi)(2 Im z - dlambda)
+    # late, z = e exp(i varpi). The resonant term R = (G m'/a') Re[(f z* + g z'*) exp(i lambda^j)] of the
+    # disturbing function in Lagrange's equations (M&D ch. 6-7, from memory), dz/dt = (2 i / (n a^2)) dR/dz* and
+    # da/dt = (2 / (n a)) dR/dlambda with dn = -(3/2) n da / a, gives with w = dlambda^j/dt = j n' - (j - 1) n:
+    #   forced z = G m' f exp(i lambda^j) / (n a^2 a' w),  z' = G m g exp(i lambda^j) / (n' a'^3 w),
+    #   dlambda = 3 G m' (j - 1) Im[Z* exp(i lambda^j)] / (a^2 a' w^2),  dlambda' = -3 G m j Im[...] / (a'^3 w^2),
+    # Z = Z_free (constant parts of z go into the linear ephemeris). V and V' of eqs. (8)-(9) agree with these
+    # to order Delta (the paper takes alpha and the frequencies at the exact commensurability), so Delta = 1e-3
+    # here; an N-body run checks the same phase (tests/test_nbody_ttv.py).
+    j, period, delta, mu_in, mu_out, f, g = 3, 10.0, 1e-3, 2e-5, 1e-5, -2.025, 2.484
+    period_out = period * j / (j - 1) * (1 + delta)
+    n, n_out = 2 * np.pi / period, 2 * np.pi / period_out
+    a, a_out = n ** (-2 / 3), n_out ** (-2 / 3)          # G M* = 1
+    w = j * n_out - (j - 1) * n
+    longitude = np.linspace(-np.pi, np.pi, 13)
+    turn = np.exp(1j * longitude)
+    for z_free in (0.0, ttv.free_eccentricity(0.002, 40.0)):
+        forced, forced_out = mu_out * f / (n * a**2 * a_out * w), mu_in * g / (n_out * a_out**3 * w)
+        drift = 3 * mu_out * (j - 1) * np.imag(np.conj(z_free) * turn) / (a**2 * a_out * w**2)
+        drift_out = -3 * mu_in * j * np.imag(np.conj(z_free) * turn) / (a_out**3 * w**2)
+        late = period / (2 * np.pi) * (2 * np.imag(forced * turn) - drift)
+        late_out = period_out / (2 * np.pi) * (2 * np.imag(forced_out * turn) - drift_out)
+        v = ttv.ttv_amplitude_inner(period, mu_out, j, delta, f, z_free)
+        v_out = ttv.ttv_amplitude_outer(period_out, mu_in, j, delta, g, z_free)
+        np.testing.assert_allclose(ttv.ttv_signal(v, longitude), late, rtol=0, atol=3e-3 * abs(v))
+        np.testing.assert_allclose(ttv.ttv_signal(v_out, longitude), late_out, rtol=0, atol=3e-3 * abs(v_out))
 
 
 # -- through derive() ------------------------------------------------------------------------------
@@ -183,6 +254,7 @@ def test_amplitudes_scale_with_the_perturbers_mass(make_system):
 
 @pytest.mark.parametrize("period_out, why", [(20.0 * 1.12, "2:1 with |Delta| = 0.12, beyond 0.1"),
                                              (25.0, "nearest rung 5:2, third order"),
+                                             (10.0 * 5 / 3 * 1.01, "nearest rung 5:3, second order"),
                                              (15.0 * 1.00001, "|Delta| = 1e-5, inside the resonance width")])
 def test_no_amplitude_outside_the_formulas_range(make_system, period_out, why):
     doc = derive(pair_system(make_system, period_out=period_out), samples=50, seed=1).to_dict()

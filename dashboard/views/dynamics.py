@@ -4,7 +4,7 @@ Three HoloViews figures rendered with Bokeh, rebuilt when the derived state
 changes (only while the tab is shown in a served page):
 
 * the TTV curves of the chosen pair's two planets over two super-periods
-  (Lithwick, Xie & Wu 2012), delta t = Re[V exp(i lambda^j)], the band
+  (Lithwick, Xie & Wu 2012), delta t = Im[V exp(i lambda^j)], the band
   spanning the 16th-84th percentile amplitudes of the Monte Carlo draws;
 * beta = C / C_c of every pair against 1 (Laskar & Petit 2017 with the
   resonance-overlap correction of Petit, Laskar & Boue 2017);
