@@ -20,7 +20,7 @@ import param
 from . import palette
 from .common import (View, as_floats, batched, escape, interval, interval_caption, note, section, select_on_tap,
                      set_section, span_texts, while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, drawn, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -126,7 +126,7 @@ BAR_STYLES = Styles(
         "HLine.SkiesMoon": dict(color="#555555", line_dash="dashed", line_width=1.2),
     },
     matplotlib={
-        "Bars.SkiesBars": dict(color=hv.dim("colour"), edgecolor="#333333"),
+        "Bars.SkiesBars": dict(edgecolor="#333333", hooks=[bar_colours("colour")]),
         "ErrorBars.SkiesBarRange": dict(color=palette.INK, linewidth=1.2),
         "HLine.SkiesMoon": dict(color="#555555", linestyle="--", linewidth=1.0),
     })
