@@ -108,7 +108,7 @@ SHORELINE_STYLES = Styles(
                 "Scatter.BulkShoreSelected": dict(facecolors="none", edgecolors=palette.HIGHLIGHT_COLOUR,
                                                   s=SELECTED_AREA, linewidth=2)})
 HEAT_STYLES = Styles(
-    frame={"bokeh": dict(**_HEAT_AXES, **_LIVE), "matplotlib": dict(**_HEAT_AXES, **_STATIC)},
+    frame={"bokeh": dict(**_HEAT_AXES, **_LIVE), "matplotlib": dict(_STATIC, **_HEAT_AXES, aspect=2.4)},
     bokeh={"Bars.BulkHeat": dict(color=hv.dim("colour"), line_color=hv.dim("outline"), line_width=2,
                                  tools=["hover", "tap"], framewise=True, **_SELECTABLE),
            "HLine.BulkEarthHeat": dict(color=palette.ACCENT, line_dash="dashed", line_width=2),

@@ -135,15 +135,20 @@ def bar_colours(face: str, edge: str | None = None, width: str | None = None):
 
 
 def plain_log_ticks(plot, element):
-    """A matplotlib hook: tick labels of logarithmic axes written as plain numbers (0.5, 2, 100), major and
-    minor alike, instead of powers of ten."""
+    """A matplotlib hook: the tick labels of the plot's logarithmic axes as plain numbers (see
+    :func:`plain_log_axes`)."""
+    plain_log_axes(plot.handles["axis"])
+
+
+def plain_log_axes(axes) -> None:
+    """Write the tick labels of the logarithmic axes of matplotlib ``axes`` as plain numbers (0.5, 2, 100,
+    1e-05), major and minor alike, instead of powers of ten (which matplotlib writes as formulas)."""
     from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
     def plain(value, _position):
         return f"{value:g}"
 
-    axis = plot.handles["axis"]
-    for which in (axis.xaxis, axis.yaxis):
+    for which in (axes.xaxis, axes.yaxis):
         if which.get_scale() != "log":
             continue
         low, high = sorted(which.get_view_interval())
@@ -192,12 +197,12 @@ class Styles:
         return made
 
     def overlay_options(self, backend: str) -> dict:
-        """The frame options that ``backend`` reads from an overlay itself rather than from its elements
-        (the legend's place, for one): a figure's overlay is given them."""
+        """The frame options of ``backend`` that an overlay takes, for the overlay of a figure: matplotlib reads
+        some of them (the legend's place) from the overlay only, and an overlay holding overlays (an
+        ``NdOverlay`` of curves) takes none from its elements."""
         load_backend(backend)
         overlay = hv.Store.registry[backend][hv.Overlay]
-        propagated = set(getattr(overlay, "_propagate_options", ()))
-        return {k: v for k, v in self._frame.get(backend, {}).items() if k in overlay.param and k not in propagated}
+        return {k: v for k, v in self._frame.get(backend, {}).items() if k in overlay.param}
 
     def register(self, backend: str) -> None:
         """Make these options ``backend``'s defaults for the elements of their groups (once per process)."""
