@@ -122,6 +122,8 @@ class TransitPlannerView(param.Parameterized):
 
     title = "Transit planner"
     tab = title
+    #: the settings that shape the figure, carried over to a copy of the session (figures.session_copy)
+    figure_parameters = ("start_text", "span", "site_choice", "latitude", "longitude", "elevation", "min_altitude")
 
     start_text = param.String(default="", doc="Start of the range: BJD_TDB or an ISO date (UTC)")
     span = param.Selector(default="30 days", objects=list(SPANS), doc="Length of the range")
