@@ -32,9 +32,13 @@ def figures_app(source, system, samples: int, seed: int, when: float | None):
 
     from .app import OrbitDeckApp
 
-    app = OrbitDeckApp(system, source=source)
-    if samples:
-        app.derived = derive(system, samples=samples, seed=seed)
+    low, high = OrbitDeckApp.param.samples.bounds
+    if low <= samples <= high:   # derived once, with the draws, as the page does with its switch on
+        app = OrbitDeckApp(system, source=source, uncertainty=True, samples=samples, seed=seed)
+    else:
+        app = OrbitDeckApp(system, source=source)
+        if samples:   # fewer draws than the page offers
+            app.derived = derive(system, samples=samples, seed=seed)
     if when is not None:
         app.time = float(when)
     return app
