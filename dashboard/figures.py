@@ -183,6 +183,7 @@ def render_figure(plot, fmt: str, title: str = "", caption: str = "", width_px: 
         figure = drawn.state
         for axes in figure.axes:
             plain_log_axes(axes)
+            _texts_inside(axes)
         aspect = getattr(drawn, "aspect", None)
         if isinstance(aspect, (int, float)) and "axis" in drawn.handles:
             # the plot's width over height as asked: HoloViews sets it as a data aspect, which comes out wrong
@@ -200,6 +201,20 @@ def render_figure(plot, fmt: str, title: str = "", caption: str = "", width_px: 
         figure.savefig(out, format=fmt, dpi=dpi, bbox_inches=box, facecolor="white",
                        metadata=_metadata(fmt, title, caption))
     return out.getvalue()
+
+
+def _texts_inside(axes) -> None:
+    """Cut the labels of ``axes`` at its frame, as the page does, and leave out those placed far beyond it
+    (a rung of the period ladder millions of axis spans away): they would take room in the figure, and
+    matplotlib's font rasteriser refuses positions that far out."""
+    frame = axes.get_window_extent()
+    low_x, high_x = frame.x0 - frame.width, frame.x1 + frame.width
+    low_y, high_y = frame.y0 - frame.height, frame.y1 + frame.height
+    for text in axes.texts:
+        text.set_clip_on(True)
+        x, y = text.get_transform().transform(text.get_position())
+        if not (low_x <= x <= high_x and low_y <= y <= high_y):
+            text.set_visible(False)
 
 
 def captions_text(files: list[FigureFile], provenance: dict, system_name: str, notes: list[str]) -> str:
