@@ -125,7 +125,7 @@ def figures_of(app, backend: str = _BACKEND) -> tuple[list[Figure], list[str]]:
     and the titles of the views without static figures (skipped, not built)."""
     from .app import VIEW_CLASSES
 
-    figures, skipped, taken = [], [], set()
+    figures, skipped = [], []
     for view_class in VIEW_CLASSES:
         if not has_figures(view_class):
             skipped.append(view_class.title)
@@ -135,10 +135,8 @@ def figures_of(app, backend: str = _BACKEND) -> tuple[list[Figure], list[str]]:
             title = plot_title(plot, backend)
             view_part = slug(view_class.title) or "view"
             title_part = slug(title[len(view_class.title):] if title.startswith(view_class.title) else title)
+            # the place in the page first: names are unique, and sort as the page shows them
             stem = f"{len(figures) + 1:02d}_{view_part}" + (f"_{title_part}" if title_part else "")
-            while stem in taken:
-                stem += "-more"
-            taken.add(stem)
             figures.append(Figure(view_class.title, title, stem, plot))
     return figures, skipped
 
