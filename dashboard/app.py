@@ -86,15 +86,18 @@ class OrbitDeckApp(param.Parameterized):
         "from its derivation, without transit times (orbits, no positions)"))
     read_only = param.Boolean(default=False, doc="True while this session follows a presenter (no edits)")
 
-    def __init__(self, system: System, source: SystemSource | None = None, **params):
+    def __init__(self, system: System, source: SystemSource | None = None, colours: ColourBook | None = None,
+                 **params):
         cls = type(self)
         draws = params.get("samples", cls.param.samples.default) if params.get("uncertainty") else 0
         derived, elements = _derive(system, draws, params.get("seed", cls.param.seed.default))
         names = derived.planet_names
         params.setdefault("selected", names[0] if names else None)
         params["selected_pair"] = pair_or_none(params.get("selected_pair"), derived)
-        #: each planet's colour for the session, by first appearance (see palette.ColourBook)
-        self.colours = ColourBook(names)
+        #: each planet's colour for the session, by first appearance (see palette.ColourBook); ``colours``
+        #: carries another session's book on (static figures of that session's state)
+        self.colours = colours if colours is not None else ColourBook()
+        self.colours.note(names)
         super().__init__(system=system, derived=derived, elements=elements, time=system.epoch, **params)
         self._installing = False   # True while a state is shown as given (no derivation of its own)
         self._set_source(source)

@@ -284,8 +284,15 @@ def _register_evolve(commands):
     register(commands)
 
 
+def _register_figures(commands):
+    from orbitdeck.dashboard.cli_figures import register
+
+    register(commands)
+
+
 #: functions that add further subcommands (kept in their own modules so heavy imports stay lazy)
-_EXTRA_COMMANDS: list = [_register_sky, _register_transits, _register_serve, _register_snapshot, _register_evolve]
+_EXTRA_COMMANDS: list = [_register_sky, _register_transits, _register_serve, _register_snapshot, _register_evolve,
+                         _register_figures]
 
 
 def main(argv=None) -> int:

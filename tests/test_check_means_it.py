@@ -4,8 +4,8 @@ internal error.
 Files are drawn with every field at or near the ends of its range, beyond
 them, at the extremes of double precision, or anywhere between; whatever
 ``check`` calls ok must then go through ``table`` (nominal and sampled,
-text and JSON), ``positions``, ``sky`` (with close approaches) and
-``snapshot``, each ending with status 0 and whole output. The commands run in
+text and JSON), ``positions``, ``sky`` (with close approaches),
+``snapshot`` and ``figures``, each ending with status 0 and whole output. The commands run in
 this process (``orbitdeck.dashboard.cli.main``) to keep the examples cheap.
 """
 
@@ -136,7 +136,8 @@ def test_what_check_accepts_every_command_runs(tmp_path_factory, doc):
                       else p["period"]["value"])[0]["name"]
     commands = [("table", "--samples", "0"), ("table", "--samples", "64", "--json"), ("positions",),
                 ("positions", "--json"), ("sky", "--observer", observer, "--events", "2"),
-                ("sky", "--observer", observer, "--json"), ("snapshot", "-o", folder / "page.html")]
+                ("sky", "--observer", observer, "--json"), ("snapshot", "-o", folder / "page.html"),
+                ("figures", "-o", folder / "figures", "--samples", "0")]
     for command in commands:
         name, *options = command
         code, out, err = run(name, path, *options)
@@ -144,3 +145,4 @@ def test_what_check_accepts_every_command_runs(tmp_path_factory, doc):
         if "--json" in options:
             strict_json(out)
     assert (folder / "page.html").stat().st_size > 0
+    assert len(list((folder / "figures").glob("*.png"))) >= 8

@@ -24,7 +24,7 @@ def app():
 
 
 @pytest.mark.parametrize("title", ["Layout", "Neighbour skies", "Period ladder", "Flux & temperature",
-                                   "Observability"])
+                                   "Observability", "Bulk & atmosphere", "Transit planner"])
 def test_each_view_saves_through_matplotlib(app, title, tmp_path):
     figure = app.views[title].figure("matplotlib")
     path = tmp_path / "figure.png"
@@ -46,3 +46,21 @@ def test_figures_hold_the_live_layers_data(app):
     np.testing.assert_allclose(moved.dimension_values("S"), app.derived.planets["insolation_earth"])
     layout = app.views["Layout"].figure()
     assert {el.group for el in layout} >= {"LayoutOrbit", "LayoutPlanet", "LayoutStar", "LayoutHZ"}
+
+
+def test_bulk_and_transit_figures_are_the_live_elements(app):
+    bulk = app.views["Bulk & atmosphere"]
+    mass_radius, shoreline, heat = bulk.figure("matplotlib")
+    points = next(el for el in mass_radius if el.group == "BulkMassRadius")
+    np.testing.assert_array_equal(points.dimension_values("mass"), bulk._mass_radius_points().dimension_values("mass"))
+    np.testing.assert_allclose(next(el for el in heat if el.group == "BulkHeat").dimension_values("flux"),
+                               bulk._heat_bars().dimension_values("flux"))
+    assert {el.group for el in shoreline} >= {"BulkShoreline", "BulkShorePlanet"}
+    planner = app.views["Transit planner"]
+    live, static = planner.timeline(), planner.figure("matplotlib")
+    assert [el.group for el in live] == [el.group for el in static]
+    ticks = next(el for el in static if el.group == "TransitTick")
+    # the same transits: calendar dates live, matplotlib's day numbers (days since 1970) in the figure
+    days = (next(el for el in live if el.group == "TransitTick").dimension_values("mid").astype("datetime64[ms]")
+            .astype("int64") / 86_400_000.0)
+    np.testing.assert_allclose(ticks.dimension_values("mid"), days, rtol=0, atol=1e-6)

@@ -1,6 +1,8 @@
 """Bulk & atmosphere: what the planets may be made of, whether they keep air, and whether it can be seen.
 
-Four panels, HoloViews elements drawn with the Bokeh backend:
+Four panels; the three plots are HoloViews elements whose looks are kept per
+backend (:class:`~.plotting.Styles`), so the same elements render live through
+Bokeh and as static figures through matplotlib (:meth:`BulkView.figure`):
 
 * mass against radius, with the composition curves of Zeng, Sasselov &
   Jacobsen 2016 and the Solar System planets; estimated masses (Chen &
@@ -31,7 +33,7 @@ from orbitdeck.models import atmospheres, interiors, solar_system, tides
 from orbitdeck.models.constants import R_EARTH, R_SUN
 
 from . import palette
-from .plotting import load_backend
+from .plotting import Styles, bar_colours, load_backend, plain_log_ticks
 
 #: mean molecular weights of the spectroscopy table [u]: H2/He (solar), water, N2, CO2
 MOLECULAR_WEIGHTS = (2.3, 18.0, 28.0, 44.0)
@@ -41,6 +43,80 @@ SIGNIFICANCE = 3.0
 CURVE_COLOURS = ("#3d3d3d", "#8c6d46", "#b89f7a", "#5f8fb0", "#9cc3de")
 REFERENCE_COLOUR = "#7a7a7a"
 PLOT_HEIGHT = 380
+#: the shoreline's own colour (not one of the planet colours)
+SHORELINE_COLOUR = "#2f6f9f"
+#: marker sizes: Bokeh's are diameters in screen pixels, matplotlib's areas in points squared
+PLANET_SIZE, SELECTED_SIZE, REFERENCE_SIZE = 12, 20, 8
+PLANET_AREA, SELECTED_AREA, REFERENCE_AREA = 110, 330, 40
+MASS_RADIUS_TITLE = "Mass and radius, with composition curves (Zeng et al. 2016)"
+SHORELINE_TITLE = "Cosmic shoreline (Zahnle & Catling 2017)"
+HEAT_TITLE = (f"Tidal heat flux for the stated Q' (dashed: Earth {tides.EARTH_HEAT_FLUX} W/m\u00b2, "
+              f"Io {tides.IO_HEAT_FLUX} W/m\u00b2)")
+_MASS_RADIUS_AXES = dict(logx=True, logy=True, xlabel="mass [M\u2295]", ylabel="radius [R\u2295]",
+                         title=MASS_RADIUS_TITLE)
+_SHORELINE_AXES = dict(logx=True, logy=True, xlabel="escape speed [km/s]", ylabel="insolation [S\u2295]",
+                       title=SHORELINE_TITLE)
+_HEAT_AXES = dict(logy=True, xlabel="planet", ylabel="heat flux [W/m\u00b2]", title=HEAT_TITLE)
+_LIVE = dict(height=PLOT_HEIGHT, responsive=True)
+#: the static figures (rendered at slide resolution); logarithmic axes labelled with plain numbers
+_STATIC = dict(fig_size=190, aspect=1.6, hooks=[plain_log_ticks])
+_SELECTABLE = dict(nonselection_alpha=1.0, selection_alpha=1.0)
+
+# The looks of the three plots per backend, registered once per process as the defaults of their groups.
+MASS_RADIUS_STYLES = Styles(
+    frame={"bokeh": dict(**_MASS_RADIUS_AXES, **_LIVE, legend_position="right"),
+           "matplotlib": dict(**_MASS_RADIUS_AXES, **_STATIC, legend_position="right")},
+    bokeh={**{f"Curve.BulkComposition{i}": dict(color=c, line_width=2) for i, c in enumerate(CURVE_COLOURS)},
+           "Scatter.BulkReference": dict(color=REFERENCE_COLOUR, marker="square", size=REFERENCE_SIZE,
+                                         tools=["hover"]),
+           "Labels.BulkReferenceName": dict(text_font_size="9pt", text_color=REFERENCE_COLOUR, yoffset=0.04,
+                                            text_align="left"),
+           "ErrorBars.BulkMassRadiusRange": dict(color=palette.MUTED_INK, line_width=1),
+           "Scatter.BulkMassRadius": dict(color="colour", fill_color="fill", line_color="colour", size=PLANET_SIZE,
+                                          line_width=2, tools=["hover", "tap"], **_SELECTABLE),
+           "Scatter.BulkMassRadiusSelected": dict(color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR,
+                                                  size=SELECTED_SIZE, line_width=2, tools=["hover"])},
+    matplotlib={**{f"Curve.BulkComposition{i}": dict(color=c, linewidth=2) for i, c in enumerate(CURVE_COLOURS)},
+                "Scatter.BulkReference": dict(color=REFERENCE_COLOUR, marker="s", s=REFERENCE_AREA),
+                "Labels.BulkReferenceName": dict(size=8, color=REFERENCE_COLOUR, horizontalalignment="left",
+                                                 verticalalignment="bottom"),
+                "ErrorBars.BulkMassRadiusRange": dict(color=palette.MUTED_INK, linewidth=1, capsize=0),
+                "Scatter.BulkMassRadius": dict(facecolors=hv.dim("fill"), edgecolors=hv.dim("colour"),
+                                               s=PLANET_AREA, linewidth=2),
+                "Scatter.BulkMassRadiusSelected": dict(facecolors="none", edgecolors=palette.HIGHLIGHT_COLOUR,
+                                                       s=SELECTED_AREA, linewidth=2)})
+SHORELINE_STYLES = Styles(
+    frame={"bokeh": dict(**_SHORELINE_AXES, **_LIVE, legend_position="top_left"),
+           "matplotlib": dict(**_SHORELINE_AXES, **_STATIC, legend_position="right")},
+    bokeh={"Curve.BulkShoreline": dict(color=SHORELINE_COLOUR, line_width=2),
+           "Scatter.BulkShoreAtmosphere": dict(color=REFERENCE_COLOUR, marker="square", size=REFERENCE_SIZE,
+                                               tools=["hover"]),
+           "Scatter.BulkShoreAirless": dict(color="white", line_color=REFERENCE_COLOUR, marker="square",
+                                            size=REFERENCE_SIZE, line_width=2, tools=["hover"]),
+           "Labels.BulkShoreName": dict(text_font_size="8pt", text_color=REFERENCE_COLOUR, xoffset=0.0,
+                                        yoffset=0.0, text_align="left"),
+           "Scatter.BulkShorePlanet": dict(color="colour", size=PLANET_SIZE, tools=["hover", "tap"], **_SELECTABLE),
+           "Scatter.BulkShoreSelected": dict(color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR,
+                                             size=SELECTED_SIZE, line_width=2)},
+    matplotlib={"Curve.BulkShoreline": dict(color=SHORELINE_COLOUR, linewidth=2),
+                "Scatter.BulkShoreAtmosphere": dict(color=REFERENCE_COLOUR, marker="s", s=REFERENCE_AREA),
+                "Scatter.BulkShoreAirless": dict(facecolors="white", edgecolors=REFERENCE_COLOUR, marker="s",
+                                                 s=REFERENCE_AREA, linewidth=1.5),
+                "Labels.BulkShoreName": dict(size=7, color=REFERENCE_COLOUR, horizontalalignment="left",
+                                             verticalalignment="bottom"),
+                "Scatter.BulkShorePlanet": dict(color=hv.dim("colour"), s=PLANET_AREA),
+                "Scatter.BulkShoreSelected": dict(facecolors="none", edgecolors=palette.HIGHLIGHT_COLOUR,
+                                                  s=SELECTED_AREA, linewidth=2)})
+HEAT_STYLES = Styles(
+    frame={"bokeh": dict(**_HEAT_AXES, **_LIVE), "matplotlib": dict(_STATIC, **_HEAT_AXES, aspect=2.4)},
+    bokeh={"Bars.BulkHeat": dict(color=hv.dim("colour"), line_color=hv.dim("outline"), line_width=2,
+                                 tools=["hover", "tap"], framewise=True, **_SELECTABLE),
+           "HLine.BulkEarthHeat": dict(color=palette.ACCENT, line_dash="dashed", line_width=2),
+           "HLine.BulkIoHeat": dict(color=palette.STAR_COLOUR, line_dash="dashed", line_width=2)},
+    matplotlib={"Bars.BulkHeat": dict(hooks=[bar_colours("colour", "outline")]),
+                "HLine.BulkEarthHeat": dict(color=palette.ACCENT, linestyle="--", linewidth=2),
+                "HLine.BulkIoHeat": dict(color=palette.STAR_COLOUR, linestyle="--", linewidth=2)})
+STYLES = {"mass_radius": MASS_RADIUS_STYLES, "shoreline": SHORELINE_STYLES, "heat": HEAT_STYLES}
 
 
 def _floats(values) -> np.ndarray:
@@ -70,29 +146,17 @@ class BulkView(param.Parameterized):
     def __init__(self, app, **params):
         super().__init__(**params)
         load_backend("bokeh")   # HoloViews' Bokeh options, without changing the current backend
+        for styles in STYLES.values():
+            styles.register("bokeh")
         self.app = app
         self.taps = {}
-        mass_radius = (self._composition_curves() * self._reference_planets()
-                       * hv.DynamicMap(self._mass_radius_errors) * self._tappable(self._mass_radius_points, "mr")
-                       * hv.DynamicMap(self._mass_radius_selected))
-        shoreline = (self._shoreline_line() * self._shoreline_references()
-                     * self._tappable(self._shoreline_points, "shore") * hv.DynamicMap(self._shoreline_selected))
-        heat = (self._tappable(self._heat_bars, "heat") * hv.HLine(tides.EARTH_HEAT_FLUX).opts(
-                    color=palette.ACCENT, line_dash="dashed", line_width=2)
-                * hv.HLine(tides.IO_HEAT_FLUX).opts(color=palette.STAR_COLOUR, line_dash="dashed", line_width=2))
         self.plots = {
-            "mass_radius": mass_radius.opts(
-                title="Mass and radius, with composition curves (Zeng et al. 2016)", logx=True, logy=True,
-                xlabel="mass [M\u2295]", ylabel="radius [R\u2295]", height=PLOT_HEIGHT, responsive=True,
-                legend_position="right"),
-            "shoreline": shoreline.opts(
-                title="Cosmic shoreline (Zahnle & Catling 2017)", logx=True, logy=True,
-                xlabel="escape speed [km/s]", ylabel="insolation [S\u2295]", height=PLOT_HEIGHT, responsive=True,
-                legend_position="top_left"),
-            "heat": heat.opts(
-                title=f"Tidal heat flux for the stated Q' (dashed: Earth {tides.EARTH_HEAT_FLUX} W/m\u00b2, "
-                      f"Io {tides.IO_HEAT_FLUX} W/m\u00b2)",
-                logy=True, xlabel="planet", ylabel="heat flux [W/m\u00b2]", height=PLOT_HEIGHT, responsive=True),
+            "mass_radius": (self._composition_curves() * self._reference_planets()
+                            * hv.DynamicMap(self._mass_radius_errors) * self._tappable(self._mass_radius_points, "mr")
+                            * hv.DynamicMap(self._mass_radius_selected)),
+            "shoreline": (self._shoreline_line() * self._shoreline_references()
+                          * self._tappable(self._shoreline_points, "shore") * hv.DynamicMap(self._shoreline_selected)),
+            "heat": self._tappable(self._heat_bars, "heat") * self._heat_references(),
         }
         self.panes = {name: pn.pane.HoloViews(plot, backend="bokeh", sizing_mode="stretch_width")
                       for name, plot in self.plots.items()}
@@ -153,18 +217,17 @@ class BulkView(param.Parameterized):
 
     # -- mass and radius ---------------------------------------------------------------------
     def _composition_curves(self):
-        curves = [hv.Curve((mass, radius), "mass", "radius", label=label).opts(color=colour, line_width=2)
-                  for (label, (mass, radius)), colour in zip(interiors.composition_curves().items(), CURVE_COLOURS)]
+        curves = [hv.Curve((mass, radius), "mass", "radius", group=f"BulkComposition{i}", label=label)
+                  for i, (label, (mass, radius)) in enumerate(interiors.composition_curves().items())]
         return hv.Overlay(curves)
 
     def _reference_planets(self):
         ref = solar_system.reference_points(planets_only=True)
         keep = [i for i, m in enumerate(ref["mass_mearth"]) if m < 40.0]   # the giants lie off the diagram
         frame = pd.DataFrame({k: [ref[k][i] for i in keep] for k in ("name", "mass_mearth", "radius_rearth")})
-        points = hv.Scatter(frame, "mass_mearth", ["radius_rearth", "name"], label="Solar System").opts(
-            color=REFERENCE_COLOUR, marker="square", size=8, tools=["hover"])
-        labels = hv.Labels(frame, ["mass_mearth", "radius_rearth"], "name").opts(
-            text_font_size="9pt", text_color=REFERENCE_COLOUR, yoffset=0.04, text_align="left")
+        points = hv.Scatter(frame, "mass_mearth", ["radius_rearth", "name"], group="BulkReference",
+                            label="Solar System")
+        labels = hv.Labels(frame, ["mass_mearth", "radius_rearth"], "name", group="BulkReferenceName")
         return points * labels
 
     def _mass_radius_frame(self) -> pd.DataFrame:
@@ -176,9 +239,7 @@ class BulkView(param.Parameterized):
     @param.depends("revision")
     def _mass_radius_points(self):
         return hv.Scatter(self._mass_radius_frame(), "mass", ["radius", "name", "mass_kind", "colour", "fill"],
-                          label="planets (hollow: estimated mass)").opts(
-            color="colour", fill_color="fill", line_color="colour", size=12, line_width=2, tools=["hover", "tap"],
-            nonselection_alpha=1.0, selection_alpha=1.0)
+                          group="BulkMassRadius", label="planets (hollow: estimated mass)")
 
     @param.depends("revision")
     def _mass_radius_errors(self):
@@ -186,36 +247,32 @@ class BulkView(param.Parameterized):
         mass, radius = p["mass_mearth"], p["radius_rearth"]
         m_low, m_high = _bounds(d, "mass_mearth", mass)
         r_low, r_high = _bounds(d, "radius_rearth", radius)
-        vertical = hv.ErrorBars((mass, radius, r_low, r_high), "mass", ["radius", "r_low", "r_high"])
+        vertical = hv.ErrorBars((mass, radius, r_low, r_high), "mass", ["radius", "r_low", "r_high"],
+                                group="BulkMassRadiusRange")
         horizontal = hv.ErrorBars((mass, radius, m_low, m_high), "mass", ["radius", "m_low", "m_high"],
-                                  horizontal=True)
-        style = dict(color=palette.MUTED_INK, line_width=1)
-        return vertical.opts(**style) * horizontal.opts(**style)
+                                  horizontal=True, group="BulkMassRadiusRange")
+        return vertical * horizontal
 
     @param.depends("revision", "selected")
     def _mass_radius_selected(self):
         frame = self._mass_radius_frame().rename(columns={"name": "highlighted_name"})
         chosen = frame[frame["highlighted_name"] == self.selected]
-        return hv.Scatter(chosen, "mass", ["radius", "highlighted_name"]).opts(
-            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2, tools=["hover"])
+        return hv.Scatter(chosen, "mass", ["radius", "highlighted_name"], group="BulkMassRadiusSelected")
 
     # -- cosmic shoreline --------------------------------------------------------------------
     def _shoreline_line(self):
         speed = np.geomspace(0.5, 80.0, 50)
         return hv.Curve((speed, atmospheres.shoreline_insolation(speed)), "escape speed", "insolation",
-                        label="shoreline I \u221d v\u2074 (through Mars)").opts(color="#2f6f9f", line_width=2)
+                        group="BulkShoreline", label="shoreline I \u221d v\u2074 (through Mars)")
 
     def _shoreline_references(self):
         ref = pd.DataFrame(solar_system.reference_points())
         ref["atmosphere"] = np.where(ref["has_atmosphere"], "yes", "no")
         kept = hv.Scatter(ref[ref["has_atmosphere"]], "escape_speed_kms", ["insolation_earth", "name", "atmosphere"],
-                          label="Solar System, with atmosphere").opts(
-            color=REFERENCE_COLOUR, marker="square", size=8, tools=["hover"])
+                          group="BulkShoreAtmosphere", label="Solar System, with atmosphere")
         bare = hv.Scatter(ref[~ref["has_atmosphere"]], "escape_speed_kms", ["insolation_earth", "name", "atmosphere"],
-                          label="Solar System, airless").opts(
-            color="white", line_color=REFERENCE_COLOUR, marker="square", size=8, line_width=2, tools=["hover"])
-        labels = hv.Labels(ref, ["escape_speed_kms", "insolation_earth"], "name").opts(
-            text_font_size="8pt", text_color=REFERENCE_COLOUR, xoffset=0.0, yoffset=0.0, text_align="left")
+                          group="BulkShoreAirless", label="Solar System, airless")
+        labels = hv.Labels(ref, ["escape_speed_kms", "insolation_earth"], "name", group="BulkShoreName")
         return kept * bare * labels
 
     def _shoreline_frame(self) -> pd.DataFrame:
@@ -225,14 +282,14 @@ class BulkView(param.Parameterized):
 
     @param.depends("revision")
     def _shoreline_points(self):
-        return hv.Scatter(self._shoreline_frame(), "speed", ["insolation", "name", "colour"], label="planets").opts(
-            color="colour", size=12, tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0)
+        return hv.Scatter(self._shoreline_frame(), "speed", ["insolation", "name", "colour"], group="BulkShorePlanet",
+                          label="planets")
 
     @param.depends("revision", "selected")
     def _shoreline_selected(self):
         frame = self._shoreline_frame()
-        return hv.Scatter(frame[frame["name"] == self.selected], "speed", ["insolation", "name"]).opts(
-            color=None, fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, size=20, line_width=2)
+        return hv.Scatter(frame[frame["name"] == self.selected], "speed", ["insolation", "name"],
+                          group="BulkShoreSelected")
 
     # -- tidal heating -----------------------------------------------------------------------
     @param.depends("revision", "selected")
@@ -240,14 +297,17 @@ class BulkView(param.Parameterized):
         p = self._planets()
         flux = p["tidal_heat_flux_w_m2"]
         shown = np.where(flux > 0.0, flux, np.nan)   # a circular orbit has no tidal heating: no bar on a log axis
-        frame = pd.DataFrame({"planet": p["name"], "flux": shown})
-        colours = dict(zip(p["name"], p["colour"]))
-        outline = {name: palette.HIGHLIGHT_COLOUR if name == self.selected else colours[name] for name in p["name"]}
+        outline = [palette.HIGHLIGHT_COLOUR if name == self.selected else colour
+                   for name, colour in zip(p["name"], p["colour"])]
+        frame = pd.DataFrame({"planet": p["name"], "flux": shown, "colour": p["colour"], "outline": outline})
         known = [f for f in shown if np.isfinite(f)] + [tides.EARTH_HEAT_FLUX, tides.IO_HEAT_FLUX]
-        return hv.Bars(frame, "planet", "flux").opts(
-            color=hv.dim("planet").categorize(colours), line_color=hv.dim("planet").categorize(outline),
-            line_width=2, tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
-            ylim=(min(known) / 10.0, max(known) * 10.0), framewise=True)
+        flux_dim = hv.Dimension("flux", range=(min(known) / 10.0, max(known) * 10.0))
+        return hv.Bars(frame, "planet", [flux_dim, "colour", "outline"], group="BulkHeat")
+
+    def _heat_references(self):
+        """Earth's and Io's mean heat flow, dashed."""
+        return (hv.HLine(tides.EARTH_HEAT_FLUX, group="BulkEarthHeat")
+                * hv.HLine(tides.IO_HEAT_FLUX, group="BulkIoHeat"))
 
     # -- spectroscopy table ------------------------------------------------------------------
     def spectroscopy_frame(self) -> pd.DataFrame:
@@ -316,6 +376,23 @@ class BulkView(param.Parameterized):
                          "&amp; Kipping 2017, with the relation's scatter in the ranges): so is everything drawn "
                          "from them.")
         return "<br>".join(lines)
+
+    def figure(self, backend: str | None = None):
+        """The three plots as plain HoloViews objects of the current state (styled for ``backend`` if given)."""
+        if backend is not None:
+            for styles in STYLES.values():
+                styles.register(backend)
+        plots = {
+            "mass_radius": (self._composition_curves() * self._reference_planets() * self._mass_radius_errors()
+                            * self._mass_radius_points() * self._mass_radius_selected()),
+            "shoreline": (self._shoreline_line() * self._shoreline_references() * self._shoreline_points()
+                          * self._shoreline_selected()),
+            "heat": self._heat_bars() * self._heat_references(),
+        }
+        if backend is not None:
+            plots = {name: plot.opts(**STYLES[name].overlay_options(backend), backend=backend)
+                     for name, plot in plots.items()}
+        return hv.Layout(list(plots.values())).cols(1)
 
     def panel(self):
         return pn.Column(

@@ -90,6 +90,9 @@ class Controls:
         self.snapshot = pn.widgets.FileDownload(callback=self._snapshot, filename="snapshot.html",
                                                 label="Download a snapshot of this state (HTML)",
                                                 width=WIDGET_WIDTH)
+        self.figures = pn.widgets.FileDownload(callback=self._figures, filename="figures.zip",
+                                               label="Download every figure (PNG for slides, zip)",
+                                               width=WIDGET_WIDTH)
         self.star_entries = {f: entry(label=label) for f, label, _, _ in STAR_ENTRIES}
         self.star_message = pn.pane.HTML("", width=WIDGET_WIDTH)
         self.albedo = pn.widgets.FloatSlider(label="Bond albedo A", start=0.0, end=0.99, step=0.01,
@@ -180,6 +183,7 @@ class Controls:
             self.samples.value = str(app.samples)
             self.download.filename = file_name_for(system.name)
             self.snapshot.filename = file_name_for(system.name)[:-5] + "_snapshot.html"
+            self.figures.filename = file_name_for(system.name)[:-5] + "_figures.zip"
         finally:
             self._quiet = False
 
@@ -408,6 +412,14 @@ class Controls:
                                pinned_elements=app.pinned_elements)
         return io.BytesIO(page.encode("utf-8"))
 
+    def _figures(self):
+        """Every figure of the session's current state (edits, time, draws, planet colours, the settings of
+        its views) as PNG files at slide resolution with their captions, in one zip archive: the files
+        ``orbitdeck figures`` writes."""
+        from orbitdeck.dashboard.figures import figures_archive, session_figure_files
+
+        return io.BytesIO(figures_archive(session_figure_files(self.app, "png")))
+
     def lock(self, locked: bool) -> None:
         """Disable every control that edits (downloads stay), or enable again those this disabled."""
         if locked:
@@ -433,7 +445,7 @@ class Controls:
         self._panel = pn.Column(
             card(pn.pane.HTML(f"<small>Load an orbitdeck-system/1 TOML file (at most "
                               f"{MAX_FILE_BYTES // 2**20} MiB)</small>"), self.file_input,
-                 self.file_message, self.download, self.snapshot, title="System file"),
+                 self.file_message, self.download, self.snapshot, self.figures, title="System file"),
             card(*self.star_entries.values(), self.star_message, title="Star"),
             card(self.albedo, self.redistribution, self.assumption_message, title="Assumptions"),
             card(self.planet_select, *self.planet_entries.values(), self.eccentricity, self.planet_message,

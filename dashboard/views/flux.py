@@ -43,8 +43,9 @@ def hz_band(d, backend: str = "bokeh"):
                          group="FluxHZBand")
     if backend == "bokeh":
         return band     # the Bokeh glyph takes its hatch pattern from the "hatch" column (see _hatch)
-    hatched = band.select(hatch=palette.HZ_HATCH) if count else band
-    return band * hatched.clone(group="FluxHZHatch")
+    if not count:
+        return None     # no zone (a host outside the limits' range): matplotlib cannot scale colours of nothing
+    return band * band.select(hatch=palette.HZ_HATCH).clone(group="FluxHZHatch")
 
 
 def _limit_names(group):

@@ -21,7 +21,7 @@ from orbitdeck.models.observability import tsm_follow_up_threshold
 
 from . import palette
 from .common import View, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, while_shown
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, drawn, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
 VIEW = "observability"
@@ -77,7 +77,7 @@ STYLES = Styles(
         "Scatter.ObservabilityThreshold": dict(marker="dash", size=44, color=THRESHOLD_COLOUR, line_width=3),
     },
     matplotlib={
-        "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), edgecolor=hv.dim("line_colour")),
+        "Bars.ObservabilityTSM": dict(hooks=[bar_colours("colour", "line_colour", "line_width")]),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, linewidth=1.2, capsize=0),
         # a filled bar as the marker: matplotlib's "_" has no face
         "Scatter.ObservabilityThresholdHalo": dict(marker=[(-1, -0.2), (1, -0.2), (1, 0.2), (-1, 0.2)], s=760,

@@ -107,3 +107,9 @@ class ColourBook:
     def colours(self, names) -> list[str]:
         """The colours of ``names``, in their order."""
         return [self.colour(str(n)) for n in names]
+
+    def copy(self) -> ColourBook:
+        """A book giving the same colours, which notes new names without changing this one."""
+        book = ColourBook()
+        book._index = dict(self._index)
+        return book

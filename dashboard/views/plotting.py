@@ -113,6 +113,66 @@ def with_a_row(columns: dict, colour_keys=("colour",), colour: str = "#000000") 
     return {k: texts([colour]) if k in colour_keys
             else texts([""]) if np.asarray(v).dtype.kind in "USO" else np.full(1, np.nan)
             for k, v in columns.items()}
+def bar_colours(face: str, edge: str | None = None, width: str | None = None):
+    """A matplotlib hook that gives each bar of a ``Bars`` element the colours of its own row.
+
+    HoloViews' matplotlib backend draws the bars of one element as one
+    artist whose style it takes from the first bar only, so a colour given
+    as ``hv.dim("colour")`` would paint every bar alike; this hook sets each
+    drawn bar's face (and edge colour and line width, when named) from the
+    columns ``face``, ``edge`` and ``width``, matching bars to rows by the
+    category under them.
+    """
+    def hook(plot, element):
+        axis = plot.handles["axis"]
+        categories = [str(k) for k in element.dimension_values(0)]
+        columns = {name: dict(zip(categories, element.dimension_values(name)))
+                   for name in (face, edge, width) if name is not None}
+        ticks = np.asarray(axis.get_xticks(), dtype=float)
+        labels = [label.get_text() for label in axis.get_xticklabels()]
+        if not len(ticks) or len(ticks) != len(labels):
+            return
+        for container in plot.handles.get("artist") or []:
+            for patch in getattr(container, "patches", []):
+                centre = patch.get_x() + 0.5 * patch.get_width()
+                category = labels[int(np.argmin(np.abs(ticks - centre)))]
+                if category not in columns[face]:
+                    continue
+                patch.set_facecolor(columns[face][category])
+                if edge is not None:
+                    patch.set_edgecolor(columns[edge][category])
+                if width is not None:
+                    patch.set_linewidth(float(columns[width][category]))
+
+    hook.__name__ = f"bar_colours_{face}"
+    return hook
+
+
+def plain_log_ticks(plot, element):
+    """A matplotlib hook: the tick labels of the plot's logarithmic axes as plain numbers (see
+    :func:`plain_log_axes`)."""
+    plain_log_axes(plot.handles["axis"])
+
+
+def plain_log_axes(axes) -> None:
+    """Write the tick labels of the logarithmic axes of matplotlib ``axes`` as plain numbers (0.5, 2, 100,
+    1e-05), major and minor alike, instead of powers of ten (which matplotlib writes as formulas)."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
+    def plain(value, _position):
+        return f"{value:g}"
+
+    for which in (axes.xaxis, axes.yaxis):
+        if which.get_scale() != "log":
+            continue
+        low, high = sorted(which.get_view_interval())
+        decades = np.log10(high / low) if low > 0 and high > 0 else np.inf
+        which.set_major_formatter(FuncFormatter(plain))
+        if decades < 2.0:   # few decades: label the 2 and 5 between the powers of ten too
+            which.set_minor_locator(LogLocator(subs=(2.0, 5.0)))
+            which.set_minor_formatter(FuncFormatter(plain))
+        else:
+            which.set_minor_formatter(NullFormatter())
 
 
 class Styles:
@@ -149,6 +209,14 @@ class Styles:
             accepted = {k: v for k, v in frame.items() if k in plot_class.param}   # annotations take fewer
             made.append(getattr(hv.opts, element)(group, backend=backend, **{**accepted, **options}))
         return made
+
+    def overlay_options(self, backend: str) -> dict:
+        """The frame options of ``backend`` that an overlay takes, for the overlay of a figure: matplotlib reads
+        some of them (the legend's place) from the overlay only, and an overlay holding overlays (an
+        ``NdOverlay`` of curves) takes none from its elements."""
+        load_backend(backend)
+        overlay = hv.Store.registry[backend][hv.Overlay]
+        return {k: v for k, v in self._frame.get(backend, {}).items() if k in overlay.param}
 
     def register(self, backend: str) -> None:
         """Make these options ``backend``'s defaults for the elements of their groups (once per process)."""
@@ -219,4 +287,5 @@ class LayeredPlot:
         if backend is not None:
             self.styles.register(backend)
         elements = [self._build(name, self.data[name], backend or "bokeh") for name in self.layers]
-        return hv.Overlay([element for element in elements if element is not None])
+        overlay = hv.Overlay([element for element in elements if element is not None])
+        return overlay.opts(**self.styles.overlay_options(backend), backend=backend) if backend else overlay

@@ -20,7 +20,7 @@ import param
 from . import palette
 from .common import (View, as_floats, batched, escape, interval, interval_caption, note, section, select_on_tap,
                      set_section, span_texts, while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts
+from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, drawn, load_backend, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -46,12 +46,32 @@ def _grid_dims(d):
 CELL_VDIMS = ["arcsec", "distance", "moon_range", "arcsec_range"]
 
 
-def cells(d):
+def cells(d, backend: str = "bokeh"):
+    if backend != "bokeh":
+        return _numbered_cells(d, backend)
     columns = {k: d[k] for k in ("body", "observer", "moon_ratio", *CELL_VDIMS)}
     for k in ("body", "observer", "moon_range", "arcsec_range"):
         columns[k] = texts(columns[k])
     return hv.HeatMap(columns, _grid_dims(d), [MOON_DIM.clone(range=d["colour_range"]), *CELL_VDIMS],
                       group="SkiesMatrix", label="")
+
+
+def _numbered_cells(d, backend: str):
+    """The matrix for a static figure: every cell of the grid (NaN where a body is its own observer) at whole-
+    number positions, named by tick labels. matplotlib's heat map labels text categories in the order of
+    their dimension's values but lays the cells out in an order of its own, which puts values under the
+    wrong names. A group of its own: options given to an element for one backend bring along the defaults
+    its group has for the others (the live matrix's Bokeh colour bar options would reach matplotlib)."""
+    load_backend(backend)
+    bodies, observers = list(d["bodies"]), list(d["observers"])
+    grid = np.full((len(observers), len(bodies)), np.nan)
+    for body, observer, value in zip(d["body"], d["observer"], as_floats(d["moon_ratio"])):
+        grid[observers.index(observer), bodies.index(body)] = value
+    column, row = np.meshgrid(np.arange(len(bodies), dtype=float), np.arange(len(observers), dtype=float))
+    return hv.HeatMap((column.ravel(), row.ravel(), grid.ravel()),
+                      [hv.Dimension("body", label="body seen"), hv.Dimension("observer", label="observer (planet)")],
+                      [MOON_DIM.clone(range=d["colour_range"])], group="SkiesMatrixFigure", label="").opts(
+        xticks=list(enumerate(bodies)), yticks=list(enumerate(observers)), backend=backend)
 
 
 def cell_texts(d, backend: str = "bokeh"):
@@ -60,6 +80,20 @@ def cell_texts(d, backend: str = "bokeh"):
     return hv.Labels((texts(d["body"]), texts(d["observer"]), texts(d["text"]), texts(d["text_colour"])), _grid_dims(d),
                      ["text", "text_colour"],
                      group="SkiesCellText")
+
+
+def _cell_values(plot, element):
+    """A matplotlib hook: the values written into the matrix's cells as the page writes them (two significant
+    digits, white on the dark end of the colour scale, black on the light end)."""
+    mesh = plot.handles.get("artist")
+    for text in (plot.handles.get("annotations") or {}).values():
+        try:
+            value = float(text.get_text())
+        except ValueError:
+            continue     # a cell without a value ("-")
+        red, green, blue, _ = mesh.cmap(mesh.norm(value))
+        text.set_text(f"{value:.2g}")
+        text.set_color("#000000" if 0.2126 * red + 0.7152 * green + 0.0722 * blue > 0.45 else "#ffffff")
 
 
 def row(d, backend: str = "bokeh"):
@@ -110,12 +144,15 @@ MATRIX_STYLES = Styles(
         "HeatMap.SkiesRow": dict(fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, cmap=["#000000"]),
     },
     matplotlib={
-        "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, show_values=True),
+        "HeatMap.SkiesMatrixFigure": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, show_values=True,
+                                          hooks=[_cell_values]),
     })
 BAR_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=330, toolbar="above", legend_position="right",
                          fontsize=FONT_SIZES, show_grid=True),
-           "matplotlib": dict(fig_size=220, aspect=2.4, legend_position="right")},
+           # the axis label on two lines: a static figure is not as tall as the label is long
+           "matplotlib": dict(fig_size=220, aspect=1.7, legend_position="right",
+                              ylabel="largest apparent diameter\n[Moon diameters from Earth]")},
     bokeh={
         "Bars.SkiesBars": dict(color=hv.dim("colour"), line_color="#333333", tools=["hover"],
                                hover_tooltips=[("body", "@body"), ("largest diameter",
@@ -126,7 +163,7 @@ BAR_STYLES = Styles(
         "HLine.SkiesMoon": dict(color="#555555", line_dash="dashed", line_width=1.2),
     },
     matplotlib={
-        "Bars.SkiesBars": dict(color=hv.dim("colour"), edgecolor="#333333"),
+        "Bars.SkiesBars": dict(edgecolor="#333333", hooks=[bar_colours("colour")]),
         "ErrorBars.SkiesBarRange": dict(color=palette.INK, linewidth=1.2),
         "HLine.SkiesMoon": dict(color="#555555", linestyle="--", linewidth=1.0),
     })
@@ -136,6 +173,8 @@ class SkiesView(View):
     """The "Neighbour skies" view of one app."""
 
     title = "Neighbour skies"
+    #: the settings that shape the figures, carried over to a copy of the session (figures.session_copy)
+    figure_parameters = ("sky_from.window", "sky_from.body")
 
     def __init__(self, app, **params):
         super().__init__(app, **params)
@@ -259,8 +298,13 @@ class SkiesView(View):
                          self.table, self.caution, self.sky_from.panel(), sizing_mode="stretch_width")
 
     def figure(self, backend: str | None = None):
-        return hv.Layout([self.matrix.figure(backend), self.bars.figure(backend), *self.sky_from.figure(backend)]
-                         ).cols(1)
+        bars = self.bars.figure(backend)
+        chosen = self.app.selected
+        if backend is not None and chosen in self.app.derived.planet_names:
+            # the page says this above the plot; a figure standing alone says it in its title
+            bars = bars.opts(title=f"In the sky of planet {chosen}: largest apparent diameters (dashed: the Moon "
+                                   "seen from Earth)", backend=backend)
+        return hv.Layout([self.matrix.figure(backend), bars, *self.sky_from.figure(backend)]).cols(1)
 
 
 class _SkyRows:

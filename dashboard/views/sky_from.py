@@ -170,7 +170,7 @@ def elongation(d, backend: str = "bokeh"):
 TRACK_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=260, toolbar="above", legend_position="right", show_grid=True,
                          fontsize=FONT_SIZES),
-           "matplotlib": dict(fig_size=220, aspect=2.6, legend_position="right")},
+           "matplotlib": dict(fig_size=220, aspect=2.0, legend_position="right")},
     bokeh={"Curve.SkyDiameter": dict(line_width=2, logy=True, tools=["hover"],
                                      title="Apparent diameter of each body over the window"),
            "Curve.SkyElongation": dict(line_width=2, tools=["hover"],
@@ -194,7 +194,7 @@ SKY_STYLES = Styles(
                                                                  "(estimate)")]),
            "Labels.SkyName": dict(text_font_size="11px", text_align="left", text_baseline="middle",
                                   text_color=palette.INK)},
-    matplotlib={"Polygons.SkyDisc": dict(facecolor=hv.dim("colour"), edgecolor="#222222", alpha=0.9),
+    matplotlib={"Polygons.SkyDisc": dict(color=hv.dim("colour"), edgecolor="#222222", alpha=0.9),
                 "Path.SkyMoon": dict(color="#555555", linestyle="--", linewidth=1.0),
                 "Points.SkyMark": dict(color=hv.dim("colour"), s=25, edgecolors="#222222"),
                 "Labels.SkyName": dict(size=8, horizontalalignment="left", verticalalignment="center",
@@ -342,7 +342,13 @@ class SkyFromView(View):
             self.table, sizing_mode="stretch_width")
 
     def figure(self, backend: str | None = None):
-        return [self.sky.figure(backend), self.tracks.figure(backend), self.elongation.figure(backend)]
+        sky = self.sky.figure(backend)
+        observer = self.app.selected
+        if backend is not None and observer in list(self.app.elements.names):
+            # the page says this above the plot; a figure standing alone says it in its title
+            sky = sky.opts(title=f"The sky of planet {observer} at BJD_TDB {float(self.app.time):.4f} (discs to "
+                                 "scale; dashed: the Moon seen from Earth)", backend=backend)
+        return [sky, self.tracks.figure(backend), self.elongation.figure(backend)]
 
 
 class TimePlayer:

@@ -8,8 +8,11 @@ site and the star's coordinates, nights (Sun below the chosen altitude) are
 shaded and transits that cannot be observed are drawn faint. Transits of
 two or more planets at the same time are marked. The table below lists
 every transit; a row, a tick or a planet's row picks that planet in every
-view. Built with HoloViews (Bokeh backend): one ``DynamicMap`` whose
-overlay is redrawn when the forecast or the selected planet changes.
+view. Built with HoloViews: one ``DynamicMap`` whose overlay is redrawn
+when the forecast or the selected planet changes; the looks of its
+elements are kept per backend (:class:`~.plotting.Styles`), so the same
+timeline renders live through Bokeh and as a static figure through
+matplotlib (:meth:`TransitPlannerView.figure`).
 """
 
 from __future__ import annotations
@@ -29,7 +32,7 @@ from orbitdeck.models.forecast import (DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN
 from orbitdeck.models.system import SITE_ELEVATION_RANGE, Site
 
 from . import palette
-from .plotting import load_backend
+from .plotting import Styles, load_backend
 
 #: choices of the range control: label -> days
 SPANS = {"7 days": 7.0, "30 days": 30.0, "90 days": 90.0, "1 year": 365.25}
@@ -65,11 +68,62 @@ def calendar_dates(bjd) -> np.ndarray:
     return milliseconds.astype("int64").astype("datetime64[ms]")
 
 
+def axis_times(bjd, backend: str = "bokeh") -> np.ndarray:
+    """BJD_TDB [d] as positions on the timeline's calendar axis: numpy datetimes for Bokeh, matplotlib's date
+    numbers for matplotlib (whose Rectangles and Segments take no datetimes; a hook labels them as dates)."""
+    if backend == "bokeh":
+        return calendar_dates(bjd)
+    from matplotlib.dates import date2num
+
+    return np.asarray(date2num(calendar_dates(np.atleast_1d(bjd))), dtype=float).reshape(np.shape(bjd))
+
+
+def calendar_axis(plot, element):
+    """A matplotlib hook: the time axis labelled as calendar dates (it holds matplotlib's date numbers)."""
+    from matplotlib.dates import AutoDateLocator, ConciseDateFormatter
+
+    locator = AutoDateLocator(minticks=4, maxticks=9)
+    axis = plot.handles["axis"].xaxis
+    axis.set_major_locator(locator)
+    axis.set_major_formatter(ConciseDateFormatter(locator))
+
+
+#: what a transit's bar and tick tell on hover (Bokeh)
+HOVER = [("planet", "@planet"), ("epoch", "@epoch"), ("mid BJD_TDB", "@bjd{0.00000}"),
+         ("1 sigma [min]", "@sigma_min{0.00}"), ("at the site", "@state")]
+#: the 3-sigma and 1-sigma windows: (sigmas, opacity, group)
+WINDOWS = ((3.0, 0.25, "TransitWindow3"), (1.0, 0.5, "TransitWindow1"))
+_AXES = dict(xlabel="BJD_TDB (as a calendar date)", ylabel="planet", invert_yaxis=True, show_legend=False)
+#: the timeline's looks per backend, registered once per process as the defaults of its groups
+STYLES = Styles(
+    frame={"bokeh": dict(_AXES, responsive=True), "matplotlib": dict(_AXES, fig_size=260, hooks=[calendar_axis])},
+    bokeh={"Rectangles.TransitNight": dict(fill_color=NIGHT_COLOUR, fill_alpha=NIGHT_ALPHA, line_alpha=0.0),
+           "Rectangles.TransitSelectedRow": dict(fill_color=palette.HIGHLIGHT_COLOUR, fill_alpha=0.06, line_alpha=0.0),
+           **{f"Rectangles.{group}": dict(fill_color="colour", fill_alpha=alpha, line_alpha=0.0)
+              for _, alpha, group in WINDOWS},
+           "Rectangles.TransitBar": dict(fill_color="colour", line_color="colour", tools=["hover"],
+                                         hover_tooltips=HOVER),
+           "Segments.TransitTick": dict(color="colour", line_width="width", tools=["hover", "tap"],
+                                        hover_tooltips=HOVER),
+           "Scatter.TransitOverlap": dict(marker="inverted_triangle", size=9, color=palette.HIGHLIGHT_COLOUR,
+                                          tools=["hover"], hover_tooltips=[("planet", "@planet"),
+                                                                           ("in transit together with", "@with")])},
+    matplotlib={"Rectangles.TransitNight": dict(facecolor=NIGHT_COLOUR, alpha=NIGHT_ALPHA, linewidth=0),
+                "Rectangles.TransitSelectedRow": dict(facecolor=palette.HIGHLIGHT_COLOUR, alpha=0.06, linewidth=0),
+                **{f"Rectangles.{group}": dict(facecolor=hv.dim("colour"), alpha=alpha, linewidth=0)
+                   for _, alpha, group in WINDOWS},
+                "Rectangles.TransitBar": dict(facecolor=hv.dim("colour"), edgecolor=hv.dim("colour")),
+                "Segments.TransitTick": dict(color=hv.dim("colour"), linewidth=hv.dim("width")),
+                "Scatter.TransitOverlap": dict(marker="v", s=45, color=palette.HIGHLIGHT_COLOUR)})
+
+
 class TransitPlannerView(param.Parameterized):
     """The "Transit planner" view of one app: timeline, table and the range and site controls."""
 
     title = "Transit planner"
     tab = title
+    #: the settings that shape the figure, carried over to a copy of the session (figures.session_copy)
+    figure_parameters = ("start_text", "span", "site_choice", "latitude", "longitude", "elevation", "min_altitude")
 
     start_text = param.String(default="", doc="Start of the range: BJD_TDB or an ISO date (UTC)")
     span = param.Selector(default="30 days", objects=list(SPANS), doc="Length of the range")
@@ -85,6 +139,7 @@ class TransitPlannerView(param.Parameterized):
     def __init__(self, app, **params):
         super().__init__(**params)
         load_backend("bokeh")   # HoloViews' Bokeh options, without changing the current backend
+        STYLES.register("bokeh")
         self.app = app
         self.forecast = None
         self.sky = None
@@ -194,19 +249,31 @@ class TransitPlannerView(param.Parameterized):
     @param.depends("version", "highlight")
     def timeline(self):
         """The timeline overlay: nights, the selected planet's row, windows, bars, ticks and overlaps."""
+        return self._timeline("bokeh")
+
+    def _timeline(self, backend: str):
+        """The timeline overlay, with the options of its frame that the state decides given for ``backend``."""
         names = list(self.app.system.planet_names)
         colours = self.app.colours.colours(names)
         forecast = self.forecast
         height = max(200, 46 * len(names) + 90)
-        elements = [self._nights(len(names)), self._selected_row(names, forecast)]
+        elements = [self._nights(len(names), backend), self._selected_row(names, forecast, backend)]
         if forecast is not None and len(forecast):
-            elements += self._transits(forecast, names, colours)
+            elements += self._transits(forecast, names, colours, backend)
         ticks = [(i, str(n)) for i, n in enumerate(names)]
-        limits = {} if forecast is None else {"xlim": (calendar_dates(forecast.start), calendar_dates(forecast.end))}
+        limits = {} if forecast is None else {"xlim": (axis_times(forecast.start, backend),
+                                                       axis_times(forecast.end, backend))}
+        # the plot grows with the planets: Bokeh in pixels, matplotlib by its aspect at a fixed width
+        size = {"height": height} if backend == "bokeh" else {"aspect": min(max(1100.0 / height, 1.6), 4.5)}
         return hv.Overlay(elements).opts(
-            responsive=True, height=height, invert_yaxis=True, yticks=ticks, ylim=(-0.5, len(names) - 0.5),
-            xlabel="BJD_TDB (as a calendar date)", ylabel="planet", show_legend=False, backend="bokeh",
-            title=self.title + (": " + self._subtitle() if forecast is not None else ""), **limits)
+            yticks=ticks, ylim=(-0.5, len(names) - 0.5), backend=backend, **STYLES.overlay_options(backend),
+            title=self.title + (": " + self._subtitle() if forecast is not None else ""), **size, **limits)
+
+    def figure(self, backend: str | None = None):
+        """The timeline as plain HoloViews objects of the current state (styled for ``backend`` if given)."""
+        if backend is not None:
+            STYLES.register(backend)
+        return self._timeline(backend or "bokeh")
 
     def _subtitle(self) -> str:
         site = self.site()
@@ -214,20 +281,18 @@ class TransitPlannerView(param.Parameterized):
                 f"nights (Sun below {DEFAULT_MAX_SUN_ALTITUDE_DEG:g} deg) at latitude {site.latitude:g} deg, "
                 f"longitude {site.longitude:g} deg east, {site.elevation:g} m")
 
-    def _nights(self, rows: int):
+    def _nights(self, rows: int, backend: str = "bokeh"):
         begin, end = self.night_bounds
-        data = [(b, -0.5, e, rows - 0.5) for b, e in zip(calendar_dates(begin), calendar_dates(end))]
-        return hv.Rectangles(data, kdims=["x", "y", "x1", "y1"]).opts(
-            fill_color=NIGHT_COLOUR, fill_alpha=NIGHT_ALPHA, line_alpha=0.0, backend="bokeh")
+        data = [(b, -0.5, e, rows - 0.5) for b, e in zip(axis_times(begin, backend), axis_times(end, backend))]
+        return hv.Rectangles(data, kdims=["x", "y", "x1", "y1"], group="TransitNight")
 
-    def _selected_row(self, names, forecast):
+    def _selected_row(self, names, forecast, backend: str = "bokeh"):
         chosen = [i for i, n in enumerate(names) if n == self.highlight]
         data = [] if not chosen or forecast is None else [
-            (calendar_dates(forecast.start), chosen[0] - 0.5, calendar_dates(forecast.end), chosen[0] + 0.5)]
-        return hv.Rectangles(data, kdims=["x", "y", "x1", "y1"]).opts(
-            fill_color=palette.HIGHLIGHT_COLOUR, fill_alpha=0.06, line_alpha=0.0, backend="bokeh")
+            (axis_times(forecast.start, backend), chosen[0] - 0.5, axis_times(forecast.end, backend), chosen[0] + 0.5)]
+        return hv.Rectangles(data, kdims=["x", "y", "x1", "y1"], group="TransitSelectedRow")
 
-    def _transits(self, forecast, names, colours) -> list:
+    def _transits(self, forecast, names, colours, backend: str = "bokeh") -> list:
         row = forecast.planet.astype(float)
         seen = np.ones(len(forecast), dtype=bool) if self.sky is None else self.sky.observable | self.sky.partial
         colour = np.where(seen, np.array(colours, dtype=object)[forecast.planet], UNOBSERVABLE_COLOUR)
@@ -235,34 +300,26 @@ class TransitPlannerView(param.Parameterized):
         half = np.where(known, 0.5 * forecast.duration, 0.0)
         table = pd.DataFrame({
             "planet": [names[i] for i in forecast.planet], "epoch": forecast.epoch, "row": row, "colour": colour,
-            "mid": calendar_dates(forecast.mid), "bjd": forecast.mid, "sigma_min": forecast.sigma * 1440.0,
+            "mid": axis_times(forecast.mid, backend), "bjd": forecast.mid, "sigma_min": forecast.sigma * 1440.0,
             "state": self._states(len(forecast)), "width": np.where(seen, 3.0, 1.5)})
         elements = []
-        for sigmas, alpha in ((3.0, 0.25), (1.0, 0.5)):
+        for sigmas, _, group in WINDOWS:
             low, high = forecast.window(sigmas)
-            frame = table.assign(x0=calendar_dates(low - half), x1=calendar_dates(high + half),
+            frame = table.assign(x0=axis_times(low - half, backend), x1=axis_times(high + half, backend),
                                  y0=row - 0.3, y1=row + 0.3)
-            elements.append(hv.Rectangles(frame, ["x0", "y0", "x1", "y1"], ["planet", "colour"]).opts(
-                fill_color="colour", fill_alpha=alpha, line_alpha=0.0, backend="bokeh"))
-        bars = table.assign(x0=calendar_dates(forecast.mid - half), x1=calendar_dates(forecast.mid + half),
+            elements.append(hv.Rectangles(frame, ["x0", "y0", "x1", "y1"], ["planet", "colour"], group=group))
+        bars = table.assign(x0=axis_times(forecast.mid - half, backend), x1=axis_times(forecast.mid + half, backend),
                             y0=row - 0.18, y1=row + 0.18)
-        hover = [("planet", "@planet"), ("epoch", "@epoch"), ("mid BJD_TDB", "@bjd{0.00000}"),
-                 ("1 sigma [min]", "@sigma_min{0.00}"), ("at the site", "@state")]
         elements.append(hv.Rectangles(bars, ["x0", "y0", "x1", "y1"], ["planet", "epoch", "bjd", "sigma_min", "state",
-                                                                       "colour"]).opts(
-            fill_color="colour", line_color="colour", tools=["hover"], hover_tooltips=hover, backend="bokeh"))
+                                                                       "colour"], group="TransitBar"))
         ticks = table.assign(y0=row - 0.38, y1=row + 0.38, x1=table["mid"])
         elements.append(hv.Segments(ticks, ["mid", "y0", "x1", "y1"], ["planet", "epoch", "bjd", "sigma_min", "state",
-                                                                       "colour", "width"]).opts(
-            color="colour", line_width="width", tools=["hover", "tap"], hover_tooltips=hover, backend="bokeh"))
+                                                                       "colour", "width"], group="TransitTick"))
         marked = np.flatnonzero([bool(o) for o in forecast.overlaps])
-        overlaps = pd.DataFrame({"mid": calendar_dates(forecast.mid[marked]), "y": row[marked] - 0.42,
+        overlaps = pd.DataFrame({"mid": axis_times(forecast.mid[marked], backend), "y": row[marked] - 0.42,
                                  "with": [", ".join(forecast.overlaps[k]) for k in marked],
                                  "planet": [names[forecast.planet[k]] for k in marked]})
-        elements.append(hv.Scatter(overlaps, "mid", ["y", "planet", "with"]).opts(
-            marker="inverted_triangle", size=9, color=palette.HIGHLIGHT_COLOUR,
-            tools=["hover"], hover_tooltips=[("planet", "@planet"), ("in transit together with", "@with")],
-            backend="bokeh"))
+        elements.append(hv.Scatter(overlaps, "mid", ["y", "planet", "with"], group="TransitOverlap"))
         return elements
 
     def _states(self, count: int) -> list[str]:
