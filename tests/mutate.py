@@ -40,7 +40,7 @@ FAST_TESTS = (
     "tests/test_reference_bulk.py", "tests/test_reference_orbits.py", "tests/test_reference_resonances.py",
     "tests/test_reference_skies.py", "tests/test_reference_interiors.py", "tests/test_reference_atmospheres.py",
     "tests/test_kepler.py", "tests/test_sky_view.py", "tests/test_ephemeris.py", "tests/test_forecast.py",
-    "tests/test_forecast_sky.py",
+    "tests/test_forecast_sky.py", "tests/test_reference_dynamics_hill.py", "tests/test_reference_dynamics_ttv.py",
 )
 #: the fast tests that exercise a file most directly, run before the others for its mutants, so that a
 #: caught mutant stops early (every fast test still runs for a survivor)
@@ -50,7 +50,8 @@ FIRST_TESTS = {
     "models/ephemeris.py": ("tests/test_ephemeris.py",),
     "models/kepler.py": ("tests/test_kepler.py", "tests/test_ephemeris.py"),
     "models/composition.py": ("tests/test_reference_bulk.py", "tests/test_reference_interiors.py"),
-    "models/dynamics.py": ("tests/test_reference_bulk.py",),
+    "models/dynamics.py": ("tests/test_reference_bulk.py", "tests/test_reference_dynamics_hill.py"),
+    "models/ttv.py": ("tests/test_reference_dynamics_ttv.py",),
     "models/resonances.py": ("tests/test_reference_resonances.py",),
     "models/observability.py": ("tests/test_reference_observability.py",),
     "models/skies.py": ("tests/test_reference_skies.py",),
@@ -231,6 +232,17 @@ MUTANTS = (
     Mutant("models/dynamics.py", "/ (3.0 * G * star_mass_kg**2", "/ (2.0 * G * star_mass_kg**2", "tidal locking: factor 3"),
     Mutant("models/dynamics.py", "G * star_mass_kg**2 * k2", "G * star_mass_kg * k2", "tidal locking: star mass power"),
     Mutant("models/dynamics.py", "k2 * planet_radius_m**5))", "k2 * planet_radius_m**4))", "tidal locking: R^5"),
+    # -- resonance overlap as a period ratio, TTV curves over time -----------------------------------
+    Mutant("models/dynamics.py", "return (1.0 + overlap_spacing(epsilon)) ** 1.5",
+           "return (1.0 + overlap_spacing(epsilon)) ** 1.4", "overlap edge in period ratio: Kepler's 3/2"),
+    Mutant("models/dynamics.py", "np.sqrt((1.0 + mu_inner) / (1.0 + mu_outer))",
+           "np.sqrt((1.0 + mu_outer) / (1.0 + mu_inner))", "overlap edge in period ratio: planet masses in Kepler's law"),
+    Mutant("models/ttv.py", "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_outer, longitude)",
+           "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_inner, longitude)",
+           "TTV curves: the outer planet's amplitude"),
+    Mutant("models/ttv.py", "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_outer, longitude)",
+           "return ttv_signal(amplitude_inner, -longitude), ttv_signal(amplitude_outer, longitude)",
+           "TTV curves: the sense of the longitude of conjunctions"),
     # -- commensurabilities, super-period, three-body relations ------------------------------------
     Mutant("models/resonances.py", "MAX_ORDER = 3", "MAX_ORDER = 2", "commensurability table: third order"),
     Mutant("models/resonances.py", "return np.asarray(period_ratio) * q / p - 1.0",
