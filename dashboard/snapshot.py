@@ -113,9 +113,16 @@ def _section(title: str, body):
                      sizing_mode="stretch_width", stylesheets=[PRINT_SECTION_CSS])
 
 
-def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = ""):
-    """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``) for a static page."""
+def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", ensemble=None):
+    """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``) for a static page.
+
+    ``ensemble`` is an N-body ensemble run on this state or an earlier one (a
+    :class:`~orbitdeck.dashboard.views.ensemble_run.FinishedEnsemble`); the
+    Dynamics section shows it, marked when it belongs to an earlier state, or
+    says that the snapshot holds none.
+    """
     from .app import OrbitDeckApp
+    from .views.dynamics import DynamicsView
 
     app = OrbitDeckApp(system, source=info.source)
     app.time = info.time
@@ -123,6 +130,7 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
         app.derived = derive(system, samples=info.samples, seed=info.seed)
     if pinned is not None:
         app.param.update(pinned=pinned, pinned_label=pinned_label or "pinned reference")
+    app.views[DynamicsView.title].ensemble.show(ensemble, static=True)
     sections = [_section(title, view.panel()) for title, view in app.views.items()
                 if pinned is not None or title != "Compare"]
     provenance = provenance_of(system, app.derived, info.source.name, info.source.sha256,
@@ -135,7 +143,7 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
 
 def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
                     samples: int = 0, seed: int | None = None, exported: datetime | None = None,
-                    pinned=None, pinned_label: str = "") -> str:
+                    pinned=None, pinned_label: str = "", ensemble=None) -> str:
     """The snapshot page of ``system`` as HTML text.
 
     Parameters
@@ -154,6 +162,8 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
         Export time (default now, UTC).
     pinned : Derived, optional
         A reference state to compare with (a section "Compare"), described by ``pinned_label``.
+    ensemble : FinishedEnsemble, optional
+        An N-body ensemble run in the dashboard, shown in the Dynamics section.
     """
     moment = (exported or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
     info = Provenance(SystemSource(source_name, bytes(source_bytes)), moment.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -161,7 +171,7 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     text = dumps_system(system)
     meta = (f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
             f"<style>{look.PAGE_CSS}</style>")
-    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label),
+    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, ensemble),
                              f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta + PRINT_PAGE_CSS)
     return page
 

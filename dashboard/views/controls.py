@@ -401,10 +401,12 @@ class Controls:
         """The offline snapshot of the session's current state (edits, time and draws included)."""
         from orbitdeck.dashboard.snapshot import render_snapshot
 
+        from .dynamics import finished_ensemble
+
         app = self.app
         page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
                                samples=app.draws, seed=app.seed if app.draws else None,
-                               pinned=app.pinned, pinned_label=app.pinned_label)
+                               pinned=app.pinned, pinned_label=app.pinned_label, ensemble=finished_ensemble(app))
         return io.BytesIO(page.encode("utf-8"))
 
     def lock(self, locked: bool) -> None:
