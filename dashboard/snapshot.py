@@ -113,19 +113,23 @@ def _section(title: str, body):
                      sizing_mode="stretch_width", stylesheets=[PRINT_SECTION_CSS])
 
 
-def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", ensemble=None):
+def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", ensemble=None,
+                    selected: str | None = None):
     """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``) for a static page.
 
     ``ensemble`` is an N-body ensemble run on this state or an earlier one (a
     :class:`~orbitdeck.dashboard.views.ensemble_run.FinishedEnsemble`); the
     Dynamics section shows it, marked when it belongs to an earlier state, or
-    says that the snapshot holds none.
+    says that the snapshot holds none. ``selected`` is the planet highlighted (the
+    first one if None or not in the system).
     """
     from .app import OrbitDeckApp
     from .views.dynamics import DynamicsView
 
     app = OrbitDeckApp(system, source=info.source)
     app.time = info.time
+    if selected in system.planet_names:
+        app.selected = selected
     if info.samples:
         app.derived = derive(system, samples=info.samples, seed=info.seed)
     if pinned is not None:
@@ -143,7 +147,7 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
 
 def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
                     samples: int = 0, seed: int | None = None, exported: datetime | None = None,
-                    pinned=None, pinned_label: str = "", ensemble=None) -> str:
+                    pinned=None, pinned_label: str = "", ensemble=None, selected: str | None = None) -> str:
     """The snapshot page of ``system`` as HTML text.
 
     Parameters
@@ -164,6 +168,8 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
         A reference state to compare with (a section "Compare"), described by ``pinned_label``.
     ensemble : FinishedEnsemble, optional
         An N-body ensemble run in the dashboard, shown in the Dynamics section.
+    selected : str, optional
+        The planet highlighted in every view (the first one by default).
     """
     moment = (exported or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
     info = Provenance(SystemSource(source_name, bytes(source_bytes)), moment.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -171,7 +177,7 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     text = dumps_system(system)
     meta = (f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
             f"<style>{look.PAGE_CSS}</style>")
-    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, ensemble),
+    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, ensemble, selected),
                              f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta + PRINT_PAGE_CSS)
     return page
 

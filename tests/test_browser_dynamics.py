@@ -12,7 +12,7 @@ from orbitdeck.dashboard.views import palette
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
 
-pytestmark = pytest.mark.browser
+pytestmark = [pytest.mark.browser, pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")]
 
 TITLE = "Dynamics"
 #: pixels of a planet's colour that count as that planet drawn (antialiasing leaves a few anywhere)
@@ -78,3 +78,32 @@ def test_an_ensemble_runs_from_its_button_with_progress_and_its_results_are_pain
         survived = canvas_colour_pixels(page, {"survived": palette.ACCENT})
         assert survived["survived"] >= MIN_SURVIVAL_PIXELS, survived
         assert log.problems_on_server(origin) == []
+
+
+def test_a_snapshot_shows_the_finished_ensemble_offline(browser, tmp_path):
+    from browser_support import offline_page
+    from orbitdeck.dashboard.app import OrbitDeckApp
+    from orbitdeck.dashboard.views.dynamics import finished_ensemble
+
+    app = OrbitDeckApp(load_system(demo_path()))
+    view = app.views[TITLE]
+    view.pair_select.value = 1   # c-d
+    view.ensemble.draws.value, view.ensemble.orbits.value = 3, 200
+    view.ensemble.start()
+    view.ensemble.job.join(timeout=120)
+    view.ensemble.poll()
+    assert finished_ensemble(app) is not None
+    out = tmp_path / "with_ensemble.html"
+    out.write_bytes(app.controls._snapshot().getvalue())
+    with offline_page(browser, {"width": 1400, "height": 1000}) as (page, log):
+        page.goto(out.as_uri())
+        page.wait_for_selector(".bk-Canvas", timeout=30_000)
+        page.get_by_text("Stable to the end:").first.scroll_into_view_if_needed()
+        page.wait_for_timeout(1000)
+        assert page.get_by_text("Stable to the end:").first.is_visible()
+        # no controls to run anything in a static page
+        assert page.get_by_role("button", name="Run the N-body ensemble").count() == 0 or not \
+            page.get_by_role("button", name="Run the N-body ensemble").first.is_visible()
+        assert set(_nbody_points(page) or []) == {"c", "d"}
+        screenshot(page, "dynamics_snapshot_with_ensemble.png")
+        assert log.problems() == []

@@ -12,7 +12,7 @@ import pytest
 from bokeh.document import Document
 
 from orbitdeck.dashboard.app import OrbitDeckApp
-from orbitdeck.dashboard.views.dynamics import BETA_AXIS_CAP, finished_ensemble
+from orbitdeck.dashboard.views.dynamics import BETA_AXIS_CAP, CURVE_WIDTH, SELECTED_CURVE_WIDTH, finished_ensemble
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import Planet, Star, System, derive, dynamics, load_system, ttv
 from orbitdeck.models.constants import M_EARTH, M_SUN
@@ -109,9 +109,10 @@ def test_choosing_a_pair_selects_its_inner_planet_and_selecting_a_planet_chooses
     app.selected = "d"       # the other planet of the pair shown keeps the pair
     assert view.pair == 1
     view.table.selection = [2]
-    assert app.selected == "d" and view.ttv.data["curves"]["width"] == [3.0, 1.8]   # the selected one thicker
+    # the selected planet's curve is the wider one
+    assert app.selected == "d" and view.ttv.data["curves"]["width"] == [SELECTED_CURVE_WIDTH, CURVE_WIDTH]
     app.selected = "e"
-    assert view.pair == 2 and view.ttv.data["curves"]["width"] == [1.8, 3.0]
+    assert view.pair == 2 and view.ttv.data["curves"]["width"] == [CURVE_WIDTH, SELECTED_CURVE_WIDTH]
 
 
 def test_the_pair_goes_to_the_apps_selected_pair_when_it_has_one():

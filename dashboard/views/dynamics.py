@@ -44,6 +44,8 @@ CURVE_POINTS = 600
 #: beta bars are drawn up to this height; taller ones (and infinite ones) are clipped and labelled
 BETA_AXIS_CAP = 5.0
 MINUTES_PER_DAY = DAY / MINUTE
+#: widths of the analytic TTV curves [px]: the selected planet's is wider
+CURVE_WIDTH, SELECTED_CURVE_WIDTH = 2.2, 3.6
 #: the largest j of the j:j-1 rungs drawn
 MAX_RUNG_J = 12
 
@@ -238,7 +240,7 @@ class DynamicsView(View):
                     lines["xs"].append(t - epoch)
                     lines["ys"].append(curve)
                     lines["colour"].append(colour)
-                    lines["width"].append(3.0 if name == self.app.selected else 1.8)
+                    lines["width"].append(SELECTED_CURVE_WIDTH if name == self.app.selected else CURVE_WIDTH)
                     if found_range is not None and np.isfinite([found_range[0][k], found_range[1][k]]).all():
                         # the nominal phase, the amplitude at the 16th and 84th percentiles of the draws
                         low, high = (curve * (r[k] / abs(amplitude)) for r in found_range)

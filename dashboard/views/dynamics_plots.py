@@ -88,7 +88,8 @@ def nbody_medians(d):
                  len(d["x"]) > 0)
 
 
-TTV_LAYERS = {"bands": ttv_bands, "curves": ttv_curves, "nbody_ranges": nbody_ranges, "nbody": nbody_medians}
+#: the analytic curves over the N-body dots, which would hide them
+TTV_LAYERS = {"bands": ttv_bands, "nbody_ranges": nbody_ranges, "nbody": nbody_medians, "curves": ttv_curves}
 TTV_TITLE = "Transit-timing variations of the chosen pair"
 TTV_STYLES = Styles(
     frame={"bokeh": dict(responsive=True, height=330, toolbar="above", show_legend=False, show_grid=True,
@@ -97,8 +98,8 @@ TTV_STYLES = Styles(
     bokeh=_framewise({
         "Polygons.DynamicsTTVBand": dict(color=hv.dim("colour"), alpha=0.22, line_alpha=0.0),
         "Path.DynamicsTTV": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
-        "Segments.DynamicsNBodyRange": dict(color=hv.dim("colour"), line_width=2.0, alpha=0.8),
-        "Points.DynamicsNBody": dict(color="colour", size=7, line_color=palette.INK, line_width=0.8,
+        "Segments.DynamicsNBodyRange": dict(color=hv.dim("colour"), line_width=2.0, alpha=0.5),
+        "Points.DynamicsNBody": dict(color="colour", size=6, line_color=palette.INK, line_width=0.6, alpha=0.85,
                                      tools=["hover"], hover_tooltips=[
                                          ("planet", "@planet"), ("transit", "@transit"),
                                          ("BJD_TDB (median)", "@bjd{0.000}"),
@@ -108,7 +109,7 @@ TTV_STYLES = Styles(
     matplotlib={
         "Polygons.DynamicsTTVBand": dict(facecolor=hv.dim("colour"), alpha=0.22, edgecolor="none"),
         "Curve.DynamicsTTV": dict(linewidth=1.8),
-        "Segments.DynamicsNBodyRange": dict(color=hv.dim("colour"), linewidth=1.5),
+        "Segments.DynamicsNBodyRange": dict(color=hv.dim("colour"), linewidth=1.5, alpha=0.5),
         "Points.DynamicsNBody": dict(color=hv.dim("colour"), s=24, edgecolors=palette.INK),
     })
 
@@ -289,9 +290,9 @@ SURVIVAL_LAYERS = {"stopped": _histogram("DynamicsStopped", "stopped (unstable)"
                    "survived": _histogram("DynamicsSurvived", "stable to the end")}
 SURVIVAL_TITLE = "N-body ensemble: when the draws stopped"
 SURVIVAL_STYLES = Styles(
-    frame={"bokeh": dict(responsive=True, height=260, toolbar="above", legend_position="right",
+    frame={"bokeh": dict(responsive=True, height=260, toolbar="above",
                          show_grid=True, title=SURVIVAL_TITLE, fontsize=FONT_SIZES),
-           "matplotlib": dict(fig_size=220, aspect=2.6, legend_position="right", title=SURVIVAL_TITLE)},
+           "matplotlib": dict(fig_size=220, aspect=2.6, title=SURVIVAL_TITLE)},
     bokeh=_framewise({
         "Histogram.DynamicsStopped": dict(color=STOPPED_COLOUR, line_color=palette.INK, tools=["hover"]),
         "Histogram.DynamicsSurvived": dict(color=SURVIVED_COLOUR, line_color=palette.INK, tools=["hover"]),

@@ -288,7 +288,8 @@ class EnsembleSection:
         width = edges[1] - edges[0]
         stopped, _ = np.histogram(r.survival_orbits[~r.stable], bins=edges)
         survived = float(np.count_nonzero(r.stable))
-        x_range, y_range = (0.0, orbits + 1.5 * width), (0.0, 1.1 * max(float(stopped.max(initial=0)), survived, 1))
+        # room on the right for the legend (in the plot's top right corner), beyond the survivors' bar
+        x_range, y_range = (0.0, 1.3 * orbits), (0.0, 1.1 * max(float(stopped.max(initial=0)), survived, 1))
         return {"stopped": {"edges": edges, "counts": stopped.astype(float), "x_range": x_range, "y_range": y_range},
                 "survived": {"edges": np.array([orbits + 0.25 * width, orbits + 1.25 * width]),
                              "counts": np.array([survived]), "x_range": x_range, "y_range": y_range}}
