@@ -113,18 +113,30 @@ def _section(title: str, body):
                      sizing_mode="stretch_width", stylesheets=[PRINT_SECTION_CSS])
 
 
-def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", pinned_elements=None):
+def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label: str = "", pinned_elements=None,
+                    ensemble=None, selected: str | None = None):
     """A plain Panel layout of every view of ``system`` (and the comparison with ``pinned``, whose Keplerian
-    elements ``pinned_elements`` place its planets in Layout) for a static page."""
+    elements ``pinned_elements`` place its planets in Layout) for a static page.
+
+    ``ensemble`` is an N-body ensemble run on this state or an earlier one (a
+    :class:`~orbitdeck.dashboard.views.ensemble_run.FinishedEnsemble`); the
+    Dynamics section shows it, marked when it belongs to an earlier state, or
+    says that the snapshot holds none. ``selected`` is the planet highlighted (the
+    first one if None or not in the system).
+    """
     from .app import OrbitDeckApp
+    from .views.dynamics import DynamicsView
 
     app = OrbitDeckApp(system, source=info.source)
     app.time = info.time
+    if selected in system.planet_names:
+        app.selected = selected
     if info.samples:
         app.derived = derive(system, samples=info.samples, seed=info.seed)
     if pinned is not None:
         app.param.update(pinned=pinned, pinned_label=pinned_label or "pinned reference",
                          pinned_elements=pinned_elements)
+    app.views[DynamicsView.title].ensemble.show(ensemble, static=True)
     sections = [_section(title, view.panel()) for title, view in app.views.items()
                 if pinned is not None or title != "Compare"]
     provenance = provenance_of(system, app.derived, info.source.name, info.source.sha256,
@@ -137,7 +149,8 @@ def snapshot_layout(system: System, info: Provenance, pinned=None, pinned_label:
 
 def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, time: float | None = None,
                     samples: int = 0, seed: int | None = None, exported: datetime | None = None,
-                    pinned=None, pinned_label: str = "", pinned_elements=None) -> str:
+                    pinned=None, pinned_label: str = "", pinned_elements=None, ensemble=None,
+                    selected: str | None = None) -> str:
     """The snapshot page of ``system`` as HTML text.
 
     Parameters
@@ -160,6 +173,10 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     pinned_elements : ephemeris.OrbitalElements, optional
         The Keplerian elements of ``pinned`` (its planets' positions in Layout; without them only its
         orbits are drawn).
+    ensemble : FinishedEnsemble, optional
+        An N-body ensemble run in the dashboard, shown in the Dynamics section.
+    selected : str, optional
+        The planet highlighted in every view (the first one by default).
     """
     moment = (exported or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
     info = Provenance(SystemSource(source_name, bytes(source_bytes)), moment.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -167,7 +184,8 @@ def render_snapshot(system: System, source_name: str, source_bytes: bytes, *, ti
     text = dumps_system(system)
     meta = (f'<meta name="{SYSTEM_META}" content="{base64.b64encode(text.encode("utf-8")).decode("ascii")}">'
             f"<style>{look.PAGE_CSS}</style>")
-    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, pinned_elements),
+    page, _ = render_offline(snapshot_layout(system.copy(), info, pinned, pinned_label, pinned_elements, ensemble,
+                                             selected),
                              f"{system.name} \u2013 orbitdeck snapshot", extra_head=meta + PRINT_PAGE_CSS)
     return page
 

@@ -103,6 +103,27 @@ def overlap_spacing(epsilon):
     return OVERLAP_COEFFICIENT * np.asarray(epsilon) ** OVERLAP_EXPONENT
 
 
+def overlap_period_ratio(epsilon, mu_inner, mu_outer):
+    """Period ratio P'/P at the edge of the zone of overlapping first-order resonances.
+
+    The edge (a' - a) / a = 1.46 epsilon^(2/7) of :func:`overlap_spacing`
+    (Deck, Payne & Holman 2013, ApJ 774, 129) taken through Kepler's third
+    law with each planet's own mass, P^2 = 4 pi^2 a^3 / (G (M* + m)), as the
+    semi-major axes are derived:
+    P'/P = (1 + 1.46 epsilon^(2/7))^(3/2) sqrt((1 + mu) / (1 + mu')).
+    A pair whose period ratio lies below it is inside the zone (nearly
+    circular orbits).
+
+    Parameters
+    ----------
+    epsilon : array_like
+        (m + m') / M*.
+    mu_inner, mu_outer : array_like
+        m / M* and m' / M*.
+    """
+    return (1.0 + overlap_spacing(epsilon)) ** 1.5 * np.sqrt((1.0 + mu_inner) / (1.0 + mu_outer))
+
+
 def in_overlap_zone(a_in, a_out, epsilon):
     """Whether a pair lies inside the first-order resonance-overlap zone of :func:`overlap_spacing`."""
     return (a_out - a_in) / a_in < overlap_spacing(epsilon)

@@ -253,3 +253,33 @@ def ttv_signal(amplitude, longitude):
     result takes the amplitude's unit.
     """
     return np.imag(amplitude * np.exp(1j * np.asarray(longitude)))
+
+
+def ttv_curves(time, amplitude_inner, amplitude_outer, period_inner, period_outer, transit_inner, transit_outer, j):
+    """The TTVs of both planets of a pair over time (LXW12 Sect. 2, eqs. 8-9).
+
+    delta t = Im[V exp(i lambda^j)] and delta t' = Im[V' exp(i lambda^j)] (see :func:`ttv_signal`), with
+    lambda^j = j lambda' - (j-1) lambda from :func:`longitude_of_conjunctions`:
+    two sinusoids of the super-period 1 / |j/P' - (j-1)/P| (LXW12 Sect. 2),
+    in antiphase when Z_free = 0 (V and V' of opposite signs).
+
+    Parameters
+    ----------
+    time : array_like
+        Times (BJD_TDB, or any time in the unit of the periods).
+    amplitude_inner, amplitude_outer : complex
+        V and V' (:func:`ttv_amplitude_inner`, :func:`ttv_amplitude_outer`); the curves take their unit.
+    period_inner, period_outer : float
+        P and P'.
+    transit_inner, transit_outer : float
+        A mid-transit time of each planet (same unit and origin as ``time``).
+    j : int
+        The commensurability j:j-1.
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        delta t of the inner planet and delta t' of the outer planet at ``time``.
+    """
+    longitude = longitude_of_conjunctions(time, period_inner, period_outer, transit_inner, transit_outer, j)
+    return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_outer, longitude)

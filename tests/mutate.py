@@ -384,6 +384,17 @@ MUTANTS = (
            "return np.where(critical_relative > 0.0, beta, 0.0)", "beta: no AMD is stable where C_c = 0"),
     Mutant("models/amd.py", "return total_amd / circular_momentum_innermost", "return total_amd / circular_momentum_innermost / 4.0",
            "star collision: C / Lambda_1"),
+    # -- resonance overlap as a period ratio, TTV curves over time -----------------------------------
+    Mutant("models/dynamics.py", "return (1.0 + overlap_spacing(epsilon)) ** 1.5",
+           "return (1.0 + overlap_spacing(epsilon)) ** 1.4", "overlap edge in period ratio: Kepler's 3/2"),
+    Mutant("models/dynamics.py", "np.sqrt((1.0 + mu_inner) / (1.0 + mu_outer))",
+           "np.sqrt((1.0 + mu_outer) / (1.0 + mu_inner))", "overlap edge in period ratio: planet masses in Kepler's law"),
+    Mutant("models/ttv.py", "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_outer, longitude)",
+           "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_inner, longitude)",
+           "TTV curves: the outer planet's amplitude"),
+    Mutant("models/ttv.py", "return ttv_signal(amplitude_inner, longitude), ttv_signal(amplitude_outer, longitude)",
+           "return ttv_signal(amplitude_inner, -longitude), ttv_signal(amplitude_outer, longitude)",
+           "TTV curves: the sense of the longitude of conjunctions"),
     # -- commensurabilities, super-period, three-body relations ------------------------------------
     Mutant("models/resonances.py", "MAX_ORDER = 3", "MAX_ORDER = 2", "commensurability table: third order"),
     Mutant("models/resonances.py", "return np.asarray(period_ratio) * q / p - 1.0",

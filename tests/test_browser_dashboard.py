@@ -29,7 +29,7 @@ VIEWPORT = {"width": 1500, "height": 1100}
 LAPTOP = {"width": 1280, "height": 900}
 #: a column that only one data source of each view has, to find it in the browser
 MARKER_COLUMNS = {"Layout": "f_deg", "Neighbour skies": "arcsec_range", "Period ladder": "other_text",
-                  "Flux & temperature": "teq", "Observability": "tsm_range", "Dynamics": "ratio"}
+                  "Flux & temperature": "teq", "Observability": "tsm_range", "Dynamics": "edge_range"}
 #: the column of the semi-major axis in the tables
 A_FIELD = "semi_major_axis_au"
 

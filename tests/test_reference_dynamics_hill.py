@@ -133,3 +133,35 @@ def test_derive_follows_gladmans_criterion_for_unequal_masses_and_an_eccentric_o
         planets = [dict(name="b", period=10.0, radius=1.0, mass=m_in, eccentricity=e_in),
                    dict(name="c", period=10.0 * boundary * factor, radius=2.0, mass=m_out)]
         assert bool(derive(make_system(planets)).pairs["hill_stable"][0]) == stable, factor
+def test_overlap_edge_as_a_period_ratio_matches_keplers_law_with_astropy():
+    # the edge a' = a (1 + 1.46 epsilon^(2/7)) (Deck, Payne & Holman 2013), each period from Kepler's third law
+    # P = 2 pi sqrt(a^3 / (G (M* + m))) with astropy's constants and units: an independent computation
+    import astropy.constants as const
+    import astropy.units as u
+
+    star, m_in, m_out = 0.3 * const.M_sun, 4.0 * const.M_earth, 9.0 * const.M_earth
+    mu_in, mu_out = float(m_in / star), float(m_out / star)
+    epsilon = mu_in + mu_out
+    a_in = 0.05 * u.au
+    a_out = a_in * (1.0 + 1.46 * epsilon ** (2.0 / 7.0))
+
+    def period(a, m):
+        return (2.0 * np.pi * np.sqrt(a**3 / (const.G * (star + m)))).to(u.day)
+
+    expected = float(period(a_out, m_out) / period(a_in, m_in))
+    assert dynamics.overlap_period_ratio(epsilon, mu_in, mu_out) == pytest.approx(expected, rel=1e-13)
+
+
+@pytest.mark.parametrize("masses", [(4.0, 9.0), (9.0, 4.0)])
+def test_derive_puts_a_pair_in_the_overlap_zone_exactly_below_the_edge(make_system, masses):
+    # the period-ratio edge and the flag from the semi-major axes agree to 1e-9: the mass term
+    # sqrt((1 + mu) / (1 + mu')) of Kepler's law (about 1e-5 here) is resolved
+    star = dict(name="s", mass=0.3, radius=0.3, teff=3300.0)
+
+    def pair(ratio):
+        return derive(make_system([dict(name="b", period=5.0, radius=1.5, mass=masses[0]),
+                                   dict(name="c", period=5.0 * ratio, radius=2.0, mass=masses[1])], star=star))
+
+    edge = pair(1.2).pairs["overlap_period_ratio"][0]
+    assert pair(edge * (1.0 - 1e-9)).pairs["in_overlap_zone"][0]
+    assert not pair(edge * (1.0 + 1e-9)).pairs["in_overlap_zone"][0]

@@ -300,3 +300,34 @@ def test_free_eccentricity_assumption_reaches_the_amplitudes(make_system):
     a = derived.planets["semi_major_axis_au"]
     f = ttv.resonance_coefficient_f(a[0] / a[1], 3)
     assert derived.pairs["ttv_inner_min"][0] / before == pytest.approx((-f - 0.75) / -f, rel=1e-9)
+
+
+def test_curves_of_both_planets_worked_from_the_mean_longitudes():
+    # LXW12 Sect. 2: delta t = Re[V e^(i lambda^j)], delta t' = Re[V' e^(i lambda^j)], lambda^j = j lambda' -
+    # (j - 1) lambda, each mean longitude 2 pi (t - T) / P from a transit (zero at transit); worked here with
+    # plain numpy at a few times
+    period, period_out, j = 3.1, 4.72, 3
+    transit, transit_out = 1000.37, 1001.9
+    v, v_out = 2e-3 - 1e-3j, -1.5e-3 + 0.4e-3j
+    t = np.array([1000.37, 1003.0, 1017.25, 1200.0, 1333.3])
+    lam, lam_out = 2 * np.pi * (t - transit) / period, 2 * np.pi * (t - transit_out) / period_out
+    angle = j * lam_out - (j - 1) * lam
+    inner, outer = ttv.ttv_curves(t, v, v_out, period, period_out, transit, transit_out, j)
+    np.testing.assert_allclose(inner, v.real * np.cos(angle) - v.imag * np.sin(angle), rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(outer, v_out.real * np.cos(angle) - v_out.imag * np.sin(angle), rtol=1e-12,
+                               atol=1e-15)
+
+
+def test_curves_at_a_double_transit_and_one_super_period_later():
+    # both planets in transit at t0: lambda = lambda' = 0, so delta t = Re V and delta t' = Re V'; the same
+    # again one super-period 1 / |j/P' - (j-1)/P| later (LXW12 Sect. 2)
+    period, period_out, j, t0 = 10.0, 15.15, 3, 2461000.25
+    super_period = 1.0 / abs(j / period_out - (j - 1) / period)
+    v, v_out = 3e-3 + 2e-3j, -1e-3 - 0.5e-3j
+    at = np.array([t0, t0 + super_period])
+    inner, outer = ttv.ttv_curves(at, v, v_out, period, period_out, t0, t0, j)
+    np.testing.assert_allclose(inner, [v.real, v.real], rtol=1e-9)
+    np.testing.assert_allclose(outer, [v_out.real, v_out.real], rtol=1e-9)
+    # a quarter of a super-period on, lambda^j has turned by -pi/2 (j/P' < (j-1)/P here): delta t = Im V
+    quarter = ttv.ttv_curves(t0 + super_period / 4, v, v_out, period, period_out, t0, t0, j)
+    assert quarter[0] == pytest.approx(v.imag, rel=1e-9) and quarter[1] == pytest.approx(v_out.imag, rel=1e-9)

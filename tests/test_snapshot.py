@@ -74,6 +74,29 @@ def test_provenance_names_version_time_file_hash_and_assumptions(demo_page):
         assert expected in demo_page, expected
 
 
+def test_a_snapshot_without_an_ensemble_says_so(demo_page):
+    assert "No N-body ensemble was run for this state" in demo_page
+
+
+def test_the_dashboard_snapshot_carries_a_finished_ensemble():
+    import time
+
+    from orbitdeck.dashboard.app import OrbitDeckApp
+
+    app = OrbitDeckApp(load_system(demo_path()))
+    section = app.views["Dynamics"].ensemble
+    section.draws.value, section.orbits.value = 2, 30
+    section.start()
+    section.job.join(timeout=120)
+    section.poll()
+    result = section.finished.result
+    page = app.controls._snapshot().getvalue().decode("utf-8")
+    low, high = result.stable_interval
+    # (the page holds the text inside the Bokeh document's JSON: its dash is written \u2013 there)
+    assert "Stable to the end: 100.0 %" in page and f"Wilson interval {100 * low:.1f}" in page
+    assert "No N-body ensemble was run" not in page and "earlier state" not in page
+
+
 def test_sampled_snapshot_states_samples_and_seed():
     page = _snapshot(load_system(demo_path()), samples=200, seed=11)
     assert "200 Monte Carlo samples, seed 11" in page

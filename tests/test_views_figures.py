@@ -24,7 +24,7 @@ def app():
 
 
 @pytest.mark.parametrize("title", ["Layout", "Neighbour skies", "Period ladder", "Flux & temperature",
-                                   "Observability", "Bulk & atmosphere", "Transit planner"])
+                                   "Observability", "Dynamics", "Bulk & atmosphere", "Transit planner"])
 def test_each_view_saves_through_matplotlib(app, title, tmp_path):
     figure = app.views[title].figure("matplotlib")
     path = tmp_path / "figure.png"

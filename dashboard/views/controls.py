@@ -402,14 +402,18 @@ class Controls:
         return io.BytesIO(dumps_system(self.app.system).encode("utf-8"))
 
     def _snapshot(self):
-        """The offline snapshot of the session's current state (edits, time and draws included)."""
+        """The offline snapshot of the session's current state (edits, time, draws, the selected planet and a
+        finished N-body ensemble included)."""
         from orbitdeck.dashboard.snapshot import render_snapshot
+
+        from .dynamics import finished_ensemble
 
         app = self.app
         page = render_snapshot(app.system, app.source.name, app.source.data, time=app.time,
                                samples=app.draws, seed=app.seed if app.draws else None,
                                pinned=app.pinned, pinned_label=app.pinned_label,
-                               pinned_elements=app.pinned_elements)
+                               pinned_elements=app.pinned_elements, ensemble=finished_ensemble(app),
+                               selected=app.selected)
         return io.BytesIO(page.encode("utf-8"))
 
     def _figures(self):

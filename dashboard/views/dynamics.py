@@ -1,320 +1,423 @@
-"""Dynamics: predicted TTV curves, AMD stability and resonance-overlap zones of the adjacent pairs.
+"""Dynamics: TTV curves of a chosen pair, AMD stability and resonance overlap of every pair, N-body ensembles.
 
-Three HoloViews figures rendered with Bokeh, rebuilt when the derived state
-changes (only while the tab is shown in a served page):
+* The TTVs of the chosen adjacent pair's two planets over two super-periods
+  (Lithwick, Xie & Wu 2012): the curves from ``ttv.ttv_curves`` (delta t = Im[V exp(i lambda^j)]) with the
+  complex amplitudes of ``Derived.extra``, each in a band spanning the
+  16th-84th percentile amplitudes of the Monte Carlo draws (the nominal
+  phase); after an N-body ensemble (:mod:`.ensemble_run`), the median and
+  16th-84th percentile TTVs of its stable draws at each transit beside them.
+* beta = AMD / critical AMD of every pair against 1 (Laskar & Petit 2017
+  with the resonance-overlap correction of Petit, Laskar & Boue 2017).
+* each pair's period ratio against the zone where first-order resonances
+  overlap, up to the edge ``overlap_period_ratio`` of the pairs table
+  (Deck, Payne & Holman 2013), and the j:j-1 rungs.
+* the registry's table of the pairs' dynamics quantities.
 
-* the TTV curves of the chosen pair's two planets over two super-periods
-  (Lithwick, Xie & Wu 2012), delta t = Im[V exp(i lambda^j)], the band
-  spanning the 16th-84th percentile amplitudes of the Monte Carlo draws;
-* beta = C / C_c of every pair against 1 (Laskar & Petit 2017 with the
-  resonance-overlap correction of Petit, Laskar & Boue 2017);
-* each pair's period ratio against the shaded zone where first-order
-  resonances overlap (Deck, Payne & Holman 2013) and the first-order rungs.
-
-The view is self-contained: it reads ``app.derived``, ``app.system`` and
-``app.selected`` and sets ``app.selected`` to the inner planet of the pair
-chosen here (in its list or its table), so every other view highlights it. Every number is a model
-estimate under the assumptions said beside the figures.
+Choosing a pair (its list, a table row, a bar or a disc) selects its inner
+planet everywhere; selecting a planet elsewhere chooses a pair it belongs
+to (as the inner planet if it is one). Every number is a model estimate
+under the assumptions said beside the figures.
 """
 
 from __future__ import annotations
 
-import html
-
 import holoviews as hv
 import numpy as np
-import pandas as pd
 import panel as pn
 import param
 
-from orbitdeck.models import dynamics, ttv
-from orbitdeck.models.constants import M_EARTH, M_SUN
+from orbitdeck.models import ttv
+from orbitdeck.models.constants import DAY, MINUTE
 
 from . import palette
-from .plotting import load_backend
+from .common import (View, as_floats, batched, escape, fmt, interval, interval_caption, note, section,
+                     select_on_tap, set_section, span_texts, while_shown)
+from .dynamics_plots import (BETA_LAYERS, BETA_STYLES, OVERLAP_LAYERS, OVERLAP_STYLES, TTV_LAYERS, TTV_STYLES)
+from .ensemble_run import EnsembleSection
+from .entries import Picker
+from .plotting import LayeredPlot, extent
+from .tables import caution_html, quantities_of, table_frame, table_widget
 
+VIEW = "dynamics"
 #: points along each TTV curve
 CURVE_POINTS = 600
-#: beta bars are drawn up to this height; taller ones are clipped and labelled with their value
+#: beta bars are drawn up to this height; taller ones (and infinite ones) are clipped and labelled
 BETA_AXIS_CAP = 5.0
-FIGURE_HEIGHT = 300
+MINUTES_PER_DAY = DAY / MINUTE
+#: widths of the analytic TTV curves [px]: the selected planet's is wider
+CURVE_WIDTH, SELECTED_CURVE_WIDTH = 2.2, 3.6
+#: the largest j of the j:j-1 rungs drawn
+MAX_RUNG_J = 12
 
 
 def pair_labels(derived) -> list[str]:
-    """"b-c", "c-d", ... of the adjacent pairs."""
-    return [f"{a}-{b}" for a, b in zip(derived.pairs["inner"], derived.pairs["outer"])]
+    """"b–c", "c–d", ... of the adjacent pairs."""
+    return [f"{a}\u2013{b}" for a, b in zip(derived.pairs["inner"], derived.pairs["outer"])]
 
 
-def complex_amplitudes(derived, system, index: int) -> tuple[complex, complex]:
-    """The complex TTV amplitudes V and V' [min] of pair ``index`` (Lithwick, Xie & Wu 2012, eqs. 8-9),
-    with the moduli derive() gives; NaN where the formulae do not apply."""
-    pairs, planets = derived.pairs, derived.planets
-    size_in, size_out = pairs["ttv_inner_min"][index], pairs["ttv_outer_min"][index]
-    if not (np.isfinite(size_in) and np.isfinite(size_out)):
-        return complex(np.nan, np.nan), complex(np.nan, np.nan)
-    j, delta = int(pairs["p"][index]), float(pairs["delta"][index])
-    a = planets["semi_major_axis_au"]
-    mass = planets["mass_mearth"] * M_EARTH / (derived.star["mass_msun"] * M_SUN)
-    alpha = a[index] / a[index + 1]
-    z_free = ttv.free_eccentricity(system.assumptions.free_eccentricity_amplitude,
-                                   system.assumptions.free_eccentricity_angle)
-    inner = ttv.ttv_amplitude_inner(1.0, mass[index + 1], j, delta, ttv.resonance_coefficient_f(alpha, j), z_free)
-    outer = ttv.ttv_amplitude_outer(1.0, mass[index], j, delta, ttv.resonance_coefficient_g(alpha, j), z_free)
-    # the phases from the formulae, the moduli as derived (the same numbers, one source for the tables)
-    return complex(size_in * inner / abs(inner)), complex(size_out * outer / abs(outer))
-
-
-class DynamicsView(param.Parameterized):
-    """The "Dynamics" view of one app: TTV curves of one pair, AMD beta of all, overlap zones."""
+class DynamicsView(View):
+    """The "Dynamics" view of one app."""
 
     title = "Dynamics"
-    tab = title
-
-    pair = param.Selector(default=None, objects=[], allow_None=True, doc="The pair whose TTV curves are shown")
+    pair = param.Integer(default=None, allow_None=True, doc="Index of the adjacent pair whose TTVs are shown")
 
     def __init__(self, app, **params):
-        super().__init__(**params)
-        load_backend("bokeh")   # HoloViews' Bokeh options, without changing the current backend
-        self.app = app
-        self.pair_select = pn.widgets.Select(label="pair for the TTV curves", options=[], width=220)
-        self.pair_select.param.watch(lambda event: setattr(self, "pair", event.new), "value")
-        self.ttv_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
-        self.beta_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
-        self.overlap_pane = pn.pane.HoloViews(None, backend="bokeh", sizing_mode="stretch_width")
+        super().__init__(app, **params)
+        self.quantities = quantities_of(VIEW, "pairs")
+        self._labels = pair_labels(app.derived)
+        with param.parameterized.discard_events(self):   # nothing is drawn yet
+            self.pair = self._pair_of(app.selected)
+        self.pair_select = Picker(label="pair for the TTV curves", options=self._options(), value=self.pair,
+                                  width=200)
+        self.pair_select.param.watch(self._on_pick, "value")
         assumptions = app.system.assumptions
         self.z_amplitude = pn.widgets.FloatInput(label="|Z_free| (free eccentricity, 0 to < 1)", step=0.001,
                                                  value=assumptions.free_eccentricity_amplitude, width=220)
         self.z_angle = pn.widgets.FloatInput(label="angle of Z_free [deg]", step=5.0,
                                              value=assumptions.free_eccentricity_angle, width=160)
-        self.z_message = pn.pane.HTML("", styles={"color": "#8a2d00", "font-size": "12px"})
+        self.z_message = pn.pane.HTML("", styles={"color": palette.WARNING_INK, "font-size": "12px"})
         self.z_amplitude.param.watch(lambda e: self._set_free("free_eccentricity_amplitude", e.new), "value")
         self.z_angle.param.watch(lambda e: self._set_free("free_eccentricity_angle", e.new), "value")
-        self.note = pn.pane.HTML("", sizing_mode="stretch_width", styles={"font-size": "12px", "color": "#444"})
-        self.table = pn.widgets.Tabulator(pd.DataFrame(), disabled=True, show_index=False, height=230,
-                                          selectable=1, sizing_mode="stretch_width")
+        self.ensemble = EnsembleSection(app, self.title, self._on_ensemble)
+        self.ttv = LayeredPlot(TTV_LAYERS, TTV_STYLES, self._ttv_data())
+        self.beta = LayeredPlot(BETA_LAYERS, BETA_STYLES, self._beta_data())
+        self.overlap = LayeredPlot(OVERLAP_LAYERS, OVERLAP_STYLES, self._overlap_data())
+        inner_names = lambda: list(self.app.derived.pairs["inner"])   # noqa: E731  (a row picks its inner planet)
+        self.taps = (select_on_tap(app, self.beta.dynamic["bars"], inner_names),
+                     select_on_tap(app, self.overlap.dynamic["pairs"], inner_names))
+        self.ttv_title, self.ttv_caption, self.pairs_caption = section(), note(), note()
+        self.table = table_widget(self._frame(), self.quantities, frozen=("pair",))
         self.table.param.watch(self._on_row, "selection")
-        app.param.watch(self._on_derived, "derived")
-        app.param.watch(self._on_selected, "selected")
-        self.param.watch(self._on_pair, "pair")
-        self.update()
+        self.caution = note()
+        if "selected_pair" in app.param:
+            app.param.watch(self._on_selected_pair, "selected_pair")
+            app.selected_pair = self.pair
+        self._refresh()
 
-    # -- following the app ---------------------------------------------------------------------
-    def _deferred(self, method) -> bool:
-        """True (and ``method`` kept for later) while the view's tab is hidden in a served page."""
-        if self.app.tab_hidden(self.tab):
-            self.app.mark_stale(self.tab, (id(self), method.__name__), method)
-            return True
-        return False
+    # -- which pair ------------------------------------------------------------------------------
+    def _options(self) -> dict:
+        return {label: index for index, label in enumerate(self._labels)}
 
-    def _on_derived(self, *_):
-        if not self._deferred(self.update):
-            self.update()
+    def _pair_of(self, name):
+        """The pair of planet ``name``: the one it is the inner planet of, else the one it ends; else the first."""
+        d = self.app.derived
+        inner, outer = list(d.pairs["inner"]), list(d.pairs["outer"])
+        if name in inner:
+            return inner.index(name)
+        if name in outer:
+            return outer.index(name)
+        return 0 if inner else None
 
-    def _on_selected(self, *_):
-        labels = list(self.param.pair.objects)
-        name = self.app.selected
-        if not labels or name is None or (self.pair and name in self.pair.split("-")):
+    def _choose(self, index) -> None:
+        """A pair chosen here (list, table row): show it and select its inner planet everywhere."""
+        if index is None or not 0 <= index < len(self._labels):
             return
-        # the pair where the planet is the inner one, else the one where it is the outer
-        touching = sorted((label.split("-").index(name), label) for label in labels if name in label.split("-"))
-        if touching:
-            self.pair = touching[0][1]
+        self.pair = index
+        self.app.selected = str(self.app.derived.pairs["inner"][index])
+
+    @batched
+    def _on_pick(self, event):
+        if event.new != self.pair:
+            self._choose(event.new)
+
+    @batched
+    def _on_row(self, event):
+        if event.new and event.new[0] != self.pair:
+            self._choose(event.new[0])
+
+    def _on_selected_pair(self, event):
+        if event.new != self.pair and (event.new is None or 0 <= event.new < len(self._labels)):
+            self.pair = event.new
+
+    @param.depends("pair", watch=True)
+    def _on_pair(self):
+        if "selected_pair" in self.app.param:
+            self.app.selected_pair = self.pair
+        self._show()
+
+    @param.depends("app.selected", watch=True)
+    def _on_selected(self):
+        d, name = self.app.derived, self.app.selected
+        if self._labels != pair_labels(d):
+            return   # a new derivation comes with it: _on_derived chooses the pair
+        current = self.pair is not None and name in (d.pairs["inner"][self.pair], d.pairs["outer"][self.pair])
+        if current or self.pair is None:
+            self._show()
+        else:
+            self.pair = self._pair_of(name)
+
+    @param.depends("app.derived", watch=True)
+    def _on_derived(self):
+        before = self._labels[self.pair] if self.pair is not None else None
+        self._labels = pair_labels(self.app.derived)
+        index = self._labels.index(before) if before in self._labels else self._pair_of(self.app.selected)
+        with param.parameterized.discard_events(self):
+            self.pair = index
+        if "selected_pair" in self.app.param:
+            self.app.selected_pair = index
+        self._refresh()
+
+    def _on_ensemble(self):
+        """The N-body results shown changed (a run ended, a snapshot's results): redraw their TTVs."""
+        self._show()
 
     def _set_free(self, field: str, value) -> None:
         """Put an entered free eccentricity into the system's assumptions, or say why not."""
+        assumptions = self.app.system.assumptions
+        if self.app.read_only:
+            self.z_message.object = "This page follows a presenter: its system cannot be edited here."
+            self.z_amplitude.value = assumptions.free_eccentricity_amplitude
+            self.z_angle.value = assumptions.free_eccentricity_angle
+            return
+        if value == getattr(assumptions, field):
+            return
         try:
-            setattr(self.app.system.assumptions, field, value)
+            setattr(assumptions, field, value)
         except (ValueError, TypeError):
-            declared = type(self.app.system.assumptions).param[field]
-            self.z_message.object = html.escape(f"{field.replace('_', ' ')}: {value} is outside {declared.bounds}")
+            declared = type(assumptions).param[field]
+            self.z_message.object = escape(f"{field.replace('_', ' ')}: {value} is outside {declared.bounds}")
             return
         self.z_message.object = ""
 
-    def _on_row(self, event):
-        """A row picked in the table chooses its pair."""
-        labels = list(self.param.pair.objects)
-        if event.new and 0 <= event.new[0] < len(labels):
-            self.pair = labels[event.new[0]]
-
-    def _on_pair(self, *_):
-        if self.pair is not None:
-            inner = self.pair.split("-")[0]
-            if self.app.selected not in self.pair.split("-"):
-                self.app.selected = inner
-        if not self._deferred(self.update_figures):
-            self.update_figures()
-
-    def update(self, *_):
-        """Refresh the pair choices and then everything shown."""
+    # -- showing -----------------------------------------------------------------------------------
+    @while_shown
+    @batched
+    def _refresh(self):
         d = self.app.derived
         assumptions = self.app.system.assumptions
         self.z_amplitude.value = assumptions.free_eccentricity_amplitude   # a system loaded or edited elsewhere
         self.z_angle.value = assumptions.free_eccentricity_angle
-        labels = pair_labels(d) if d is not None else []
-        keep = self.pair if self.pair in labels else None
-        if keep is None and labels:
-            chosen = [label for label in labels if self.app.selected in label.split("-")]
-            keep = chosen[0] if chosen else labels[0]
-        with param.parameterized.discard_events(self):
-            self.param.pair.objects = labels
-            self.pair = keep
-        self.pair_select.param.update(options=labels, value=keep)   # at once: no passing value fires
-        self.update_figures()
+        self.pair_select.param.update(options=self._options(), value=self.pair)
+        self.table.value = self._frame()
+        self.caution.object = caution_html(self.quantities, d)
+        self.ensemble.follow_state()
+        self._show()
 
-    def update_figures(self, *_):
+    @while_shown
+    @batched
+    def _show(self):
         d = self.app.derived
-        if d is None or not len(d.pairs["inner"]):
-            for pane in (self.ttv_pane, self.beta_pane, self.overlap_pane):
-                pane.object = None
-            self.note.object = "A single planet: no adjacent pairs."
-            return
-        index = pair_labels(d).index(self.pair) if self.pair in pair_labels(d) else 0
-        self.ttv_pane.object = self.ttv_figure(d, index)
-        self.beta_pane.object = self.beta_figure(d, index)
-        self.overlap_pane.object = self.overlap_figure(d, index)
-        self.note.object = self.caution(d)
-        self.table.value = self.pair_frame(d)
-        if self.table.selection != [index]:
-            self.table.selection = [index]
+        self.ttv.update(**self._ttv_data())
+        self.beta.update(**self._beta_data())
+        self.overlap.update(**self._overlap_data())
+        if self.pair_select.value != self.pair:
+            self.pair_select.value = self.pair
+        wanted = [] if self.pair is None else [self.pair]
+        if self.table.selection != wanted:
+            self.table.selection = wanted
+        set_section(self.ttv_title, self._ttv_heading(d))
+        self.ttv_caption.object = self._ttv_note(d)
+        self.pairs_caption.object = self._pairs_note(d)
 
-    # -- figures --------------------------------------------------------------------------------
-    def ttv_figure(self, d, index: int):
-        system = self.app.system
-        v_in, v_out = complex_amplitudes(d, system, index)
-        labels = pair_labels(d)
-        title = f"Predicted TTVs of {labels[index]} over two super-periods (Lithwick, Xie & Wu 2012)"
-        if not np.isfinite(abs(v_in)):
-            return hv.Text(0.5, 0.5, f"{labels[index]}: no near-resonant TTV prediction (the nearest "
-                                     "commensurability is not first order, or |Delta| is outside the formula's "
-                                     "range)").opts(title=title, height=FIGURE_HEIGHT, responsive=True,
-                                                     xaxis=None, yaxis=None, toolbar=None)
-        inner, outer = system.planets[index], system.planets[index + 1]
-        period_in, period_out = inner.period, outer.period
-        super_period = float(d.pairs["super_period_d"][index])
-        start = system.epoch
-        t = np.linspace(start, start + 2.0 * super_period, CURVE_POINTS)
-        j = int(d.pairs["p"][index])
-        longitude = ttv.longitude_of_conjunctions(
-            t, period_in, period_out, inner.transit_time if inner.transit_time is not None else start,
-            outer.transit_time if outer.transit_time is not None else start, j)
-        colours = self.app.colours.colours(system.planet_names)
-        bands = (d.intervals or {}).get("pairs", {})
-        layers = []
-        for name, amplitude, key, colour in ((inner.name, v_in, "ttv_inner_min", colours[index]),
-                                            (outer.name, v_out, "ttv_outer_min", colours[index + 1])):
-            curve = ttv.ttv_signal(amplitude, longitude)
-            if key in bands:
-                low, high = (float(b[index]) for b in bands[key])
-                unit = curve / abs(amplitude)
-                lower, upper = np.minimum(low * unit, high * unit), np.maximum(low * unit, high * unit)
-                layers.append(hv.Spread((t, curve, curve - lower, upper - curve), kdims="time",
-                                        vdims=["ttv", "below", "above"], label=f"{name} 16-84 %")
-                              .opts(color=colour, alpha=0.2, line_alpha=0))
-            layers.append(hv.Curve((t, curve), kdims="time", vdims="ttv", label=f"planet {name}")
-                          .opts(color=colour, line_width=2.5 if name == self.app.selected else 1.6))
-        return hv.Overlay(layers).opts(
-            title=title, height=FIGURE_HEIGHT, responsive=True, xlabel="time [BJD_TDB, d]", xformatter="%.1f",
-            ylabel="TTV (model estimate) [min]", legend_position="top_right", show_grid=True)
+    # -- the TTV plot ------------------------------------------------------------------------------
+    def _prediction(self, d, k):
+        """(V, V' [min], super-period [d], j) of pair ``k``, or None where the formulae do not apply."""
+        v_in = complex(d.extra["ttv_inner_complex"][k]) * MINUTES_PER_DAY
+        v_out = complex(d.extra["ttv_outer_complex"][k]) * MINUTES_PER_DAY
+        super_period = float(d.pairs["super_period_d"][k])
+        if not all(np.isfinite(x) for x in (abs(v_in), abs(v_out), super_period)):
+            return None
+        return v_in, v_out, super_period, int(d.pairs["p"][k])
 
-    def beta_figure(self, d, index: int):
-        labels = pair_labels(d)
-        beta = np.asarray(d.pairs["amd_beta"], dtype=float)
+    def _ttv_data(self) -> dict:
+        d, k = self.app.derived, self.pair
+        lines = {"xs": [], "ys": [], "colour": [], "width": []}
+        bands = {"xs": [], "ys": [], "colour": []}
+        window, names, colours = (0.0, 1.0), [], []
+        if k is not None:
+            names = [str(d.pairs["inner"][k]), str(d.pairs["outer"][k])]
+            colours = self.colours(names)
+            epoch = self.app.system.epoch
+            found = self._prediction(d, k)
+            if found is not None:
+                v_in, v_out, super_period, j = found
+                window = (0.0, 2.0 * super_period)
+                t = epoch + np.linspace(*window, CURVE_POINTS)
+                period, tref = self.app.elements.period_d, self.app.elements.tref_d
+                curves = ttv.ttv_curves(t, v_in, v_out, period[k], period[k + 1], tref[k], tref[k + 1], j)
+                ranges = [interval(d, "pairs", key) for key in ("ttv_inner_min", "ttv_outer_min")]
+                for name, colour, curve, amplitude, found_range in zip(names, colours, curves, (v_in, v_out), ranges):
+                    lines["xs"].append(t - epoch)
+                    lines["ys"].append(curve)
+                    lines["colour"].append(colour)
+                    lines["width"].append(SELECTED_CURVE_WIDTH if name == self.app.selected else CURVE_WIDTH)
+                    if found_range is not None and np.isfinite([found_range[0][k], found_range[1][k]]).all():
+                        # the nominal phase, the amplitude at the 16th and 84th percentiles of the draws
+                        low, high = (curve * (r[k] / abs(amplitude)) for r in found_range)
+                        bands["xs"].append(np.concatenate([t - epoch, (t - epoch)[::-1]]))
+                        bands["ys"].append(np.concatenate([np.maximum(low, high), np.minimum(low, high)[::-1]]))
+                        bands["colour"].append(colour)
+            elif self.ensemble.current:
+                r = self.ensemble.finished.result
+                window = (0.0, float(r.orbits * np.median(r.inner_period)))
+            nbody = self.ensemble.ttv_points(names, colours, window, epoch)
+        else:
+            nbody = self.ensemble.ttv_points([], [], window, 0.0)
+        y_lo, y_hi = extent(*lines["ys"], *bands["ys"], nbody["low"], nbody["high"])
+        pad = 0.08 * (y_hi - y_lo) if np.isfinite(y_lo) and y_hi > y_lo else 1.0
+        x_range = window
+        y_range = (y_lo - pad, y_hi + pad) if np.isfinite(y_lo) else (-1.0, 1.0)
+        ranges = {"x_range": x_range, "y_range": y_range}
+        nbody_ranges = {k_: nbody[k_] for k_ in ("x", "low", "high", "colour")}
+        return {"bands": {**bands, **ranges}, "curves": {**lines, **ranges},
+                "nbody_ranges": {**nbody_ranges, **ranges}, "nbody": {**nbody, **ranges}}
+
+    def _ttv_heading(self, d) -> str:
+        if self.pair is None:
+            return "Transit-timing variations: no adjacent pairs"
+        names = [str(d.pairs["inner"][self.pair]), str(d.pairs["outer"][self.pair])]
+        keys = " and ".join(f'<span style="color:{c}">\u25a0</span> {escape(n)} ({role})'
+                            for n, c, role in zip(names, self.colours(names), ("inner", "outer")))
+        return f"Transit-timing variations of {keys}"
+
+    def _ttv_note(self, d) -> str:
+        if self.pair is None:
+            return "A single planet: no adjacent pairs."
+        a = self.app.system.assumptions
+        parts = []
+        if self._prediction(d, self.pair) is None:
+            parts.append(f"{escape(self._labels[self.pair])}: no near-resonant TTV prediction (the nearest "
+                         "commensurability is not first order, |Delta| is outside the formulae's range, or the pair "
+                         "is in the overlap zone).")
+        else:
+            parts.append("Lines: the TTVs Lithwick, Xie &amp; Wu 2012 predict over two super-periods "
+                         f"(super-period {fmt(d.pairs['super_period_d'][self.pair], 4)} d), for the assumed free "
+                         f"eccentricity |Z_free| = {a.free_eccentricity_amplitude:g} at "
+                         f"{a.free_eccentricity_angle:g} deg; time from the system epoch, BJD_TDB "
+                         f"{self.app.system.epoch:.5f}.")
+            caption = interval_caption(d)
+            if caption:
+                parts.append(f"Bands: the amplitudes' {escape(caption)}, at the nominal phase.")
+        if self.ensemble.finished is not None:
+            if self.ensemble.current:
+                parts.append("Dots and bars: median and 16th\u201384th percentiles of the N-body ensemble's "
+                             "stable draws at each transit (residuals from each draw's straight-line ephemeris "
+                             "over the whole run). They hold every planet's pull, the lines only this pair's; the "
+                             "draws start from the file's eccentricities, so their free eccentricity need not be "
+                             "the one assumed above.")
+                r = self.ensemble.finished.result
+                span = r.orbits * float(np.median(r.inner_period))
+                window = 2.0 * float(d.pairs["super_period_d"][self.pair])
+                if np.isfinite(window) and span < window:
+                    parts.append(f"The run spans {fmt(span, 4)} d, less than the two super-periods shown: each "
+                                 "draw's straight line takes up part of the signal.")
+            else:
+                parts.append("The N-body results below belong to an earlier state of the system and are not drawn.")
+        return " ".join(parts) + " Model estimates, not measurements."
+
+    # -- the AMD and overlap plots ------------------------------------------------------------------
+    def _marks(self, count: int) -> dict:
+        chosen = [i == self.pair for i in range(count)]
+        return {"line_colour": [palette.HIGHLIGHT_COLOUR if c else "#333333" for c in chosen],
+                "line_width": np.array([3.0 if c else 0.6 for c in chosen])}
+
+    def _beta_data(self) -> dict:
+        d = self.app.derived
+        labels = self._labels
+        beta = as_floats(d.pairs["amd_beta"])
         shown = np.where(np.isfinite(beta), np.minimum(beta, BETA_AXIS_CAP), BETA_AXIS_CAP)
-        inner_colours = self.app.colours.colours(d.planet_names)
-        colours = [inner_colours[i] if i == index else palette.MUTED_INK for i in range(len(labels))]
-        frame = pd.DataFrame({"pair": labels, "beta": shown, "colour": colours})
-        bars = hv.Bars(frame, kdims="pair", vdims=["beta", "colour"]).opts(color="colour", alpha=0.8)
-        layers = [bars, hv.HLine(1.0).opts(color=palette.HIGHLIGHT_COLOUR, line_width=1.5, line_dash="dashed")]
-        bounds = (d.intervals or {}).get("pairs", {}).get("amd_beta")
-        if bounds is not None:
-            low, high = (np.minimum(np.nan_to_num(np.asarray(b, dtype=float), nan=0.0, posinf=BETA_AXIS_CAP),
-                                    BETA_AXIS_CAP) for b in bounds)
-            layers.append(hv.ErrorBars((labels, shown, shown - low, high - shown), kdims="pair",
-                                       vdims=["beta", "below", "above"]).opts(color="#333333"))
-        clipped = [(label, BETA_AXIS_CAP, "\u221e" if not np.isfinite(b) else f"{b:.3g}")
-                   for label, b in zip(labels, beta) if not b < BETA_AXIS_CAP]
-        if clipped:
-            layers.append(hv.Labels(clipped, kdims=["pair", "beta"], vdims="text").opts(text_font_size="10px",
-                                                                                         yoffset=-0.25))
-        if not d.system.get("amd_kg_m2_s"):
-            layers.append(hv.Text(labels[(len(labels) - 1) // 2], 0.5, "AMD = 0 (circular orbits): beta = 0")
-                          .opts(text_font_size="11px", text_color=palette.MUTED_INK))
+        found = interval(d, "pairs", "amd_beta")
+        if found is not None:
+            low, high = (np.minimum(np.nan_to_num(b, nan=0.0, posinf=BETA_AXIS_CAP), BETA_AXIS_CAP) for b in found)
+        else:   # a bar of no length: Bokeh's whiskers must not start out empty (see DEVELOPERS)
+            low, high = shown, shown
+        top = max(1.2, 1.1 * float(np.max(np.concatenate([shown, high]), initial=0.0)))
+        y_range = (0.0, top)
+        texts = [("infinite (inside the overlap zone)" if b == np.inf else fmt(b, 3)) for b in beta]
+        bars = {"pair": labels, "beta": shown, "colour": self.colours(d.pairs["inner"]), "beta_text": texts,
+                "beta_range": span_texts(*found, digits=3) if found is not None else [""] * len(labels),
+                "y_range": y_range, **self._marks(len(labels))}
+        errors = {"pair": labels, "beta": shown, "minus": np.maximum(shown - low, 0.0),
+                  "plus": np.maximum(high - shown, 0.0), "shown": found is not None, "y_range": y_range}
+        clipped = [i for i, b in enumerate(beta) if not b < BETA_AXIS_CAP]
+        labels_ = {"pair": [labels[i] for i in clipped], "position": np.array(clipped, dtype=float),
+                   "all_pairs": labels, "beta": np.full(len(clipped), BETA_AXIS_CAP),
+                   "text": ["\u221e" if beta[i] == np.inf else fmt(beta[i], 3) for i in clipped], "y_range": y_range}
+        return {"bars": bars, "errors": errors, "one": {"y_range": y_range}, "clipped": labels_}
+
+    def _overlap_data(self) -> dict:
+        d = self.app.derived
+        labels = self._labels
+        n = len(labels)
+        ratio = as_floats(d.pairs["period_ratio"])
+        edge = as_floats(d.pairs["overlap_period_ratio"])
+        top = max(1.1, 1.05 * float(np.max(ratio, initial=1.0)), 1.02 * float(np.max(edge, initial=1.0)))
+        bottom = min(1.0, float(np.min(ratio, initial=1.0))) - 0.03 * (top - 1.0)
+        x_range, y_range = (bottom, top), (-0.7, n - 0.1)
+        rows = np.arange(n, dtype=float)
+        ranges = {"x_range": x_range, "y_range": y_range}
+        rung_j = [j for j in range(2, MAX_RUNG_J + 1) if j / (j - 1) <= top]
+        rungs = np.array([j / (j - 1) for j in rung_j])
+        # names of the rungs far enough apart to be read (the rungs crowd towards 1)
+        named, last = [], np.inf
+        for i, x in enumerate(rungs):
+            if last - x > 0.05 * (top - bottom):
+                named.append(i)
+                last = x
+        found = interval(d, "pairs", "overlap_period_ratio")
+        inside = ["yes" if bool(v) else "no" for v in d.pairs["in_overlap_zone"]]
+        chosen = [i == self.pair for i in range(n)]
+        return {
+            "zones": {"x0": np.full(n, 1.0), "y0": rows - 0.3, "x1": edge, "y1": rows + 0.3, **ranges},
+            "rungs": {"x": rungs, "y0": np.full(rungs.size, -0.7), "y1": np.full(rungs.size, n - 0.45), **ranges},
+            "rung_names": {"x": rungs[named], "y": np.full(len(named), n - 0.45),
+                           "text": [f"{rung_j[i]}:{rung_j[i] - 1}" for i in named], **ranges},
+            "pair_names": {"x": np.full(n, bottom + 0.01 * (top - bottom)), "y": rows + 0.3, "text": labels,
+                           **ranges},
+            "pairs": {"ratio": ratio, "row": rows, "pair": labels, "colour": self.colours(d.pairs["inner"]),
+                      "size": np.array([15.0 if c else 11.0 for c in chosen]),
+                      "nearest": [str(s) for s in d.pairs["nearest"]], "edge": edge,
+                      "edge_range": span_texts(*found, digits=6) if found is not None else [""] * n,
+                      "inside": inside, **self._marks(n), **ranges},
+        }
+
+    def _pairs_note(self, d) -> str:
+        if not self._labels:
+            return ""
         stable = d.system.get("amd_stable")
         share = (d.fractions or {}).get("system", {}).get("amd_stable")
-        verdict = ("AMD-stable" if stable else "not AMD-stable") + (f", {100 * share:.0f} % of draws" if share
-                                                                    is not None else "")
-        return hv.Overlay(layers).opts(
-            title=f"AMD: beta = C / C_c per pair against 1 (system {verdict})", height=FIGURE_HEIGHT,
-            responsive=True, ylim=(0, max(1.2, float(np.max(shown, initial=0.0)) * 1.1)),
-            ylabel="beta (model estimate)", xlabel="adjacent pair", show_legend=False)
-
-    def overlap_figure(self, d, index: int):
-        labels = pair_labels(d)
-        ratio = np.asarray(d.pairs["period_ratio"], dtype=float)
-        mass = d.planets["mass_mearth"] * M_EARTH / (d.star["mass_msun"] * M_SUN)
-        epsilon = mass[:-1] + mass[1:]
-        # Kepler's third law for nearly equal central masses: P2/P1 = (a2/a1)^(3/2)
-        edge = (1.0 + dynamics.overlap_spacing(epsilon)) ** 1.5
-        rows = np.arange(len(labels))
-        zones = hv.Rectangles([(1.0, r - 0.35, e, r + 0.35) for r, e in zip(rows, edge)],
-                              label="overlap zone").opts(color=palette.REFERENCE_COLOUR, alpha=0.4, line_alpha=0)
-        top = max(float(np.max(ratio)) * 1.05, float(np.max(edge)) * 1.02, 1.1)
-        rungs = [j / (j - 1) for j in range(2, 13) if j / (j - 1) <= top]
-        layers = [zones, *[hv.VLine(r).opts(color=palette.MUTED_INK, line_width=1, line_dash="dotted")
-                           for r in rungs]]
-        colours = self.app.colours.colours(d.planet_names)
-        points = pd.DataFrame({"ratio": ratio, "row": rows, "pair": labels, "colour": colours[:len(labels)],
-                               "size": [14 if i == index else 9 for i in rows]})
-        layers.append(hv.Scatter(points, kdims="ratio", vdims=["row", "pair", "colour", "size"])
-                      .opts(color="colour", size="size", line_color=palette.HIGHLIGHT_COLOUR, tools=["hover"]))
-        return hv.Overlay(layers).opts(
-            title="Period ratios and first-order resonance overlap zones (Deck et al. 2013)",
-            height=FIGURE_HEIGHT, responsive=True, xlim=(1.0, top), ylim=(-0.7, len(labels) - 0.3),
-            xlabel="period ratio P_outer / P_inner (dotted: j:j-1)", ylabel="adjacent pair",
-            yticks=list(zip(rows.tolist(), labels)), show_legend=False)
-
-    # -- texts ------------------------------------------------------------------------------------
-    def caution(self, d) -> str:
-        a = self.app.system.assumptions
-        estimated = [str(n) for n, e in zip(d.planets["name"], d.planets["mass_estimated"]) if e]
-        parts = [f"Model estimates. TTV amplitudes near first-order commensurabilities (Lithwick, Xie &amp; Wu "
-                 f"2012) for the assumed free eccentricity |Z_free| = {a.free_eccentricity_amplitude:g} at "
-                 f"{a.free_eccentricity_angle:g} deg; bands show the 16th\u201384th percentile amplitudes "
-                 "(the phase is the nominal one).",
-                 "AMD (Laskar &amp; Petit 2017; Petit, Laskar &amp; Bou\u00e9 2017), Hill stability (Gladman 1993) and "
-                 "resonance overlap (Deck, Payne &amp; Holman 2013) take mutual inclinations as zero."]
-        if estimated:
-            parts.append("Masses of " + html.escape(", ".join(estimated)) + " are estimated from their radii "
-                         "(Chen &amp; Kipping 2017), and so are the numbers that rest on them.")
+        verdict = ("AMD-stable" if stable else "not AMD-stable") + (
+            f" in {100 * share:.0f} % of the draws" if share is not None else "")
+        parts = [f"Left: beta = AMD / critical AMD of each pair (Laskar &amp; Petit 2017; Petit, Laskar &amp; "
+                 f"Bou\u00e9 2017), bars in the inner planet's colour, the dashed line at 1; the system is "
+                 f"{verdict}. Bars above {BETA_AXIS_CAP:g} are cut and labelled."]
+        if not d.system.get("amd_kg_m2_s"):
+            parts.append("AMD = 0 (circular orbits): every beta is 0.")
+        parts.append("Right: each pair's period ratio (a disc in the inner planet's colour) against the shaded "
+                     "zone where first-order resonances overlap (Deck, Payne &amp; Holman 2013) and the dotted "
+                     "j:j\u22121 commensurabilities.")
+        caption = interval_caption(d)
+        if caption:
+            parts.append(f"Error bars: {escape(caption)}.")
+        parts.append("Both take mutual inclinations as zero.")
         return " ".join(parts)
 
-    def pair_frame(self, d) -> pd.DataFrame:
-        pairs = d.pairs
-        bounds = (d.intervals or {}).get("pairs", {})
-        shares = (d.fractions or {}).get("pairs", {})
+    def _frame(self):
+        d = self.app.derived
+        return table_frame(d, VIEW, "pairs", {"pair": self._labels, "nearest p:q": d.pairs["nearest"]},
+                           self.quantities)
 
-        def with_range(key, digits=3):
-            values = np.asarray(pairs[key], dtype=float)
-            if key not in bounds:
-                return [f"{v:.{digits}g}" if np.isfinite(v) else "\u2013" for v in values]
-            low, high = bounds[key]
-            return [f"{v:.{digits}g} ({lo:.{digits}g}\u2013{hi:.{digits}g})" if np.isfinite(v) else "\u2013"
-                    for v, lo, hi in zip(values, low, high)]
-
-        def yes_no(key):
-            verdicts = ["yes" if bool(v) else "no" for v in pairs[key]]
-            if key in shares:
-                verdicts = [f"{v} ({100 * s:.0f} %)" for v, s in zip(verdicts, shares[key])]
-            return verdicts
-
-        return pd.DataFrame({
-            "pair": pair_labels(d), "nearest": list(pairs["nearest"]), "Delta": with_range("delta"),
-            "P_super [d]": with_range("super_period_d", 4), "TTV inner [min]": with_range("ttv_inner_min"),
-            "TTV outer [min]": with_range("ttv_outer_min"), "beta (AMD)": with_range("amd_beta"),
-            "Hill stable": yes_no("hill_stable"), "overlap zone": yes_no("in_overlap_zone")})
-
+    # -- pages and figures ---------------------------------------------------------------------------
     def panel(self):
-        return pn.Column(pn.Row(self.pair_select, self.z_amplitude, self.z_angle, self.z_message), self.note,
-                         self.ttv_pane,
-                         pn.Row(self.beta_pane, self.overlap_pane, sizing_mode="stretch_width"), self.table,
-                         sizing_mode="stretch_width")
+        plot = lambda p: pn.pane.HoloViews(p.live(), sizing_mode="stretch_width", linked_axes=False)  # noqa: E731
+        return pn.Column(
+            pn.Row(self.pair_select, self.z_amplitude, self.z_angle, self.z_message),
+            self.ttv_title, plot(self.ttv), self.ttv_caption,
+            pn.Row(plot(self.beta), plot(self.overlap), sizing_mode="stretch_width"), self.pairs_caption,
+            section("Adjacent pairs"), self.table, self.caution,
+            section("N-body ensemble (model estimates)"), self.ensemble.panel(),
+            sizing_mode="stretch_width")
+
+    def figure(self, backend: str | None = None):
+        plots = [self.ttv.figure(backend), self.beta.figure(backend), self.overlap.figure(backend)]
+        if self.ensemble.finished is not None:
+            plots.append(self.ensemble.survival.figure(backend))
+        layout = hv.Layout(plots).cols(1)
+        return layout.opts(sublabel_format="", vspace=0.35, backend=backend) if backend == "matplotlib" else layout
+
+
+def finished_ensemble(app):
+    """The N-body ensemble a session has run to its end (None when its Dynamics view holds none)."""
+    if DynamicsView.title not in app.views.built():
+        return None
+    return app.views[DynamicsView.title].ensemble.finished

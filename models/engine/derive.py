@@ -79,7 +79,7 @@ class Derived:
     rungs ``p`` and ``q`` of each pair. ``extra`` holds the nominal values
     of the intermediate arrays the views use (orbital elements in SI and
     au, periastron and apoastron distances, the habitable-zone limit
-    fluxes). Missing values are NaN in float columns and None in object
+    fluxes, the pairs' complex TTV amplitudes). Missing values are NaN in float columns and None in object
     columns. ``hz_valid`` says whether the habitable zone is given at all
     (``star["hz_extrapolated"]`` whether beyond its fit's calibrated range).
     ``intervals`` is empty without Monte Carlo draws; with them,
@@ -228,6 +228,9 @@ def nominal_tables(system: System, context: Context, hz_valid: bool) -> dict:
     tables["extra"] = {quantity.name: np.asarray(getattr(context, quantity.name))[0]
                        for quantity in declared("planets", document=False)}
     tables["extra"]["hz_limit_flux"] = context.hz_limit_flux[0]
+    # the pairs' complex TTV amplitudes V and V' [d]: their phases give the TTV curves over time
+    for name in ("ttv_inner_complex", "ttv_outer_complex"):
+        tables["extra"][name] = np.asarray(getattr(context, name))[0]
     return tables
 
 

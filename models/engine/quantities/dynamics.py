@@ -156,3 +156,11 @@ def hill_stable(c):
           source="deck2013", estimate=True, group=_DYNAMICS, views=("dynamics",))
 def in_overlap_zone(c):
     return dynamics.in_overlap_zone(inner(c.a_m), outer(c.a_m), c.pair_epsilon)
+
+
+@quantity("pairs", label="overlap edge P2/P1", fmt=".5f",
+          description="period ratio below which first-order resonances overlap: the edge 1.46 ((m+m')/M*)^(2/7) "
+                      "of (a'-a)/a through Kepler's third law (nearly circular orbits)",
+          source="deck2013", estimate=True, group=_DYNAMICS, views=("dynamics",))
+def overlap_period_ratio(c):
+    return dynamics.overlap_period_ratio(c.pair_epsilon, inner(c.mass_ratio), outer(c.mass_ratio))

@@ -13,7 +13,7 @@ _PAIRS = "Adjacent pairs"
 
 
 @quantity("pairs", label="P2/P1", fmt=".5f", description="period ratio, outer over inner", group=_PAIRS,
-          views=("ladder",))
+          views=("ladder", "dynamics"))
 def period_ratio(c):
     return outer(c.period) / inner(c.period)
 
@@ -48,14 +48,14 @@ def order(c):
 
 
 @quantity("pairs", label="Delta", fmt="+.4f", description="fractional offset from the nearest commensurability",
-          source="lithwick2012", group=_PAIRS, views=("ladder",))
+          source="lithwick2012", group=_PAIRS, views=("ladder", "dynamics"))
 def delta(c):
     return resonances.resonance_offset(c.period_ratio, c.pair_p, c.pair_q)
 
 
 @quantity("pairs", unit="d", label="P_super", fmt=".4g",
           description="TTV super-period of a first-order pair", source="lithwick2012", group=_PAIRS,
-          views=("ladder",))
+          views=("ladder", "dynamics"))
 def super_period_d(c):
     with np.errstate(divide="ignore"):
         period = resonances.super_period(inner(c.period), outer(c.period), c.pair_p)
