@@ -33,7 +33,7 @@ from .serve import page_title
 from .text_tables import unsigned_zeros
 from .views import look
 from .views.bulk import BulkView
-from .views.common import escape
+from .views.common import escape, one_batch
 from .views.compare import CompareView
 from .views.controls import Controls
 from .views.dynamics import DynamicsView
@@ -162,7 +162,7 @@ class OrbitDeckApp(param.Parameterized):
         names = derived.planet_names
         selected = self.selected if self.selected in names else (names[0] if names else None)
         self.colours.note(names)
-        with pn.io.hold(freeze=True):
+        with one_batch():
             self.param.update(derived=derived, elements=elements, selected=selected, problem="",
                               selected_pair=pair_index_after(self.derived, derived, self.selected_pair))
 
@@ -209,7 +209,7 @@ class OrbitDeckApp(param.Parameterized):
             if system is not self.system:
                 self.system.param.unwatch(self._revision_watcher)
                 self._revision_watcher = system.param.watch(self._on_revision, "revision")
-            with pn.io.hold(freeze=True):
+            with one_batch():
                 self.param.update(**changed)
         finally:
             self._installing = False

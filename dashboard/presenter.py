@@ -36,7 +36,7 @@ import panel as pn
 import param
 from panel.io.state import set_curdoc
 
-from .views.common import escape
+from .views.common import escape, one_batch
 
 #: app parameters a follower takes from the presenter (besides the system, its derivation and the tab)
 SHARED_PARAMETERS = ("selected", "selected_pair", "time", "uncertainty", "samples", "show_hill", "reference",
@@ -225,7 +225,7 @@ class PresenterLink(param.Parameterized):
         became_presenter = role == "presenter" and self.role != "presenter"
         with param.edit_constant(self):
             self.param.update(role=role, presenter_name=roster.name_of(roster.presenter) or "")
-        with pn.io.hold(self.doc):
+        with one_batch(self.doc):   # one message, the plots held while it is applied
             # a follower shows each new state; a session that starts presenting carries on from the room's
             if state is not None and state.version != self._applied_version and (role == "follower"
                                                                                   or became_presenter):

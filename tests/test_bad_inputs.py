@@ -141,7 +141,7 @@ def test_cli_refuses_member(cli_runs, name, command):
     assert 1 <= len(lines) <= MAX_LINES and len(lines) == count, lines
     assert all(line.startswith(f"{path}: ") for line in lines), lines
     assert not any(_is_control(c) for c in result.stderr), repr(result.stderr)
-    for _, reason, shown in expected:
+    for field, reason, shown in expected:
         prefix = f"{path}: {shown}: " if shown else f"{path}: "
         assert any(line.startswith(prefix) and reason.casefold() in line[len(prefix):].casefold()
                    for line in lines), (field, reason, lines)

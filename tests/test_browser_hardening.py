@@ -7,8 +7,8 @@
   and no magnitudes (no TSM or ESM) must show no "Infinity", "NaN" or "-0.00"
   in any table, tooltip or text, in the served page and in its snapshot.
 * Files over the size limit (3 and 16 MiB) are refused with a message and the
-  session goes on: an edit afterwards still reaches the views, and a valid
-  file still loads.
+  session goes on: an edit afterwards still reaches the views, a valid file
+  still loads, and loads again when chosen again.
 """
 
 from __future__ import annotations
@@ -76,10 +76,8 @@ def readable_texts(page) -> list[str]:
 
 
 def tick(page, label: str) -> None:
-    """Tick the check box labelled ``label`` (Bokeh draws its label as a sibling, not a <label>)."""
-    boxes = page.locator("input[type=checkbox]")
-    labels = boxes.evaluate_all("els => els.map(e => e.nextElementSibling ? e.nextElementSibling.textContent : '')")
-    boxes.nth(labels.index(label)).check()
+    """Tick the check box named ``label`` (its input sits inside its label, which gives it that accessible name)."""
+    page.get_by_role("checkbox", name=label, exact=True).check()
 
 
 def enter(page, label: str, text: str) -> None:
@@ -188,10 +186,18 @@ def test_an_oversize_upload_is_refused_and_the_session_lives_on(browser, demo_ur
         # the session is alive: an edit still reaches the views, a valid file still loads
         enter(page, "Mass [Msun]", "0.131")
         wait_for(lambda: page.get_by_text("M = 0.131 Msun", exact=False).count() > 0, what="the edit to apply")
-        chooser.set_input_files({"name": "amber.toml", "mimeType": "application/toml",
-                                 "buffer": demo_path("amber_pair").read_bytes()})
-        name = load_system(demo_path("amber_pair")).name
-        wait_for(lambda: page.locator("h2", has_text=name).count() == 1, what="the valid file to load")
+        amber = {"name": "amber.toml", "mimeType": "application/toml", "buffer": demo_path("amber_pair").read_bytes()}
+        chooser.set_input_files(amber)
+        other = load_system(demo_path("amber_pair"))
+        header = page.get_by_role("banner")
+        wait_for(lambda: header.filter(has_text=other.name).count() == 1, what="the valid file to load")
+        assert page.get_by_text(f"loaded amber.toml: {len(other.planets)} planets").count() == 1
+        # the same file chosen again is read again: it undoes an edit made since
+        enter(page, "Mass [Msun]", "0.5")
+        wait_for(lambda: page.get_by_text("M = 0.5 Msun", exact=False).count() > 0, what="the second edit to apply")
+        chooser.set_input_files(amber)
+        wait_for(lambda: page.get_by_text(f"M = {other.star.mass:.4g} Msun", exact=False).count() > 0,
+                 what="the same file to load again")
         assert len([w for w in log.websockets if w.endswith("/ws")]) <= 1  # never reconnected
 
 

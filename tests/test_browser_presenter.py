@@ -54,8 +54,8 @@ def enter(page, label: str, text: str) -> None:
 
 
 def checkbox(page, text: str):
-    """The check box beside ``text`` (Bokeh puts it before a plain text element, not in a label)."""
-    return page.locator(".bk-label", has_text=text).locator("xpath=preceding-sibling::input")
+    """The check box named ``text`` (its input sits inside its label, which gives it that accessible name)."""
+    return page.get_by_role("checkbox", name=text, exact=True)
 
 
 def active_tab(page) -> str:

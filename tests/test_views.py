@@ -20,7 +20,7 @@ import numpy as np
 import panel as pn
 import pytest
 from bokeh.document import Document
-from bokeh.models import Label, Legend, Plot
+from bokeh.models import ColumnDataSource, Label, Legend, Plot
 from scipy.optimize import brentq
 
 from orbitdeck.dashboard.app import OrbitDeckApp
@@ -243,7 +243,11 @@ def test_skies_matrix_holds_the_derived_moon_ratios(app):
     cells = view(app, "Neighbour skies").matrix.data["cells"]
     expected = {(o, b): v for o, b, v in zip(app.derived.skies["observer"], app.derived.skies["body"],
                                               app.derived.skies["moon_ratio"])}
-    assert {(o, b): v for o, b, v in zip(cells["observer"], cells["body"], cells["moon_ratio"])} == expected
+    assert {(o, b): v for o, b, v in zip(cells["observer"], cells["body"], cells["moon_ratio"]) if o != b} == expected
+    # a planet's own cell is in the data too (so that the plot fills no cell of its own), with nothing to show
+    own = [i for i, (o, b) in enumerate(zip(cells["observer"], cells["body"])) if o == b]
+    assert sorted(cells["observer"][i] for i in own) == sorted(app.derived.planet_names)
+    assert all(np.isnan(cells["moon_ratio"][i]) and cells["moon_text"][i] == "\u2014" for i in own)
     # the star from planet b: 2 arcsin(R*/a) over the Moon's 2 arcsin(1737.4 km / 384400 km)
     # (lunar radius and mean distance: NASA Moon fact sheet, from memory)
     a_b = app.derived.planets["semi_major_axis_au"][0] * u.au
@@ -348,8 +352,12 @@ def test_tapping_a_point_a_bar_a_cell_or_a_row_selects_the_planet(app):
     flux = view(app, "Flux & temperature")
     next(iter(flux.tables.values())).selection = [3]
     assert app.selected == names[3]
-    view(app, "Neighbour skies").tap.event(index=[0])
-    assert app.selected == app.derived.skies["observer"][0]
+    # a cell of the sky matrix selects the observer of the row it is drawn in (the plot lays its cells out itself)
+    skies = view(app, "Neighbour skies")
+    drawn = next(s for s in rendered(skies.matrix).select({"type": ColumnDataSource}) if "arcsec_range" in s.data)
+    for index in (1, 7, 13):
+        skies.tap.event(index=[index])
+        assert app.selected == drawn.data["observer"][index]
     view(app, "Period ladder").tap.event(index=[len(names) - 1 + 3])   # the outer disc of the fourth pair
     assert app.selected == app.derived.pairs["outer"][3]
     app.controls.planet_select.value = "f"

@@ -10,7 +10,10 @@ from __future__ import annotations
 import re
 
 import numpy as np
+import panel as pn
 import pytest
+from bokeh.document import Document
+from bokeh.models import Plot, Whisker
 
 import orbitdeck.dashboard.app as app_module
 from orbitdeck.dashboard.app import OrbitDeckApp
@@ -136,9 +139,29 @@ def test_tsm_bars_carry_their_intervals(app):
     errors = obs.plot.data["errors"]
     np.testing.assert_allclose(errors["tsm"] - errors["minus"], lo)
     np.testing.assert_allclose(errors["tsm"] + errors["plus"], hi)
-    assert errors["shown"] and np.all(errors["plus"] > 0)
+    assert np.all(errors["plus"] > 0)
     assert obs.plot.data["bars"]["tsm_range"] == [f"{a:.3g}\u2013{b:.3g}" for a, b in zip(lo, hi)]
     np.testing.assert_allclose(errors["tsm"], tsm)
+
+
+def test_error_bars_switched_on_after_the_plots_were_drawn_are_shown():
+    # the plots are drawn first without draws (as when a page opens), then the switch is turned on
+    app = OrbitDeckApp(load_system(demo_path()), samples=SAMPLES)
+    figures = {title: pn.pane.HoloViews(plot.live()).get_root(Document()).select_one({"type": Plot})
+               for title, plot in (("Neighbour skies", app.views["Neighbour skies"].bars),
+                                   ("Observability", app.views["Observability"].plot))}
+    for figure in figures.values():
+        whisker = figure.select_one({"type": Whisker})
+        assert not np.isfinite(whisker.source.data["upper"]).any()   # nothing to draw yet
+    app.uncertainty = True
+    for title, figure in figures.items():
+        whisker = figure.select_one({"type": Whisker})
+        upper, lower = np.asarray(whisker.source.data["upper"]), np.asarray(whisker.source.data["lower"])
+        assert whisker.visible and np.all(upper > lower), title
+    lo, hi = app.derived.intervals["planets"]["tsm"]
+    whisker = figures["Observability"].select_one({"type": Whisker})
+    np.testing.assert_allclose(whisker.source.data["lower"], lo)
+    np.testing.assert_allclose(whisker.source.data["upper"], hi)
 
 
 def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
@@ -153,7 +176,7 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     app = OrbitDeckApp(load_system(demo_path()), samples=SAMPLES)
     assert calls == [(0, None)] and app.derived.intervals == {}
     flux, ladder, obs = app.views["Flux & temperature"], app.views["Period ladder"], app.views["Observability"]
-    assert len(flux.plot.data["ranges"]["x0"]) == 0 and not np.any(obs.plot.data["errors"]["plus"])
+    assert len(flux.plot.data["ranges"]["x0"]) == 0 and not np.isfinite(obs.plot.data["errors"]["plus"]).any()
     calls.clear()
     app.samples = 1000  # switch off: a new sample count derives nothing
     assert calls == []
@@ -172,7 +195,7 @@ def test_switch_derives_once_per_change_and_removes_the_marks(monkeypatch):
     assert calls == [(0, None)]
     assert app.derived.intervals == {}
     assert len(flux.plot.data["ranges"]["x0"]) == 0 and len(ladder.plot.data["errors"]["y0"]) == 0
-    assert not obs.plot.data["errors"]["shown"]
+    assert not np.isfinite(obs.plot.data["errors"]["plus"]).any()   # no bar drawn
     assert "od-range" not in " ".join(flux.tables["Orbits and irradiation"].value["insolation_earth"])
     assert "Monte Carlo" not in flux.caption.object
 

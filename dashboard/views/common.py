@@ -10,10 +10,12 @@ patch the page in place. In a served page a view whose tab is hidden waits
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import html
 import math
 import re
+import weakref
 
 import holoviews as hv
 import numpy as np
@@ -28,20 +30,62 @@ _NUMBER_FORMAT = re.compile(r"(\+?)0(?:\.(0+))?(e?)")
 NOTE_STYLE = {"font-size": "12px", "color": "#5a6270", "line-height": "1.35"}
 
 
-def batched(method):
-    """Run a method that changes Bokeh models inside ``pn.io.hold(freeze=True)``.
+#: the documents in which a batch of changes (:func:`one_batch`) is being collected
+_BATCHING: weakref.WeakSet = weakref.WeakSet()
 
-    In a served session this sends the changes as one message and makes them
-    safe when the call comes from a Panel event handler that does not hold
-    the document lock (a table's selection, for instance); elsewhere it only
-    calls the method. Freezing the document's model graph matters for
-    HoloViews plots: each plot update freezes it and, on leaving, Bokeh walks
-    every model of the document again; inside an outer freeze that walk
-    happens once, when the outermost hold ends.
+
+@contextlib.contextmanager
+def one_batch(doc=None):
+    """Send the changes made in the block to the browser together, the page's plots holding their paint.
+
+    Inside ``pn.io.hold(freeze=True)``: in a served session the changes reach
+    the browser as one patch, and the document's model graph is walked once
+    (each HoloViews plot update freezes it and, on leaving, Bokeh walks every
+    model of the document again). Elsewhere the block just runs.
+
+    Bokeh's client sets a glyph's new data asynchronously, while the rest of
+    the patch is applied; a later change of the same patch that alters the
+    layout (a text, a select's options, the header) makes the page repaint
+    every plot at once, and a glyph caught between its old and new data fails
+    to paint when its length changed (a text glyph with a colour per label,
+    polygons fewer than before). The error ends the patch: every change after
+    it (the message of a loaded file, say) never reaches the page. So the
+    outermost batch of a served page first sets ``hold_render`` on every plot
+    of the page and releases them in a message of their own once the patch
+    has been applied: the plots paint once, from their new data.
+    """
+    doc = doc or pn.state.curdoc
+    served = doc is not None and getattr(doc, "session_context", None) is not None
+    if not served or doc in _BATCHING or doc.callbacks.hold_value is not None:
+        with pn.io.hold(doc, freeze=True):
+            yield
+        return
+    from bokeh.models import Plot
+
+    held = [model for model in doc.models if isinstance(model, Plot) and not model.hold_render]
+    _BATCHING.add(doc)
+    try:
+        with pn.io.hold(doc, freeze=True):
+            for plot in held:
+                plot.hold_render = True
+            yield
+    finally:
+        _BATCHING.discard(doc)
+        with pn.io.hold(doc):
+            for plot in held:
+                plot.hold_render = False
+
+
+def batched(method):
+    """Run a method that changes Bokeh models as :func:`one_batch` (one message, plots held).
+
+    In a served session this also makes the changes safe when the call comes
+    from a Panel event handler that does not hold the document lock (a
+    table's selection, for instance); elsewhere it only calls the method.
     """
     @functools.wraps(method)
     def wrapper(*args, **kwargs):
-        with pn.io.hold(freeze=True):
+        with one_batch():
             return method(*args, **kwargs)
 
     return wrapper

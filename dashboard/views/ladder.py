@@ -27,8 +27,8 @@ import param
 from orbitdeck.models.resonances import commensurability_table
 
 from . import palette, pinned
-from .common import (View, batched, escape, interval, interval_caption, note, section, select_on_tap, span_texts,
-                     while_shown)
+from .common import (View, batched, escape, interval, interval_caption, note, number_texts, section, select_on_tap,
+                     span_texts, while_shown)
 from .pair_choice import PairRows, chosen_pair
 from .plotting import FONT_SIZES, LayeredPlot, Styles, drawn, texts, with_a_row
 from .tables import caution_html, quantities_of, table_frame, table_widget
@@ -125,12 +125,15 @@ def pinned_pairs(d):
 
 
 PAIR_VDIMS = ["colour", "line_colour", "line_width", "pair", "nearest", "order", "delta", "super_period", "spacing",
-              "delta_range", "other_text"]
+              "delta_range", "other_text", "delta_text", "super_period_text", "spacing_text"]
+#: hover values that may be missing or infinite (an exact commensurability has no super-period), written as text
+#: with these tooltip formats
+HOVER_FORMATS = {"delta_text": "+0.00000", "super_period_text": "0.0", "spacing_text": "0.00"}
 
 
 def pairs(d):
     columns = {"position": d["x"], "ratio": d["y"], **{k: d[k] for k in PAIR_VDIMS}}
-    for k in ("colour", "line_colour", "pair", "nearest", "delta_range", "other_text"):
+    for k in ("colour", "line_colour", "pair", "nearest", "delta_range", "other_text", *HOVER_FORMATS):
         columns[k] = texts(columns[k])
     return hv.Points(columns,
                      [X_DIM.clone(range=d["x_range"]), Y_DIM.clone(range=d["y_range"])], PAIR_VDIMS,
@@ -155,7 +158,7 @@ STYLES = Styles(
         "Points.LadderPinnedPair": dict(line_color="colour", fill_alpha=0.0, line_width=2.2, line_alpha=0.85,
                                         size=PINNED_SIZE, tools=["hover"], hover_tooltips=[
                                             ("pinned reference", "@pair"), ("P2/P1 then", "@ratio{0.00000}"),
-                                            ("16th\u201384th pct then", "@ratio_range"),
+                                            ("16th\u201384th pct then", "@{ratio_range}"),
                                             ("P2/P1 now", "@now{0.00000}")]),
         "Segments.LadderRung1": dict(color=RUNG_COLOURS[1], line_width=1.4),
         "Segments.LadderRung2": dict(color=RUNG_COLOURS[2], line_width=1.1, line_dash="dashed"),
@@ -170,11 +173,11 @@ STYLES = Styles(
         "Segments.LadderRange": dict(color="#111111", line_width=2.0),
         "Points.LadderPair": dict(color="colour", size=PAIR_SIZE, line_color="line_colour", line_width="line_width",
                                   tools=["hover"], hover_tooltips=[
-                                      ("pair", "@pair"), ("P2/P1", "@ratio{0.00000}"), ("nearest", "@nearest"),
-                                      ("order", "@order"), ("Delta", "@delta{+0.00000}"),
-                                      ("Delta 16th\u201384th pct", "@delta_range"),
-                                      ("TTV super-period", "@super_period{0.0} d"),
-                                      ("spacing", "@spacing{0.00} mutual Hill radii"), ("", "@other_text")]),
+                                      ("pair", "@{pair}"), ("P2/P1", "@ratio{0.00000}"), ("nearest", "@{nearest}"),
+                                      ("order", "@{order}"), ("Delta", "@{delta_text}"),
+                                      ("Delta 16th\u201384th pct", "@{delta_range}"),
+                                      ("TTV super-period", "@{super_period_text} d"),
+                                      ("spacing", "@{spacing_text} mutual Hill radii"), ("", "@{other_text}")]),
         "Labels.LadderPairName": dict(text_font_size="12px", text_align="center", text_baseline="bottom",
                                       text_color=palette.INK),
         "Labels.LadderDelta": dict(text_font_size="11px", text_align="center", text_baseline="top",
@@ -366,7 +369,8 @@ class LadderView(View):
             return values + values
 
         pair_planets = both(zip(inner, outer))
-        return {"x": np.concatenate([x - 0.09, x + 0.09]), "y": np.concatenate([ratio, ratio]),
+        hover = {"delta_text": delta, "super_period_text": pr["super_period_d"], "spacing_text": pr["mutual_hill_spacing"]}
+        return {**{k: both(number_texts(v, HOVER_FORMATS[k])) for k, v in hover.items()},"x": np.concatenate([x - 0.09, x + 0.09]), "y": np.concatenate([ratio, ratio]),
                 "colour": self.colours(inner) + self.colours(outer), "planet": inner + outer,
                 "pair": both(pair), "pair_planets": pair_planets, "nearest": both(str(s) for s in pr["nearest"]),
                 "order": np.concatenate([pr["order"], pr["order"]]).astype(float),

@@ -164,16 +164,16 @@ STYLES = Styles(
         "Points.LayoutPinnedPlanet": dict(line_color="colour", fill_alpha=0.0, line_width=2.2, line_alpha=0.8,
                                           size=PINNED_SIZE, tools=["hover"],
                                           hover_tooltips=[("pinned reference", "@name"),
-                                                          ("distance now", "@pinned_r{0.00000} au"),
-                                                          ("true anomaly f now", "@pinned_f_deg{0.0} deg")]),
+                                                          ("distance now", "@{pinned_r}{0.00000} au"),
+                                                          ("true anomaly f now", "@{pinned_f_deg}{0.0} deg")]),
         "Polygons.LayoutStar": dict(color=palette.STAR_COLOUR, line_color=palette.STAR_OUTLINE, line_width=1,
                                     show_legend=True),
         "Segments.LayoutHill": dict(color=hv.dim("colour"), line_width=hv.dim("width")),
         "Points.LayoutPlanet": dict(color="colour", size="size", line_color="line_colour", line_width="line_width",
                                     tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
                                     hover_tooltips=[("planet", "@name"), ("distance now", "@r{0.00000} au"),
-                                                    ("true anomaly f", "@f_deg{0.0} deg"), ("a", "@a{0.00000} au"),
-                                                    ("a 16th\u201384th pct", "@a_range"), ("e", "@e{0.000}"),
+                                                    ("true anomaly f", "@{f_deg}{0.0} deg"), ("a", "@a{0.00000} au"),
+                                                    ("a 16th\u201384th pct", "@{a_range}"), ("e", "@e{0.000}"),
                                                     ("periastron", "@periastron{0.00000} au"),
                                                     ("apoastron", "@apoastron{0.00000} au")]),
         "Labels.LayoutPlanetName": dict(text_font_size="12px", text_align="left", text_baseline="top",
@@ -293,7 +293,6 @@ class LayoutView(View):
         # they are not sent again when the view's extent follows the orbits
         layers = {"hz": self._hz(d, limits, half)}
         rx, ry = circle_points([0.0], [0.0], [reference_au or 0.0], 180)
-        body = app.reference.split(" ")[0]
         own = (-(reference_au or 0.0), reference_au or 0.0)
         layers["reference"] = curve_segments(rx, ry, [palette.REFERENCE_COLOUR], [1.5], own, own) \
             if reference_au else curve_segments(np.zeros((0, 2)), np.zeros((0, 2)), [], [], own, own)

@@ -20,7 +20,8 @@ import param
 from orbitdeck.models.observability import tsm_follow_up_threshold
 
 from . import palette
-from .common import View, as_floats, batched, escape, interval, interval_caption, note, select_on_tap, while_shown
+from .common import (View, as_floats, batched, escape, interval, interval_caption, note, number_texts, select_on_tap,
+                     while_shown)
 from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, drawn, texts
 from .tables import caution_html, link_selection, quantities_of, table_frame, table_widget
 
@@ -29,28 +30,38 @@ PLANET_DIM = hv.Dimension("planet")
 THRESHOLD_COLOUR = "#141414"
 
 
+def _planet_dim(d):
+    """The planets, as categories given with the data (HoloViews would otherwise keep the categories of an
+    earlier system on the axis once the error bars have been shown)."""
+    return PLANET_DIM.clone(values=[str(n) for n in d["planets"]])
+
+
 def _tsm_dim(d):
     return hv.Dimension("tsm", label="TSM (relative S/N of a transmission spectrum)", range=d["y_range"])
 
 
+#: the bars' hover values that may be missing (no J or K magnitude), as text: a dash, where a bar of no length is drawn
+HOVER_TEXTS = ("tsm_text", "esm_text", "tsm_range")
+
+
 def bars(d):
-    columns = {k: d[k] for k in ("planet", "tsm", "colour", "line_colour", "line_width", "esm", "depth", "tsm_range")}
-    for k in ("planet", "colour", "line_colour", "tsm_range"):
+    columns = {k: d[k] for k in ("planet", "tsm", "colour", "line_colour", "line_width", "depth", *HOVER_TEXTS)}
+    for k in ("planet", "colour", "line_colour", *HOVER_TEXTS):
         columns[k] = texts(columns[k])
     return hv.Bars(columns,
-                   [PLANET_DIM], [_tsm_dim(d), "colour", "line_colour", "line_width", "esm", "depth", "tsm_range"],
+                   [_planet_dim(d)], [_tsm_dim(d), "colour", "line_colour", "line_width", "depth", *HOVER_TEXTS],
                    group="ObservabilityTSM", label="TSM")
 
 
 def errors(d):
-    return drawn(hv.ErrorBars((texts(d["planet"]), d["tsm"], d["minus"], d["plus"]), [PLANET_DIM],
-                              [_tsm_dim(d), "minus", "plus"], group="ObservabilityRange",
-                              label="16th\u201384th percentiles"), d["shown"])
+    # never hidden (HoloViews does not show a Whisker again once hidden): a bar without a range is NaN, not drawn
+    return hv.ErrorBars((texts(d["planet"]), d["tsm"], d["minus"], d["plus"]), [_planet_dim(d)],
+                        [_tsm_dim(d), "minus", "plus"], group="ObservabilityRange", label="16th\u201384th percentiles")
 
 
 def _thresholds(group, label):
     def thresholds(d):
-        return drawn(hv.Scatter((texts(d["planet"]), d["threshold"]), [PLANET_DIM], [_tsm_dim(d)], group=group,
+        return drawn(hv.Scatter((texts(d["planet"]), d["threshold"]), [_planet_dim(d)], [_tsm_dim(d)], group=group,
                                 label=label), len(d["planet"]) > 0)
     thresholds.__name__ = group
     return thresholds
@@ -68,8 +79,8 @@ STYLES = Styles(
         "Bars.ObservabilityTSM": dict(color=hv.dim("colour"), line_color=hv.dim("line_colour"),
                                       line_width=hv.dim("line_width"),
                                       tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
-                                      hover_tooltips=[("planet", "@planet"), ("TSM", "@tsm{0.00}"),
-                                                      ("TSM 16th\u201384th pct", "@tsm_range"), ("ESM", "@esm{0.00}"),
+                                      hover_tooltips=[("planet", "@{planet}"), ("TSM", "@{tsm_text}"),
+                                                      ("TSM 16th\u201384th pct", "@{tsm_range}"), ("ESM", "@{esm_text}"),
                                                       ("transit depth", "@depth{0} ppm")]),
         "ErrorBars.ObservabilityRange": dict(color=palette.INK, line_width=1.5, upper_head=None, lower_head=None),
         "Scatter.ObservabilityThresholdHalo": dict(marker="dash", size=46, color="#ffffff", line_width=7,
@@ -151,21 +162,21 @@ class ObservabilityView(View):
         shown = np.concatenate([tsm, found[1] if found else [], threshold])
         shown = shown[np.isfinite(shown)]
         y_range = (0.0, 1.15 * float(shown.max()) if shown.size and shown.max() > 0 else 1.0)
-        bars_ = {"planet": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0), "colour": self.colours(names),
-                 "esm": as_floats(d.planets["esm"]), "depth": as_floats(d.planets["transit_depth_ppm"]),
+        bars_ = {"planet": names, "planets": names, "tsm": np.where(np.isfinite(tsm), tsm, 0.0),
+                 "colour": self.colours(names), "tsm_text": number_texts(tsm, "0.00"),
+                 "esm_text": number_texts(d.planets["esm"], "0.00"), "depth": as_floats(d.planets["transit_depth_ppm"]),
                  "tsm_range": [f"{lo:.3g}\u2013{hi:.3g}" if np.isfinite(lo) and np.isfinite(hi) else ""
                                for lo, hi in zip(*found)] if found else [""] * len(names),
                  "y_range": y_range, **self._outline(names)}
-        # a bar of no length for every planet without an interval: Bokeh's whiskers must not start out empty
+        # a row for every planet, NaN (not drawn) without an interval: Bokeh's whiskers must not start out empty
         # (a Whisker added to a plot with no data has no view in the page when data come later)
-        lo, hi = found if found else (tsm, tsm)
+        lo, hi = found if found else (np.full(len(names), np.nan),) * 2
         keep = np.isfinite(tsm) & np.isfinite(lo) & np.isfinite(hi)
-        errors_ = {"planet": names, "tsm": np.where(keep, tsm, 0.0),
-                   "minus": np.where(keep, np.maximum(tsm - lo, 0.0), 0.0),
-                   "plus": np.where(keep, np.maximum(hi - tsm, 0.0), 0.0),
-                   "shown": bool(found), "y_range": y_range}
+        errors_ = {"planet": names, "planets": names, "tsm": np.where(keep, tsm, 0.0),
+                   "minus": np.where(keep, np.maximum(tsm - lo, 0.0), np.nan),
+                   "plus": np.where(keep, np.maximum(hi - tsm, 0.0), np.nan), "y_range": y_range}
         has = np.isfinite(threshold) & np.isfinite(tsm)
-        thresholds_ = {"planet": [n for n, k in zip(names, has) if k], "threshold": threshold[has],
+        thresholds_ = {"planet": [n for n, k in zip(names, has) if k], "planets": names, "threshold": threshold[has],
                        "y_range": y_range}
         return {"bars": bars_, "errors": errors_, "halo": thresholds_, "thresholds": thresholds_}
 

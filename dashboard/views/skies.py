@@ -18,9 +18,9 @@ import panel as pn
 import param
 
 from . import palette
-from .common import (View, as_floats, batched, escape, interval, interval_caption, note, section, select_on_tap,
-                     set_section, span_texts, while_shown)
-from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, drawn, load_backend, texts
+from .common import (MISSING, View, as_floats, batched, escape, fmt, interval, interval_caption, note, number_texts,
+                     section, select_on_tap, set_section, span_texts, while_shown)
+from .plotting import FONT_SIZES, LayeredPlot, Styles, bar_colours, load_backend, texts
 from .sky_from import SkyFromView
 from .tables import caution_html, quantities_of, table_frame, table_widget
 
@@ -43,14 +43,19 @@ def _grid_dims(d):
             hv.Dimension("observer", label="observer (planet)", values=d["observers"])]
 
 
-CELL_VDIMS = ["arcsec", "distance", "moon_range", "arcsec_range"]
+#: the cells' values for hovering, as text (a dash where missing): HoloViews hands a heat map's hover values to
+#: the page already written out, so a tooltip's number format would not reach them
+CELL_VDIMS = ["moon_text", "arcsec_text", "distance_text", "moon_range", "arcsec_range"]
+BAR_VDIMS = ["moon_text", "arcsec_text", "distance_text", "moon_range"]
+#: tooltip number formats of the texts of the cells and bars
+HOVER_FORMATS = {"moon_text": "0.000", "arcsec_text": "0.0", "distance_text": "0.00000"}
 
 
 def cells(d, backend: str = "bokeh"):
     if backend != "bokeh":
         return _numbered_cells(d, backend)
     columns = {k: d[k] for k in ("body", "observer", "moon_ratio", *CELL_VDIMS)}
-    for k in ("body", "observer", "moon_range", "arcsec_range"):
+    for k in ("body", "observer", *CELL_VDIMS):
         columns[k] = texts(columns[k])
     return hv.HeatMap(columns, _grid_dims(d), [MOON_DIM.clone(range=d["colour_range"]), *CELL_VDIMS],
                       group="SkiesMatrix", label="")
@@ -103,21 +108,27 @@ def row(d, backend: str = "bokeh"):
                       group="SkiesRow", label="")
 
 
+def _body_dim(d):
+    """The bodies seen, as categories given with the data (HoloViews would otherwise keep the categories of an
+    earlier system on the axis once the error bars have been shown)."""
+    return hv.Dimension("body", label="body seen", values=[str(b) for b in d["body"]])
+
+
 def bars(d):
-    columns = {k: d[k] for k in ("body", "moon_ratio", "colour", "arcsec", "distance", "moon_range")}
-    for k in ("body", "colour", "moon_range"):
+    columns = {k: d[k] for k in ("body", "moon_ratio", "colour", *BAR_VDIMS)}
+    for k in ("body", "colour", *BAR_VDIMS):
         columns[k] = texts(columns[k])
     return hv.Bars(columns,
-                   [hv.Dimension("body", label="body seen")],
-                   [MOON_DIM.clone(range=d["y_range"]), "colour", "arcsec", "distance", "moon_range"],
+                   [_body_dim(d)],
+                   [MOON_DIM.clone(range=d["y_range"]), "colour", *BAR_VDIMS],
                    group="SkiesBars", label="largest diameter")
 
 
 def bar_errors(d):
-    return drawn(hv.ErrorBars((texts(d["body"]), d["moon_ratio"], d["minus"], d["plus"]),
-                        [hv.Dimension("body", label="body seen")],
+    # never hidden (HoloViews does not show a Whisker again once hidden): a bar without a range is NaN, not drawn
+    return hv.ErrorBars((texts(d["body"]), d["moon_ratio"], d["minus"], d["plus"]), [_body_dim(d)],
                         [MOON_DIM.clone(range=d["y_range"]), "minus", "plus"], group="SkiesBarRange",
-                        label="16th\u201384th percentiles"), d["shown"])
+                        label="16th\u201384th percentiles")
 
 
 def moon_line(d):
@@ -135,11 +146,11 @@ MATRIX_STYLES = Styles(
         "HeatMap.SkiesMatrix": dict(cmap=palette.SKIES_CMAP, logz=True, colorbar=True, line_color="white",
                                     tools=["hover", "tap"], nonselection_alpha=1.0, selection_alpha=1.0,
                                     colorbar_opts={"title": "\u00d7 Moon's diameter from Earth"},
-                                    hover_tooltips=[("observer", "@observer"), ("body", "@body"),
-                                                    ("largest diameter", "@moon_ratio{0.000} \u00d7 the Moon"),
-                                                    ("16th\u201384th pct", "@moon_range"),
-                                                    ("", "@arcsec{0.0} arcsec"), ("", "@arcsec_range arcsec"),
-                                                    ("closest distance", "@distance{0.00000} au")]),
+                                    hover_tooltips=[("observer", "@{observer}"), ("body", "@{body}"),
+                                                    ("largest diameter", "@{moon_text} \u00d7 the Moon"),
+                                                    ("16th\u201384th pct", "@{moon_range}"),
+                                                    ("", "@{arcsec_text} arcsec"), ("", "@{arcsec_range} arcsec"),
+                                                    ("closest distance", "@{distance_text} au")]),
         "Labels.SkiesCellText": dict(text_color=hv.dim("text_colour"), text_font_size="11px"),
         "HeatMap.SkiesRow": dict(fill_alpha=0.0, line_color=palette.HIGHLIGHT_COLOUR, line_width=2.5, cmap=["#000000"]),
     },
@@ -155,10 +166,9 @@ BAR_STYLES = Styles(
                               ylabel="largest apparent diameter\n[Moon diameters from Earth]")},
     bokeh={
         "Bars.SkiesBars": dict(color=hv.dim("colour"), line_color="#333333", tools=["hover"],
-                               hover_tooltips=[("body", "@body"), ("largest diameter",
-                                                                   "@moon_ratio{0.000} \u00d7 the Moon"),
-                                               ("16th\u201384th pct", "@moon_range"), ("", "@arcsec{0.0} arcsec"),
-                                               ("closest distance", "@distance{0.00000} au")]),
+                               hover_tooltips=[("body", "@{body}"), ("largest diameter", "@{moon_text} \u00d7 the Moon"),
+                                               ("16th\u201384th pct", "@{moon_range}"), ("", "@{arcsec_text} arcsec"),
+                                               ("closest distance", "@{distance_text} au")]),
         "ErrorBars.SkiesBarRange": dict(color=palette.INK, line_width=1.5),
         "HLine.SkiesMoon": dict(color="#555555", line_dash="dashed", line_width=1.2),
     },
@@ -190,7 +200,9 @@ class SkiesView(View):
         self._refresh()
 
     def _observer_of_cells(self):
-        return self.matrix.data["cells"]["observer"]
+        """The observer of each cell as drawn (HoloViews lays a heat map's cells out on its own grid, in an order
+        of its own)."""
+        return self.matrix.dynamic["cells"].last.gridded.dimension_values("observer")
 
     @param.depends("app.derived", watch=True)
     def _on_derived(self):
@@ -245,14 +257,18 @@ class SkiesView(View):
         grid = self._grid()
         moon, arcsec = interval(d, "skies", "moon_ratio"), interval(d, "skies", "max_angular_diameter_arcsec")
         count = ratio.size
-        cells_ = {"body": [str(b) for b in sk["body"]], "observer": [str(o) for o in sk["observer"]],
-                  "moon_ratio": ratio, "arcsec": as_floats(sk["max_angular_diameter_arcsec"]),
-                  "distance": as_floats(sk["closest_distance_au"]),
-                  "moon_range": _spans(moon, 3) if moon else [""] * count,
-                  "arcsec_range": _spans(arcsec, None, decimals=1) if arcsec else [""] * count,
+        # a planet's own cells, with nothing to see, are given (dashes) rather than left to HoloViews, which fills
+        # the cells of a grid that have no data with "-" and NaN
+        own = [str(n) for n in names]
+        cells_ = {"body": [str(b) for b in sk["body"]] + own, "observer": [str(o) for o in sk["observer"]] + own,
+                  "moon_ratio": np.concatenate([ratio, np.full(len(own), np.nan)]),
+                  **_value_texts(sk, slice(None), MISSING, len(own)),
+                  "moon_range": (_spans(moon, 3) if moon else [""] * count) + [MISSING if moon else ""] * len(own),
+                  "arcsec_range": ((_spans(arcsec, None, decimals=1) if arcsec else [""] * count)
+                                   + [MISSING if arcsec else ""] * len(own)),
                   "colour_range": (low, high), **grid}
-        texts = {"body": cells_["body"], "observer": cells_["observer"],
-                 "text": [f"{v:.2g}" if show_text else "" for v in ratio],
+        texts = {"body": cells_["body"][:count], "observer": cells_["observer"][:count],
+                 "text": [fmt(v, 2) if show_text else "" for v in ratio],
                  "text_colour": _cell_text_colour(ratio, low, high), **grid}
         return {"cells": cells_, "texts": texts, "row": self._row_data()}
 
@@ -271,16 +287,14 @@ class SkiesView(View):
         top = float(np.nanmax(np.concatenate([ratio, moon[1][rows] if moon else [], [1.0]])))
         y_range = (0.0, 1.12 * top)
         bars_ = {"body": bodies, "moon_ratio": ratio, "colour": self.colours(bodies),
-                 "arcsec": as_floats(d.skies["max_angular_diameter_arcsec"])[rows],
-                 "distance": as_floats(d.skies["closest_distance_au"])[rows],
+                 **_value_texts(d.skies, rows),
                  "moon_range": _spans((moon[0][rows], moon[1][rows]), 3) if moon else [""] * len(rows),
                  "y_range": y_range}
-        # a bar of no length without an interval: Bokeh's whiskers must not start out empty (a Whisker added
-        # to a plot with no data has no view in the page when data come later)
-        lo, hi = (moon[0][rows], moon[1][rows]) if moon else (ratio, ratio)
+        # a row per bar, NaN (not drawn) without an interval: Bokeh's whiskers must not start out empty (a
+        # Whisker added to a plot with no data has no view in the page when data come later)
+        lo, hi = (moon[0][rows], moon[1][rows]) if moon else (np.full(len(rows), np.nan),) * 2
         errors = {"body": bodies, "moon_ratio": ratio, "minus": np.maximum(ratio - lo, 0.0),
-                  "plus": np.maximum(hi - ratio, 0.0), "shown": bool(moon),
-                  "y_range": y_range}
+                  "plus": np.maximum(hi - ratio, 0.0), "y_range": y_range}
         return {"bars": bars_, "errors": errors, "moon": {"y_range": y_range}}
 
     def _frame(self):
@@ -315,6 +329,15 @@ class _SkyRows:
         found = derived.intervals.get("skies", {}) if derived.intervals else {}
         self.intervals = {"skies": {k: (np.asarray(lo)[rows], np.asarray(hi)[rows]) for k, (lo, hi) in found.items()}}
         self.fractions = {}
+
+
+def _value_texts(skies, rows, filler: str = MISSING, fill: int = 0) -> dict:
+    """The tooltip texts of rows ``rows`` of a sky table (largest diameter in Moons and in arcsec, closest
+    distance), each written as its tooltip format would write it, with ``fill`` entries ``filler`` after them."""
+    columns = {"moon_text": "moon_ratio", "arcsec_text": "max_angular_diameter_arcsec",
+               "distance_text": "closest_distance_au"}
+    return {text: number_texts(as_floats(skies[key])[rows], HOVER_FORMATS[text]) + [filler] * fill
+            for text, key in columns.items()}
 
 
 def _spans(found, digits, decimals=None) -> list[str]:

@@ -90,7 +90,7 @@ def calendar_axis(plot, element):
 
 #: what a transit's bar and tick tell on hover (Bokeh)
 HOVER = [("planet", "@planet"), ("epoch", "@epoch"), ("mid BJD_TDB", "@bjd{0.00000}"),
-         ("1 sigma [min]", "@sigma_min{0.00}"), ("at the site", "@state")]
+         ("1 sigma [min]", "@{sigma_min}{0.00}"), ("at the site", "@state")]
 #: the 3-sigma and 1-sigma windows: (sigmas, opacity, group)
 WINDOWS = ((3.0, 0.25, "TransitWindow3"), (1.0, 0.5, "TransitWindow1"))
 _AXES = dict(xlabel="BJD_TDB (as a calendar date)", ylabel="planet", invert_yaxis=True, show_legend=False)

@@ -15,6 +15,7 @@ from __future__ import annotations
 import base64
 import binascii
 
+import panel as pn
 import param
 from panel.reactive import ReactiveHTML
 
@@ -71,11 +72,17 @@ class SystemFileUpload(ReactiveHTML):
         except (binascii.Error, ValueError):
             data = b""
         name = self.filename
-        self.content = ""  # the browser's copy is dropped too, and the same file may be sent again
+        # emptied (here and in the browser, so that the same file may be sent again) once this change has been
+        # handled: emptied from within this watcher, Panel would then send the browser the file's text back (the
+        # event still being handled carries it), and choosing the same file again would change nothing there
+        pn.state.execute(self._forget, schedule=True)
         if len(data) > self.max_bytes:  # a page that skipped the check in the browser
             self._announce("oversize", (name, len(data)))
         else:
             self._announce("upload", (name, data))
+
+    def _forget(self) -> None:
+        self.content = ""
 
     @param.depends("refused", watch=True)
     def _refused(self) -> None:
