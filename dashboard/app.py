@@ -23,9 +23,10 @@ from collections.abc import Mapping
 import panel as pn
 import param
 
-from orbitdeck.models import Derived, System, derive, dumps_system, ephemeris
-from orbitdeck.models.engine.provenance import provenance_of
-from orbitdeck.models.sources import SystemSource
+from orbitdeck.models import Derived, System, derive, dumps_system
+from orbitdeck.models.motion import ephemeris
+from orbitdeck.models.files.provenance import provenance_of
+from orbitdeck.models.files.sources import SystemSource
 
 from .cli import DEFAULT_SEED
 from .history import EditHistory, SessionTools

@@ -31,13 +31,13 @@ def say(text: str, stream=None) -> None:
 
 def _source(path):
     """The bytes of the system file ``path`` (the bundled demo when None), with their name and SHA-256."""
-    from orbitdeck.models.sources import demo_source, read_source
+    from orbitdeck.models.files.sources import demo_source, read_source
 
     return read_source(path) if path else demo_source()
 
 
 def _system(source):
-    """The system of a :class:`~orbitdeck.models.sources.SystemSource`; notes on it are printed to stderr."""
+    """The system of a :class:`~orbitdeck.models.files.sources.SystemSource`; notes on it are printed to stderr."""
     notes = []
     system = source.system(notes)
     for note in notes:
@@ -70,7 +70,7 @@ def bounded(low, high, whole: bool = False):
 
 def time_value(text: str) -> float:
     """The ``argparse`` type of a time option: BJD_TDB within the time range of system files."""
-    from orbitdeck.models.system import TIME_BOUNDS  # imported when an option is given, not for --help
+    from orbitdeck.models.files.system import TIME_BOUNDS  # imported when an option is given, not for --help
 
     return bounded(*TIME_BOUNDS)(text)
 
@@ -81,7 +81,7 @@ time_value.__name__ = "time"
 def _derive(args):
     """Derive the system of ``args.file`` with the draws asked for; the provenance attached."""
     from orbitdeck.models import derive
-    from orbitdeck.models.engine.provenance import provenance_of
+    from orbitdeck.models.files.provenance import provenance_of
 
     source = _source(args.file)
     system = _system(source)
@@ -91,7 +91,7 @@ def _derive(args):
 
 
 def _write(path, text: str, overwrite: bool = False) -> None:
-    from orbitdeck.models.files import atomic_write
+    from orbitdeck.models.files.system_file import atomic_write
 
     atomic_write(path, text.encode("utf-8"), overwrite=overwrite)
     say(f"wrote {path}")
@@ -117,19 +117,19 @@ def cmd_table(args) -> int:
     system, derived = _derive(args)
     for out, table in ((args.ecsv, "planets"), (args.pairs_ecsv, "pairs")):
         if out:
-            from orbitdeck.models.engine.export import derived_table
+            from orbitdeck.models.files.export import derived_table
 
             buffer = io.StringIO()
             derived_table(derived, table).write(buffer, format="ascii.ecsv")
             _write(out, buffer.getvalue(), args.overwrite)
     for style in ("latex", "aastex"):
         if getattr(args, style):
-            from orbitdeck.models.engine.paper_table import write_paper_table
+            from orbitdeck.models.files.paper_table import write_paper_table
 
             _write(getattr(args, style), write_paper_table(derived, style, columns), args.overwrite)
     if args.bibtex:
         from orbitdeck.models.engine.methods import bibtex
-        from orbitdeck.models.engine.provenance import provenance_lines
+        from orbitdeck.models.files.provenance import provenance_lines
 
         keys = None if columns is None else [f"planets.{key}" for key in columns]
         _write(args.bibtex, bibtex(system, derived, keys, provenance_lines(derived.provenance)), args.overwrite)
@@ -144,7 +144,7 @@ def cmd_table(args) -> int:
 def cmd_cite(args) -> int:
     from orbitdeck.models import derive
     from orbitdeck.models.engine.methods import bibtex
-    from orbitdeck.models.engine.provenance import provenance_lines, provenance_of
+    from orbitdeck.models.files.provenance import provenance_lines, provenance_of
 
     source = _source(args.file)
     system = _system(source)

@@ -6,7 +6,7 @@ import os
 import time
 from pathlib import Path
 
-from orbitdeck.models.problems import Problem, SystemFileError
+from orbitdeck.models.files.problems import Problem, SystemFileError
 
 
 def _refuse(path, reason: str) -> SystemFileError:
@@ -46,7 +46,7 @@ def figures_app(source, system, samples: int, seed: int, when: float | None):
 
 def cmd_figures(args) -> int:
     from orbitdeck.dashboard.cli import _source, _system, say
-    from orbitdeck.models.files import atomic_write
+    from orbitdeck.models.files.system_file import atomic_write
 
     from .figures import CAPTIONS_FILE, SLIDE_WIDTH_PX, figure_files, figures_of
 

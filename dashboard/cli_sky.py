@@ -32,7 +32,7 @@ def _emit(doc: dict, as_json: bool, text: str) -> None:
 
 
 def cmd_positions(args) -> int:
-    from orbitdeck.models.ephemeris import positions_document
+    from orbitdeck.models.motion.ephemeris import positions_document
 
     system, a_au = _system_and_a(args)
     doc = positions_document(system, args.time, a_au=a_au)
@@ -46,8 +46,8 @@ def cmd_positions(args) -> int:
 
 def cmd_sky(args) -> int:
     from orbitdeck.models import SystemFileError
-    from orbitdeck.models.files import Problem
-    from orbitdeck.models.sky_view import close_approaches, sky_document
+    from orbitdeck.models.files.system_file import Problem
+    from orbitdeck.models.motion.sky_view import close_approaches, sky_document
 
     system, a_au = _system_and_a(args)
     if args.observer not in system.planet_names:

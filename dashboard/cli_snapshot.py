@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 import time
 
-from orbitdeck.models.files import read_regular_file
+from orbitdeck.models.files.system_file import read_regular_file
 
 
 def cmd_snapshot(args) -> int:

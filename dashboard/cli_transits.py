@@ -21,14 +21,14 @@ _SITE_TRIPLE = re.compile(r"\s*([^,]+),([^,]+),([^,]+)\s*")
 
 def _problem(source: str, field: str, reason: str):
     from orbitdeck.models import SystemFileError
-    from orbitdeck.models.files import Problem
+    from orbitdeck.models.files.system_file import Problem
 
     return SystemFileError([Problem(source, field, reason)])
 
 
 def resolve_site(text: str, system, source: str):
     """The site of ``--site``: "LAT,LON,ELEV_M" (degrees, east positive; metres) or a name of the file's [[sites]]."""
-    from orbitdeck.models.system import Site
+    from orbitdeck.models.files.system import Site
 
     match = _SITE_TRIPLE.fullmatch(text)
     if match:
@@ -58,7 +58,7 @@ def site_text(site) -> str:
 
 
 def _bjd(text: str, field: str, source: str, coord, location):
-    from orbitdeck.models.sites import parse_time
+    from orbitdeck.models.motion.sites import parse_time
 
     try:
         return parse_time(text, coord, location)
@@ -106,7 +106,7 @@ def ics_bytes(rows: list[dict], sky, system) -> bytes:
     from astropy.time import Time
     from icalendar import Calendar, Event
 
-    from orbitdeck.models.earth_orientation import offline_astropy
+    from orbitdeck.models.motion.earth_orientation import offline_astropy
 
     baseline = sky.conditions.baseline_h * u.hour
     calendar = Calendar()
@@ -143,10 +143,10 @@ def ics_bytes(rows: list[dict], sky, system) -> bytes:
 
 def cmd_transits(args) -> int:
     from orbitdeck.dashboard.cli import _load
-    from orbitdeck.models.files import atomic_write
-    from orbitdeck.models.forecast import Conditions, ForecastInputError, forecast_transits
-    from orbitdeck.models.sites import earth_location, star_coordinate
-    from orbitdeck.models.visibility import forecast_rows, transit_sky
+    from orbitdeck.models.files.system_file import atomic_write
+    from orbitdeck.models.motion.forecast import Conditions, ForecastInputError, forecast_transits
+    from orbitdeck.models.motion.sites import earth_location, star_coordinate
+    from orbitdeck.models.motion.visibility import forecast_rows, transit_sky
 
     source = args.file or "demo"
     system = _load(args.file)
@@ -154,7 +154,7 @@ def cmd_transits(args) -> int:
     conditions = Conditions(args.min_altitude, args.max_sun_altitude, args.baseline)
     if conditions.problems():
         from orbitdeck.models import SystemFileError
-        from orbitdeck.models.files import Problem
+        from orbitdeck.models.files.system_file import Problem
 
         raise SystemFileError([Problem(source, "--" + field.replace("_", "-"), reason)
                                for field, reason in conditions.problems()])
@@ -175,7 +175,7 @@ def cmd_transits(args) -> int:
         forecast = forecast_transits(system, start, end)
     except ForecastInputError as error:
         from orbitdeck.models import SystemFileError
-        from orbitdeck.models.files import Problem
+        from orbitdeck.models.files.system_file import Problem
 
         raise SystemFileError([Problem(source, f"--{field}" if field in ("start", "end") else field, reason)
                                for field, reason in error.problems]) from None
@@ -216,8 +216,8 @@ def cmd_transits(args) -> int:
 def register(commands) -> None:
     """Add the ``transits`` subcommand."""
     from orbitdeck.dashboard.cli import _add_file
-    from orbitdeck.models.forecast import MAX_RANGE_DAYS
-    from orbitdeck.models.forecast import DEFAULT_BASELINE_H, DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG
+    from orbitdeck.models.motion.forecast import MAX_RANGE_DAYS
+    from orbitdeck.models.motion.forecast import DEFAULT_BASELINE_H, DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG
 
     parser = commands.add_parser(
         "transits", help="forecast transits and their visibility from a site",

@@ -143,7 +143,7 @@ def figures_of(app, backend: str = _BACKEND) -> tuple[list[Figure], list[str]]:
 
 def caption_of(figure: Figure, system_name: str) -> str:
     """What a figure shows and what its numbers are, in one sentence or two."""
-    from orbitdeck.models.engine.provenance import CAUTION
+    from orbitdeck.models.files.provenance import CAUTION
 
     what = f"{figure.view}: {figure.title}" if figure.title else figure.view
     return f"{system_name} \u2013 {what}. {CAUTION}"
@@ -217,7 +217,7 @@ def _texts_inside(axes) -> None:
 
 def captions_text(files: list[FigureFile], provenance: dict, system_name: str, notes: list[str]) -> str:
     """The captions file: what the figures are, the provenance of their numbers, one caption per file."""
-    from orbitdeck.models.engine.provenance import provenance_lines
+    from orbitdeck.models.files.provenance import provenance_lines
 
     lines = [f"Figures of {system_name}, drawn by orbitdeck through matplotlib "
              f"(PNG {SLIDE_WIDTH_PX} px wide; SVG and PDF as vector drawings).",

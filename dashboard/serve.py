@@ -74,7 +74,7 @@ def choose_port(requested: int | None) -> int:
 
 def _source(path_or_none):
     """The bytes of the system file (the bundled demo when None), with their name and SHA-256."""
-    from orbitdeck.models.sources import demo_source, read_source
+    from orbitdeck.models.files.sources import demo_source, read_source
 
     return read_source(path_or_none) if path_or_none else demo_source()
 

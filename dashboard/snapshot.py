@@ -26,9 +26,9 @@ from datetime import datetime, timezone
 import panel as pn
 
 from orbitdeck.models import System, derive, dumps_system, loads_system
-from orbitdeck.models.engine.provenance import provenance_of
-from orbitdeck.models.files import Problem, SystemFileError, atomic_write
-from orbitdeck.models.sources import SystemSource
+from orbitdeck.models.files.provenance import provenance_of
+from orbitdeck.models.files.system_file import Problem, SystemFileError, atomic_write
+from orbitdeck.models.files.sources import SystemSource
 
 from .offline import render_offline
 from .views import look
@@ -196,7 +196,7 @@ def write_snapshot(path, system: System, source_name: str, source_bytes: bytes, 
 
     Raises :class:`SystemFileError` when the page would be larger than
     :data:`MAX_SNAPSHOT_BYTES` (which ``--extract`` would refuse to read) or
-    cannot be written (see :func:`~orbitdeck.models.files.atomic_write`,
+    cannot be written (see :func:`~orbitdeck.models.files.system_file.atomic_write`,
     which ``overwrite`` is passed to).
     """
     data = render_snapshot(system, source_name, source_bytes, **options).encode("utf-8")

@@ -1,7 +1,7 @@
 """Readable plain-text tables of a derived document, for the terminal.
 
 A value with an interval is written ``value +plus -minus``, rounded by the
-Particle Data Group's rule (:mod:`orbitdeck.models.rounding`); a value
+Particle Data Group's rule (:mod:`orbitdeck.models.files.rounding`); a value
 without one, to four significant figures.
 
 Everything printed passes through :func:`terminal_safe`, so that no name,
@@ -15,7 +15,7 @@ import math
 import re
 
 from orbitdeck.models.engine.registry import declared
-from orbitdeck.models.rounding import from_interval
+from orbitdeck.models.files.rounding import from_interval
 
 
 def quantity_groups(table: str, labels) -> list[tuple[str, tuple]]:
@@ -53,7 +53,7 @@ def terminal_safe(text: str, keep: str = "\n") -> str:
     """
     if text.isprintable():
         return text
-    from orbitdeck.models.names import character_kind
+    from orbitdeck.models.files.names import character_kind
 
     return "".join(c if c in keep or (c.isprintable() and character_kind(c) is None)
                    else c.encode("unicode_escape").decode("ascii") for c in text)

@@ -4,10 +4,10 @@ Nothing here imports a user-interface library.
 """
 
 from .engine.derive import Derived, derive
-from .files import SystemFileError, dumps_system, load_system, loads_system, save_system
-from .quantity import Uncertainty
-from .sources import load_demo
-from .system import Assumptions, Planet, Star, System
+from .files.system_file import SystemFileError, dumps_system, load_system, loads_system, save_system
+from .files.quantity import Uncertainty
+from .files.sources import load_demo
+from .files.system import Assumptions, Planet, Star, System
 
 __all__ = [
     "Assumptions", "Derived", "Planet", "Star", "System", "SystemFileError", "Uncertainty",

@@ -28,7 +28,7 @@ CHILD_TIMEOUT = 300
 _DRIVER = r"""
 import io, json, os, signal, sys, traceback
 import orbitdeck.dashboard.cli as cli
-import orbitdeck.models, orbitdeck.models.engine.export, orbitdeck.models.engine.draws, orbitdeck.dashboard.text_tables
+import orbitdeck.models, orbitdeck.models.files.export, orbitdeck.models.engine.draws, orbitdeck.dashboard.text_tables
 
 def stream(fd, like):
     return io.TextIOWrapper(io.FileIO(fd, "w", closefd=False), encoding=like.encoding, errors=like.errors)

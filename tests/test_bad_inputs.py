@@ -17,7 +17,7 @@ import pytest
 from cli_harness import ForkedCli, run_installed
 
 from orbitdeck.models import SystemFileError, load_system, loads_system
-from orbitdeck.models.files import MAX_FILE_BYTES
+from orbitdeck.models.files.system_file import MAX_FILE_BYTES
 
 DATA = Path(__file__).resolve().parent / "data"
 BAD = DATA / "bad"

@@ -21,7 +21,7 @@ from browser_support import offline_page, screenshot, served, wait_for
 from orbitdeck.dashboard.snapshot import render_snapshot
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system, loads_system
-from orbitdeck.models.files import MAX_FILE_BYTES
+from orbitdeck.models.files.system_file import MAX_FILE_BYTES
 from test_browser_hostile import dashboard, hover_everything, show, tab_names
 
 pytestmark = pytest.mark.browser

@@ -14,7 +14,8 @@ import pytest
 from browser_support import canvas_colour_pixels, open_page, screenshot, wait_for
 from orbitdeck.dashboard.views.orbit_drawing import in_plane_positions
 from orbitdeck.demo_systems import demo_path
-from orbitdeck.models import derive, ephemeris, load_system
+from orbitdeck.models import derive, load_system
+from orbitdeck.models.motion import ephemeris
 from test_browser_dashboard import enter, legend_texts, planet_palette, show
 
 pytestmark = pytest.mark.browser

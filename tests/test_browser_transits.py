@@ -15,7 +15,7 @@ import pytest
 from browser_support import screenshot, wait_for
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
-from orbitdeck.models.forecast import forecast_transits
+from orbitdeck.models.motion.forecast import forecast_transits
 from test_browser_dashboard import column, dashboard, show
 
 pytestmark = pytest.mark.browser

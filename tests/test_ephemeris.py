@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from orbitdeck.models import ephemeris, kepler
-from orbitdeck.models.system import Planet, Star, System
+from orbitdeck.models.motion import ephemeris, kepler
+from orbitdeck.models.files.system import Planet, Star, System
 
 
 def _system(*planets, mass=1.0, epoch=2461000.0):

@@ -26,7 +26,7 @@ from orbitdeck.dashboard.figures import (CAPTIONS_FILE, SLIDE_WIDTH_PX, figures_
                                          slug)
 from orbitdeck.demo_systems import DEFAULT_DEMO, demo_path
 from orbitdeck.models import Planet, derive, load_demo, load_system
-from orbitdeck.models.engine.provenance import CAUTION
+from orbitdeck.models.files.provenance import CAUTION
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 SVG = "{http://www.w3.org/2000/svg}"

@@ -15,9 +15,9 @@ from hypothesis import strategies as st
 from orbitdeck.demo_systems import demo_names, demo_path
 from orbitdeck.models import (Assumptions, Planet, Star, System, SystemFileError, Uncertainty, derive, dumps_system,
                               load_system, loads_system, save_system)
-from orbitdeck.models.files import FORMAT, Problem, system_from_document, system_to_document
-from orbitdeck.models.names import display_key, name_problem
-from orbitdeck.models.system import PERIOD_BOUNDS, TIME_BOUNDS
+from orbitdeck.models.files.system_file import FORMAT, Problem, system_from_document, system_to_document
+from orbitdeck.models.files.names import display_key, name_problem
+from orbitdeck.models.files.system import PERIOD_BOUNDS, TIME_BOUNDS
 
 DEMOS = demo_names()
 

@@ -15,10 +15,10 @@ from scipy.optimize import brentq
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import Planet, Star, System, Uncertainty, derive, load_system
-from orbitdeck.models.forecast import (MAX_RANGE_DAYS, ForecastInputError, epochs_in_range, forecast_transits,
+from orbitdeck.models.motion.forecast import (MAX_RANGE_DAYS, ForecastInputError, epochs_in_range, forecast_transits,
                                        mid_time_sigma, nominal_transit_durations, secondary_eclipse_delay,
                                        secondary_eclipse_delay_first_order)
-from orbitdeck.models.visibility import forecast_rows
+from orbitdeck.models.motion.visibility import forecast_rows
 
 
 def small_system(*planets, star=None) -> System:

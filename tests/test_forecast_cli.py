@@ -20,8 +20,8 @@ from icalendar import Calendar
 from cli_harness import ForkedCli
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, dumps_system, load_system, loads_system
-from orbitdeck.models.forecast import forecast_transits
-from orbitdeck.models.sites import parse_time, star_coordinate
+from orbitdeck.models.motion.forecast import forecast_transits
+from orbitdeck.models.motion.sites import parse_time, star_coordinate
 
 SITE = "--site=35.0,-105.0,2000"
 RANGE = ("--start", "2026-01-01", "--end", "2026-01-21")

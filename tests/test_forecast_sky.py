@@ -19,11 +19,11 @@ from astropy.utils import iers
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
-from orbitdeck.models import sites
-from orbitdeck.models.earth_orientation import bundled_table, offline_astropy
-from orbitdeck.models.forecast import forecast_transits
-from orbitdeck.models.system import Site, Star
-from orbitdeck.models.visibility import forecast_rows, nights, transit_sky
+from orbitdeck.models.motion import sites
+from orbitdeck.models.motion.earth_orientation import bundled_table, offline_astropy
+from orbitdeck.models.motion.forecast import forecast_transits
+from orbitdeck.models.files.system import Site, Star
+from orbitdeck.models.motion.visibility import forecast_rows, nights, transit_sky
 
 SITE = Site("test site", 35.0, -105.0, 2000.0)
 
@@ -190,7 +190,7 @@ def test_observable_and_partial_follow_the_conditions(no_network):
     # every observable transit has the star high and the Sun low at ingress, mid-transit and egress
     assert (sky.altitude_deg[sky.observable] >= 30.0).all() and (sky.sun_altitude_deg[sky.observable] <= -12.0).all()
     # the same transits with no altitude limit and the Sun allowed anywhere: all observable
-    from orbitdeck.models.forecast import Conditions
+    from orbitdeck.models.motion.forecast import Conditions
     loose = transit_sky(forecast, system.star, SITE, Conditions(-90.0, 90.0, 1.0))
     assert loose.observable.all()
 

@@ -16,9 +16,9 @@ from orbitdeck.dashboard.app import VIEW_CLASSES, OrbitDeckApp
 from orbitdeck.dashboard.views.transits import TYPED_SITE, TransitPlannerView, calendar_dates
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
-from orbitdeck.models.forecast import forecast_transits
-from orbitdeck.models.system import Site
-from orbitdeck.models.visibility import forecast_rows, nights
+from orbitdeck.models.motion.forecast import forecast_transits
+from orbitdeck.models.files.system import Site
+from orbitdeck.models.motion.visibility import forecast_rows, nights
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 TITLE = "Transit planner"

@@ -25,7 +25,7 @@ from hypothesis import strategies as st
 
 from orbitdeck.demo_systems import demo_names, demo_path
 from orbitdeck.models import Planet, Star, System, SystemFileError, dumps_system, loads_system
-from orbitdeck.models.files import system_from_document
+from orbitdeck.models.files.system_file import system_from_document
 
 
 

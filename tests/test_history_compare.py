@@ -48,7 +48,7 @@ def test_switching_draws_or_a_refused_edit_is_no_new_state(app):
 
 
 def test_loading_a_file_starts_a_new_history(app):
-    from orbitdeck.models.sources import demo_source
+    from orbitdeck.models.files.sources import demo_source
 
     app.system.star.mass = 0.8
     source = demo_source("amber_pair")

@@ -6,7 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import integrate, optimize
 
-from orbitdeck.models import kepler
+from orbitdeck.models.motion import kepler
 
 
 def _brentq_reference(M, e):

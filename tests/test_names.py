@@ -15,7 +15,7 @@ from cli_harness import ForkedCli
 
 from orbitdeck.dashboard.text_tables import document_text, render, terminal_safe
 from orbitdeck.models import Planet, Star, System, SystemFileError, derive, loads_system
-from orbitdeck.models.names import display_key, name_problem
+from orbitdeck.models.files.names import display_key, name_problem
 
 BASE = """format = "orbitdeck-system/1"
 [system]
@@ -119,7 +119,7 @@ def test_display_key_is_nfkc_casefold():
 
 
 def test_the_api_refuses_look_alikes_invisible_names_and_too_many_planets():
-    from orbitdeck.models.system import MAX_PLANETS
+    from orbitdeck.models.files.system import MAX_PLANETS
 
     with pytest.raises(ValueError, match="look the same"):
         System(planets=[Planet(name="b", period=2.0), Planet(name="B", period=3.0)])

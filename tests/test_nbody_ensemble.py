@@ -11,7 +11,7 @@ from scipy.stats import norm
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import Planet, Star, System, Uncertainty, load_system
-from orbitdeck.models.dynamics import mutual_hill_spacing
+from orbitdeck.models.physics.dynamics import mutual_hill_spacing
 from orbitdeck.models.constants import EARTH_TO_SUN_MASS
 from orbitdeck.models.nbody import (CLOSE_ENCOUNTER, EJECTION, ENERGY_ERROR, SURVIVED, EnsembleCancelled, Settings,
                                     run_ensemble)

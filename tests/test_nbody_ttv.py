@@ -13,7 +13,8 @@ import astropy.constants as const
 import numpy as np
 from scipy.integrate import quad
 
-from orbitdeck.models import Planet, Star, System, ttv
+from orbitdeck.models import Planet, Star, System
+from orbitdeck.models.physics import ttv
 from orbitdeck.models.nbody import run_ensemble
 from orbitdeck.models.nbody.results import linear_ephemeris_residuals, ttv_sinusoid
 

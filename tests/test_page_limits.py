@@ -10,8 +10,8 @@ import pytest
 from orbitdeck.dashboard.app import OrbitDeckApp
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import Planet, System, dumps_system, load_system
-from orbitdeck.models.files import MAX_FILE_BYTES
-from orbitdeck.models.system import MAX_PLANETS
+from orbitdeck.models.files.system_file import MAX_FILE_BYTES
+from orbitdeck.models.files.system import MAX_PLANETS
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 

@@ -18,11 +18,11 @@ from orbitdeck import __version__
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import derive, load_system
 from orbitdeck.models.engine.methods import bibtex, depends_on, methods_used, probe_failures
-from orbitdeck.models.engine.paper_table import default_columns, heading, latex_text, write_paper_table
-from orbitdeck.models.engine.provenance import assumptions_of, provenance_of
+from orbitdeck.models.files.paper_table import default_columns, heading, latex_text, write_paper_table
+from orbitdeck.models.files.provenance import assumptions_of, provenance_of
 from orbitdeck.models.engine.references import REFERENCES
 from orbitdeck.models.engine.registry import REGISTRY, by_key
-from orbitdeck.models.system import Assumptions
+from orbitdeck.models.files.system import Assumptions
 
 #: a value with its interval as the tables write it: $x^{+a}_{-b}$ or $x \pm a$
 _CELL = re.compile(r"^\$(?P<value>[-0-9.]+)(?:\^\{\+(?P<plus>[0-9.]+)\}_\{-(?P<minus>[0-9.]+)\}"

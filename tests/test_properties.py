@@ -7,9 +7,10 @@ import numpy as np
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
-from orbitdeck.models import Assumptions, Planet, Star, System, Uncertainty, derive, irradiation, orbits, resonances
-from orbitdeck.models.files import dumps_system, loads_system
-from orbitdeck.models.names import display_key, name_problem
+from orbitdeck.models import Assumptions, Planet, Star, System, Uncertainty, derive
+from orbitdeck.models.physics import irradiation, orbits, resonances
+from orbitdeck.models.files.system_file import dumps_system, loads_system
+from orbitdeck.models.files.names import display_key, name_problem
 
 M_SUN = 1.988409870698051e30    # only a scale for the monotonicity checks, not a reference value
 DAY = 86400.0

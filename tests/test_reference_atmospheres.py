@@ -7,7 +7,8 @@ import numpy as np
 import pytest
 from astropy.modeling.physical_models import BlackBody
 
-from orbitdeck.models import atmospheres, derive, irradiation, solar_system
+from orbitdeck.models import derive
+from orbitdeck.models.physics import atmospheres, irradiation, solar_system
 
 # -- scale height and transmission signal ------------------------------------------------------------
 

@@ -5,7 +5,8 @@ import astropy.units as u
 import numpy as np
 import pytest
 
-from orbitdeck.models import composition, derive, dynamics
+from orbitdeck.models import derive
+from orbitdeck.models.physics import composition, dynamics
 
 # NASA Jupiter fact sheet (checked in a stored copy): equatorial radius 71,492 km,
 # volumetric mean radius 69,911 km, mean density 1,326 kg m^-3, escape speed 59.5 km/s

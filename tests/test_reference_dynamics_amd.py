@@ -18,7 +18,8 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq, minimize_scalar
 
-from orbitdeck.models import Uncertainty, amd, derive
+from orbitdeck.models import Uncertainty, derive
+from orbitdeck.models.physics import amd
 
 
 def brute_force_critical_amd(alpha, gamma):

@@ -16,7 +16,8 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from orbitdeck.models import derive, dynamics
+from orbitdeck.models import derive
+from orbitdeck.models.physics import dynamics
 
 
 @pytest.mark.parametrize("mu_in, mu_out", [(1e-9, 1e-9), (3e-9, 1e-9), (1e-10, 2e-10)])

@@ -18,7 +18,8 @@ import pytest
 from scipy.integrate import quad
 from scipy.special import factorial, hyp2f1, poch
 
-from orbitdeck.models import Uncertainty, derive, ttv
+from orbitdeck.models import Uncertainty, derive
+from orbitdeck.models.physics import ttv
 
 SUN = dict(name="sun", mass=1.0, radius=1.0, teff=5772.0)
 

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from orbitdeck.models.observability import tsm_follow_up_threshold
+from orbitdeck.models.physics.observability import tsm_follow_up_threshold
 
 
 @pytest.mark.parametrize("radius, expected", [(0.5, 10.0), (1.0, 10.0), (1.499, 10.0), (1.5, 90.0), (2.0, 90.0),

@@ -6,8 +6,9 @@ import astropy.units as u
 import numpy as np
 import pytest
 
-from orbitdeck.models import Planet, Uncertainty, derive, interiors, loads_system, tides
-from orbitdeck.models.files import SystemFileError
+from orbitdeck.models import Planet, Uncertainty, derive, loads_system
+from orbitdeck.models.physics import interiors, tides
+from orbitdeck.models.files.system_file import SystemFileError
 
 # -- core mass fraction: Zeng, Sasselov & Jacobsen 2016 ---------------------------------------------
 

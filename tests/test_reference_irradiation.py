@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 from scipy import optimize
 
-from orbitdeck.models import Planet, derive, irradiation
+from orbitdeck.models import Planet, derive
+from orbitdeck.models.physics import irradiation
 
 # Kopparapu et al. 2014 (ApJL 787, L29), Table 1: S_eff,sun, a, b, c, d of
 # S_eff = S_eff,sun + a T + b T^2 + c T^3 + d T^4, T = Teff - 5780 K, for the recent Venus, runaway

@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 from astropy.modeling.physical_models import BlackBody
 
-from orbitdeck.models import derive, observability
+from orbitdeck.models import derive
+from orbitdeck.models.physics import observability
 
 EARTH_AU_IN_RSUN = float(const.au / const.R_sun)   # a / R* for Earth, ~215.03
 

@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 from scipy import optimize
 
-from orbitdeck.models import derive, orbits
+from orbitdeck.models import derive
+from orbitdeck.models.physics import orbits
 
 
 def _kepler_iii_astropy(period, total_mass):

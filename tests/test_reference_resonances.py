@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 from scipy import optimize
 
-from orbitdeck.models import derive, resonances
+from orbitdeck.models import derive
+from orbitdeck.models.physics import resonances
 
 # Galilean moons' sidereal periods [d] (JPL planetary satellite physical/orbital parameters, from memory)
 IO, EUROPA, GANYMEDE = 1.769138, 3.551181, 7.154553

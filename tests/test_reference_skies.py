@@ -5,7 +5,8 @@ import astropy.units as u
 import numpy as np
 import pytest
 
-from orbitdeck.models import derive, skies
+from orbitdeck.models import derive
+from orbitdeck.models.physics import skies
 from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER, RAD_TO_ARCSEC
 
 

@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from orbitdeck.models.rounding import from_interval, round_uncertain, uncertainty_place
+from orbitdeck.models.files.rounding import from_interval, round_uncertain, uncertainty_place
 
 
 # The rule and its own worked examples: Particle Data Group, Review of Particle Physics,

@@ -17,7 +17,7 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, dumps_system, load_system, save_system
-from orbitdeck.models import safe_io
+from orbitdeck.models.files import safe_io
 
 TEMPORARY = re.compile(r"\.(?P<target>.+)\.[^.]+\.tmp")
 
@@ -324,7 +324,7 @@ def test_stale_temporaries_of_killed_saves_are_cleaned_and_others_kept(tmp_path,
 
 
 def test_a_system_that_would_not_load_back_is_not_written(tmp_path, target, old_and_new):
-    from orbitdeck.models.files import MAX_FILE_BYTES
+    from orbitdeck.models.files.system_file import MAX_FILE_BYTES
 
     before = target.read_bytes()
     system = old_and_new[1]

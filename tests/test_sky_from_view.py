@@ -9,7 +9,7 @@ from orbitdeck.dashboard.app import OrbitDeckApp
 from orbitdeck.dashboard.views.sky_from import MOON_DEG, SkyFromView, TimePlayer, sky_coordinates
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import load_system
-from orbitdeck.models.sky_view import sky_from
+from orbitdeck.models.motion.sky_view import sky_from
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 

@@ -18,8 +18,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import integrate, optimize
 
-from orbitdeck.models import ephemeris, sky_view
-from orbitdeck.models.system import Planet, Star, System
+from orbitdeck.models.motion import ephemeris, sky_view
+from orbitdeck.models.files.system import Planet, Star, System
 
 R_EARTH_KM = const.R_earth.to_value(u.km)
 

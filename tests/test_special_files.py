@@ -21,8 +21,8 @@ import pytest
 
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, load_system
-from orbitdeck.models import safe_io
-from orbitdeck.models.files import MAX_FILE_BYTES, read_regular_file
+from orbitdeck.models.files import safe_io
+from orbitdeck.models.files.system_file import MAX_FILE_BYTES, read_regular_file
 
 #: address-space ceiling of a command's child process [bytes]: the interpreter with astropy needs far less
 #: than this, reading /dev/zero until it fails would reach it within seconds

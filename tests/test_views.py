@@ -515,7 +515,7 @@ def test_file_input_errors_are_shown_and_the_system_kept(app):
 def test_a_refused_upload_names_the_planet_of_each_field(app):
     import tomli_w
 
-    from orbitdeck.models.files import system_to_document
+    from orbitdeck.models.files.system_file import system_to_document
 
     system = app.system
     doc = system_to_document(system)
@@ -537,7 +537,7 @@ def hostile_system():
     """The demo with markup in its free-text names (and an estimated mass, so a name is in the warnings)."""
     import tomli_w
 
-    from orbitdeck.models.files import system_to_document
+    from orbitdeck.models.files.system_file import system_to_document
 
     doc = system_to_document(load_system(demo_path()))
     doc["system"]["name"] = '<img src=x onerror="alert(1)">'

@@ -7,7 +7,8 @@ import pytest
 from orbitdeck.dashboard.app import VIEW_CLASSES, OrbitDeckApp
 from orbitdeck.dashboard.views.bulk import MOLECULAR_WEIGHTS, BulkView
 from orbitdeck.demo_systems import demo_path
-from orbitdeck.models import atmospheres, derive, interiors, load_system, solar_system
+from orbitdeck.models import derive, load_system
+from orbitdeck.models.physics import atmospheres, interiors, solar_system
 
 TITLE = BulkView.title
 

@@ -14,7 +14,8 @@ from bokeh.document import Document
 from orbitdeck.dashboard.app import OrbitDeckApp
 from orbitdeck.dashboard.views.dynamics import BETA_AXIS_CAP, CURVE_WIDTH, SELECTED_CURVE_WIDTH, finished_ensemble
 from orbitdeck.demo_systems import demo_path
-from orbitdeck.models import Planet, Star, System, derive, dynamics, load_system, ttv
+from orbitdeck.models import Planet, Star, System, derive, load_system
+from orbitdeck.models.physics import dynamics, ttv
 from orbitdeck.models.constants import M_EARTH, M_SUN
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
@@ -286,7 +287,7 @@ def test_a_run_can_be_cancelled():
 
 def test_snapshots_show_a_finished_ensemble_or_say_there_is_none():
     from orbitdeck.dashboard.snapshot import Provenance, snapshot_layout
-    from orbitdeck.models.sources import SystemSource
+    from orbitdeck.models.files.sources import SystemSource
 
     app = demo_app()
     section = dynamics_of(app).ensemble

@@ -29,7 +29,7 @@ import panel as pn
 import param
 from bokeh.models import NumberFormatter
 
-from orbitdeck.models import atmospheres, interiors, solar_system, tides
+from orbitdeck.models.physics import atmospheres, interiors, solar_system, tides
 from orbitdeck.models.constants import R_EARTH, R_SUN
 
 from . import palette

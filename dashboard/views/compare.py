@@ -14,7 +14,7 @@ import math
 import panel as pn
 
 from orbitdeck.models.engine.compare import Change, compare
-from orbitdeck.models.rounding import from_interval
+from orbitdeck.models.files.rounding import from_interval
 
 from .common import escape, while_shown
 

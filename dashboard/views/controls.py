@@ -19,10 +19,10 @@ from functools import partial
 import panel as pn
 
 from orbitdeck.models import Planet, System, SystemFileError, dumps_system, loads_system
-from orbitdeck.models.files import MAX_FILE_BYTES
-from orbitdeck.models.names import display_key, name_problem
-from orbitdeck.models.system import MAX_PLANETS, TIME_BOUNDS
-from orbitdeck.models.sources import SystemSource
+from orbitdeck.models.files.system_file import MAX_FILE_BYTES
+from orbitdeck.models.files.names import display_key, name_problem
+from orbitdeck.models.files.system import MAX_PLANETS, TIME_BOUNDS
+from orbitdeck.models.files.sources import SystemSource
 
 from . import look
 from .common import batched, escape

@@ -26,7 +26,7 @@ import numpy as np
 import panel as pn
 import param
 
-from orbitdeck.models import ttv
+from orbitdeck.models.physics import ttv
 from orbitdeck.models.constants import DAY, MINUTE
 
 from . import palette

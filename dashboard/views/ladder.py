@@ -1,7 +1,7 @@
 """Period ladder: adjacent period ratios against the rungs of commensurabilities.
 
 Horizontal rungs mark every p:q of order p - q <= 3 (from
-``orbitdeck.models.resonances.commensurability_table``) across the range of
+``orbitdeck.models.physics.resonances.commensurability_table``) across the range of
 the system's ratios, solid for first order, dashed for second, dotted for
 third. Each adjacent pair is drawn at its ratio P_outer/P_inner as two
 discs in the colours of its planets, with a stub to its nearest rung (the
@@ -24,7 +24,7 @@ import numpy as np
 import panel as pn
 import param
 
-from orbitdeck.models.resonances import commensurability_table
+from orbitdeck.models.physics.resonances import commensurability_table
 
 from . import palette, pinned
 from .common import (View, batched, escape, interval, interval_caption, note, number_texts, section, select_on_tap,

@@ -4,7 +4,7 @@ Orbits are drawn as Keplerian ellipses with the star at one focus, from
 a, e and omega in the orbital plane (longitude of node 0, so the angle of a
 point is omega + f and the observer lies along +y: a planet transits at
 omega + f = 90 deg, Winn 2010). Planets sit where Kepler's equation puts
-them at the chosen time (``orbitdeck.models.ephemeris.positions``), the
+them at the chosen time (``orbitdeck.models.motion.ephemeris.positions``), the
 habitable zone is the project's graded, partly hatched band
 (:mod:`.habitable`, drawn as an image of the annulus), the star is a disc
 of its own radius, Hill spheres are drawn on demand (enlarged by a stated

@@ -17,7 +17,7 @@ import numpy as np
 import panel as pn
 import param
 
-from orbitdeck.models.observability import tsm_follow_up_threshold
+from orbitdeck.models.physics.observability import tsm_follow_up_threshold
 
 from . import palette
 from .common import (View, as_floats, batched, escape, interval, interval_caption, note, number_texts, select_on_tap,

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from orbitdeck.models import ephemeris
+from orbitdeck.models.motion import ephemeris
 
 #: points along each drawn orbit and circle
 ORBIT_POINTS, CIRCLE_POINTS = 180, 72
@@ -50,7 +50,7 @@ def circle_points(x, y, radius, count: int = CIRCLE_POINTS):
 def in_plane_positions(elements, time: float):
     """Planet positions in the orbital plane at ``time`` [BJD_TDB]: x, y, r [au] and f [rad].
 
-    Solves Kepler's equation through :func:`orbitdeck.models.ephemeris.positions`
+    Solves Kepler's equation through :func:`orbitdeck.models.motion.ephemeris.positions`
     and turns the distance and the true anomaly into in-plane coordinates.
     """
     pos = ephemeris.positions(elements, time)

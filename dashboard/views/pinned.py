@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from orbitdeck.models import ephemeris
+from orbitdeck.models.motion import ephemeris
 
 from .common import escape, interval, span_texts
 from .orbit_drawing import curve_segments, dashed, ellipse_points, in_plane_positions, orbit_ellipses

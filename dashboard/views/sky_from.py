@@ -6,9 +6,9 @@ that planet's orbital plane measured from the star (signed elongation) and
 latitude off it, both in degrees, and drawn as discs of their true angular
 diameter on equal axes, so the picture is to scale; a disc of the Moon seen
 from Earth (0.518 deg) stands beside them for comparison. Geometry is that
-of fixed Keplerian orbits (``orbitdeck.models.ephemeris``); brightness is a
+of fixed Keplerian orbits (``orbitdeck.models.motion.ephemeris``); brightness is a
 Lambert-sphere estimate with an assumed geometric albedo
-(``orbitdeck.models.sky_view``).
+(``orbitdeck.models.motion.sky_view``).
 
 Over a window of time two plots follow: every body's apparent diameter (in
 arcseconds, one line per body, named in the legend) and the elongation of
@@ -26,9 +26,9 @@ import pandas as pd
 import panel as pn
 import param
 
-from orbitdeck.models import ephemeris
+from orbitdeck.models.motion import ephemeris
 from orbitdeck.models.constants import MOON_ANGULAR_DIAMETER
-from orbitdeck.models.sky_view import close_approaches, sky_from
+from orbitdeck.models.motion.sky_view import close_approaches, sky_from
 
 from . import palette
 from .common import View, batched, escape, note, section, set_section, while_shown

@@ -27,9 +27,9 @@ import panel as pn
 import param
 from bokeh.models import NumberFormatter
 
-from orbitdeck.models.forecast import (DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG, Conditions,
+from orbitdeck.models.motion.forecast import (DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG, Conditions,
                                        ForecastInputError, forecast_transits)
-from orbitdeck.models.system import SITE_ELEVATION_RANGE, Site
+from orbitdeck.models.files.system import SITE_ELEVATION_RANGE, Site
 
 from . import palette
 from .plotting import Styles, load_backend
@@ -204,8 +204,8 @@ class TransitPlannerView(param.Parameterized):
 
     def update(self) -> None:
         """Forecast the range again from the app's system and the controls."""
-        from orbitdeck.models.sites import parse_time, star_coordinate
-        from orbitdeck.models.visibility import forecast_rows, nights, transit_sky
+        from orbitdeck.models.motion.sites import parse_time, star_coordinate
+        from orbitdeck.models.motion.visibility import forecast_rows, nights, transit_sky
 
         system, site = self.app.system, self.site()
         star = system.star

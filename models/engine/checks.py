@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from .. import composition, dynamics, irradiation
+from ..physics import composition, dynamics, irradiation
 from ..constants import AU, R_SUN
-from ..system import System
+from ..files.system import System
 from .quantities.skies import all_sky_rows
 
 #: crossing pairs named one by one in the warnings; more are counted in one line

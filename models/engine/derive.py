@@ -14,8 +14,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .. import irradiation
-from ..system import System
+from ..physics import irradiation
+from ..files.system import System
 from .draws import percentile_bounds, sampled_inputs
 from .inputs import nominal_inputs
 from .methods import depends_on
@@ -102,7 +102,7 @@ class Derived:
     intervals: Mapping = field(default_factory=dict)
     fractions: dict = field(default_factory=dict)
     extra: dict = field(default_factory=dict)
-    #: where the numbers came from (see :mod:`orbitdeck.models.engine.provenance`); None until attached
+    #: where the numbers came from (see :mod:`orbitdeck.models.files.provenance`); None until attached
     provenance: dict | None = None
 
     @property

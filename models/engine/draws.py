@@ -22,7 +22,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from ..system import System
+from ..files.system import System
 from .inputs import ASSUMPTION_FIELDS, PLANET_FIELDS, STAR_FIELDS, Inputs, nominal_inputs
 
 #: percentiles that bound the reported interval (one sigma for a normal)

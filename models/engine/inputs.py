@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..system import System
+from ..files.system import System
 
 #: planet fields carried as (samples, planets) arrays, with their Planet attribute
 PLANET_FIELDS = ("period", "radius", "mass", "eccentricity", "inclination", "omega", "tidal_q")

@@ -18,7 +18,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ..system import Planet, Star, System
+from ..files.system import Planet, Star, System
 from .inputs import nominal_inputs
 from .references import Reference, references_of
 from .registry import REGISTRY, Context, Quantity, declared

@@ -64,7 +64,7 @@ def run_ensemble(system, draws: int, orbits: int, seed: int | None = None, *, se
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
     draws : int
         Number of draws (>= 1).
     orbits : int

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..kepler import TWO_PI, mean_anomaly_of_transit, solve_kepler, true_anomaly
+from ..motion.kepler import TWO_PI, mean_anomaly_of_transit, solve_kepler, true_anomaly
 
 
 def planet_prefix_sums(a):

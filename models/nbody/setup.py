@@ -4,7 +4,7 @@ Each draw's star mass, planet periods, masses, eccentricities, inclinations
 and arguments of periastron come from one call of
 :func:`orbitdeck.models.engine.draws.sampled_inputs` (one seeded generator);
 a planet without a measured mass gets the Chen & Kipping (2017) mass of its
-drawn radius (:func:`orbitdeck.models.composition.mass_from_radius`), an
+drawn radius (:func:`orbitdeck.models.physics.composition.mass_from_radius`), an
 estimate. The elements are taken as Jacobi osculating elements at the
 system epoch, each planet's Kepler problem about the interior mass
 G (m_0 + ... + m_i), with the mean anomaly from the nominal transit time
@@ -23,10 +23,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..composition import mass_from_radius
-from ..dynamics import mutual_hill_radius
+from ..physics.composition import mass_from_radius
+from ..physics.dynamics import mutual_hill_radius
 from ..constants import EARTH_TO_SUN_MASS, GM_SUN_AU3_D2
-from ..kepler import TWO_PI
+from ..motion.kepler import TWO_PI
 from ..engine.draws import sampled_inputs
 from .chunk import ChunkSetup, Settings
 from .integrator import PairLayout
@@ -82,7 +82,7 @@ def draw_ensemble(system, draws: int, seed: int | None) -> Ensemble:
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
         The system; it needs at least one planet.
     draws : int
         Number of Monte Carlo draws (>= 1).

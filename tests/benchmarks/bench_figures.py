@@ -41,7 +41,7 @@ def parts() -> None:
     import orbitdeck.dashboard.app  # noqa: F401  (panel, holoviews, bokeh: what the command imports)
     from orbitdeck.dashboard.cli_figures import figures_app
     from orbitdeck.dashboard.figures import figures_of, render_figure
-    from orbitdeck.models.sources import demo_source
+    from orbitdeck.models.files.sources import demo_source
 
     print(f"  imports (orbitdeck, panel, holoviews)       {time.perf_counter() - start:6.2f} s")
     source = demo_source()

@@ -8,8 +8,8 @@ import time
 
 import numpy as np
 
-from orbitdeck.models import ephemeris, kepler, sky_view
-from orbitdeck.models.system import Planet, Star, System
+from orbitdeck.models.motion import ephemeris, kepler, sky_view
+from orbitdeck.models.files.system import Planet, Star, System
 
 
 def best_of(func, repeat=7):

@@ -36,10 +36,10 @@ def command_line_seconds() -> tuple[list[float], list[float]]:
 def parts() -> None:
     from orbitdeck.demo_systems import demo_path
     from orbitdeck.models import load_system
-    from orbitdeck.models.earth_orientation import bundled_table
-    from orbitdeck.models.forecast import forecast_transits
-    from orbitdeck.models.system import Site
-    from orbitdeck.models.visibility import nights, transit_sky
+    from orbitdeck.models.motion.earth_orientation import bundled_table
+    from orbitdeck.models.motion.forecast import forecast_transits
+    from orbitdeck.models.files.system import Site
+    from orbitdeck.models.motion.visibility import nights, transit_sky
 
     system = load_system(demo_path())
     site = Site("bench", 35.0, -105.0, 2000.0)

@@ -21,7 +21,7 @@ import random
 import sys
 from pathlib import Path
 
-MAX_PLANETS = 100  # orbitdeck.models.system.MAX_PLANETS, restated so that this script imports nothing of ours
+MAX_PLANETS = 100  # orbitdeck.models.files.system.MAX_PLANETS, restated so that this script imports nothing of ours
 
 BAD = Path(__file__).resolve().parent / "bad"
 

@@ -1,6 +1,6 @@
 """Whether the planets keep atmospheres and what a telescope could see of them."""
 
-from ... import atmospheres, irradiation
+from ...physics import atmospheres, irradiation
 from ..registry import intermediate, quantity
 
 _ATMOSPHERES = "Atmospheres (model estimates)"

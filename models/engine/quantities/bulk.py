@@ -1,6 +1,6 @@
 """What the planets are like in bulk: size, mass, density, gravity, escape speed, Hill radius, spin."""
 
-from ... import dynamics, composition
+from ...physics import composition, dynamics
 from ...constants import GYR, M_EARTH
 from ..registry import quantity
 

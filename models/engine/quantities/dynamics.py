@@ -10,7 +10,7 @@ draws keep each pair's nominal commensurability (the context's anchor).
 
 import numpy as np
 
-from ... import amd, dynamics, ttv
+from ...physics import amd, dynamics, ttv
 from ...constants import DAY, MINUTE
 from ..registry import inner, intermediate, outer, quantity
 

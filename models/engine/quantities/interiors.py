@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from ... import interiors, tides
+from ...physics import interiors, tides
 from ..registry import intermediate, quantity
 
 _INTERIORS = "Interiors (model estimates)"

@@ -1,6 +1,6 @@
 """Light received: insolation, equilibrium temperature and place in the habitable zone."""
 
-from ... import irradiation
+from ...physics import irradiation
 from ..registry import intermediate, quantity
 
 _ORBITS = "Orbits and irradiation"

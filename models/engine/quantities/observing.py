@@ -1,6 +1,6 @@
 """What a telescope sees of each planet: transits, radial velocities, spectroscopy metrics."""
 
-from ... import observability
+from ...physics import observability
 from ...constants import HOUR, R_EARTH, R_SUN
 from ..registry import quantity
 

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from ... import composition, orbits
+from ...physics import composition, orbits
 from ...constants import AU, DAY, M_EARTH, R_EARTH
 from ..registry import intermediate, quantity
 

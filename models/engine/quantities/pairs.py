@@ -6,7 +6,7 @@ Monte Carlo draws measure every pair from its nominal commensurability
 
 import numpy as np
 
-from ... import dynamics, resonances
+from ...physics import dynamics, resonances
 from ..registry import inner, intermediate, outer, quantity
 
 _PAIRS = "Adjacent pairs"

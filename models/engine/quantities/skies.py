@@ -11,7 +11,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ... import orbits, skies
+from ...physics import orbits, skies
 from ...constants import AU, RAD_TO_ARCSEC
 from ..registry import intermediate, quantity
 

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from ... import irradiation
+from ...physics import irradiation
 from ...constants import L_SUN, M_SUN, R_SUN
 from ..registry import intermediate, quantity
 

@@ -1,6 +1,6 @@
 """Consecutive triples: the Laplace-type relation p/P1 - (p+q)/P2 + q/P3 closest to zero."""
 
-from ... import resonances
+from ...physics import resonances
 from ..registry import intermediate, of_triples, quantity
 
 _TRIPLES = "Three-body relations (consecutive triples)"

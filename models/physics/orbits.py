@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G
+from ..constants import G
 
 
 def semi_major_axis(period_s, total_mass_kg):

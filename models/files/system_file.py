@@ -6,7 +6,7 @@ file, the field path (``planets[2].eccentricity``) and the reason, all at
 once, as a :class:`SystemFileError`; what is doubtful but usable (astropy's
 remarks on an unusual unit string) comes back as notes naming the file and
 field too. Only regular files of at most :data:`MAX_FILE_BYTES` are read,
-holding at most :data:`~orbitdeck.models.system.MAX_PLANETS` planets.
+holding at most :data:`~orbitdeck.models.files.system.MAX_PLANETS` planets.
 Saving writes a temporary file beside the target and renames it over, so a
 failed save never damages a file (see :mod:`.safe_io`), and never writes
 what loading would refuse.
@@ -397,7 +397,7 @@ def save_system(system: System, path, overwrite: bool = False) -> None:
     system : System
         The system to write.
     path : str or os.PathLike
-        The file; see :func:`~orbitdeck.models.safe_io.atomic_write` for
+        The file; see :func:`~orbitdeck.models.files.safe_io.atomic_write` for
         links, special files and attributes.
     overwrite : bool
         Also replace a read-only or hard-linked file.

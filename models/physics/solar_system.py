@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .constants import G, M_EARTH, M_JUP, R_EARTH, R_JUP
+from ..constants import G, M_EARTH, M_JUP, R_EARTH, R_JUP
 
 _FACT_SHEET = "NASA fact sheet (from memory)"
 

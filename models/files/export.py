@@ -7,9 +7,9 @@ import astropy.units as u
 import numpy as np
 from astropy.table import Table
 
-from .derive import Derived, _plain, document_keys
+from ..engine.derive import Derived, _plain, document_keys
 from .provenance import CAUTION
-from .registry import by_key
+from ..engine.registry import by_key
 
 
 def derived_table(derived: Derived, table: str) -> Table:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN
+from ..constants import C_LIGHT, G, H_PLANCK, K_BOLTZMANN
 
 # Kempton et al. 2018 (PASP 130, 114401), Table 1: TSM scale factors by radius bin [Rearth]
 TSM_RADIUS_EDGES = np.array([0.0, 1.5, 2.75, 4.0, 10.0])

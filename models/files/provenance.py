@@ -3,7 +3,7 @@
 The provenance of a derivation names the orbitdeck version, the input (its
 name and the SHA-256 of the bytes read; for a state edited after reading,
 also the SHA-256 of its system text), every modelling assumption in
-force (read from the :class:`~orbitdeck.models.system.Assumptions` object's
+force (read from the :class:`~orbitdeck.models.files.system.Assumptions` object's
 parameters, so an added assumption appears without further code), the
 Monte Carlo draws and seed, and the published methods the numbers used.
 It holds no time of day: the same input gives byte-identical exports.
@@ -14,8 +14,8 @@ from __future__ import annotations
 import hashlib
 import math
 
-from ..system import System
-from .methods import methods_used
+from .system import System
+from ..engine.methods import methods_used
 
 #: what every export says of its numbers
 CAUTION = "Model estimates under the stated assumptions, not measurements."

@@ -14,7 +14,7 @@ The bounds of the parameters are those within which every derived quantity,
 position and sky can be computed (a period of 1e-300 d would give a zero
 semi-major axis, a time of 1e308 d an infinite mean anomaly); a system holds
 at most :data:`MAX_PLANETS` planets, whose names must show as themselves and
-differ on screen (:mod:`orbitdeck.models.names`; checked when a system is
+differ on screen (:mod:`orbitdeck.models.files.names`; checked when a system is
 built and whenever its planet list is set, not when a name is changed later).
 """
 

@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G
+from ..constants import G
 
 #: PLB17's numerical factor r of the overlap criterion (r ~ 0.80 in the paper)
 OVERLAP_R = 0.80

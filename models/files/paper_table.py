@@ -2,7 +2,7 @@
 
 Values with Monte Carlo intervals are written as journals print them,
 ``$x^{+a}_{-b}$`` (``$x \\pm a$`` when both sides agree), rounded by the
-rule of :mod:`orbitdeck.models.rounding`; values without an interval keep
+rule of :mod:`orbitdeck.models.files.rounding`; values without an interval keep
 the registry's format. Each column heading gives the quantity's label and
 its unit from the registry, in parentheses (in the heading itself, so that
 astropy reads the table back). The provenance opens the file as ``%``
@@ -19,9 +19,9 @@ import re
 import astropy.units as u
 from astropy.table import Table
 
-from ..rounding import from_interval
+from .rounding import from_interval
 from .provenance import CAUTION, provenance_lines
-from .registry import Quantity, by_key, declared
+from ..engine.registry import Quantity, by_key, declared
 
 FORMATS = {"latex": "ascii.latex", "aastex": "ascii.aastex"}
 _LATEX_SPECIAL = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_",

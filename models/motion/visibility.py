@@ -7,7 +7,7 @@ altitude and the Sun at or below a maximum altitude (defaults: 30 deg,
 but those conditions hold over some part of ingress to egress. The window
 is checked at evenly spaced instants at most :data:`CHECK_STEP_MIN` apart.
 Times at the site are the barycentric mid-times taken back along the
-light's path (:func:`orbitdeck.models.sites.barycentric_to_utc`); instants
+light's path (:func:`orbitdeck.models.motion.sites.barycentric_to_utc`); instants
 around a transit follow from the mid-time's UTC by the same offsets (the
 light-travel time changes by milliseconds in a few hours). These are model
 estimates: geometric altitudes (no refraction), no weather, no horizon.
@@ -24,7 +24,7 @@ from astropy.time import Time
 from . import sites
 from .earth_orientation import coverage_notes, offline_astropy
 from .forecast import DEFAULT_MAX_SUN_ALTITUDE_DEG, Conditions, TransitForecast
-from .system import Site, Star
+from ..files.system import Site, Star
 
 #: largest spacing of the instants at which a window is checked [min]
 CHECK_STEP_MIN = 5.0

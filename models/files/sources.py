@@ -11,7 +11,7 @@ import hashlib
 from dataclasses import dataclass
 from functools import cached_property
 
-from .files import Problem, SystemFileError, loads_system, read_system_bytes
+from .system_file import Problem, SystemFileError, loads_system, read_system_bytes
 from .system import System
 
 
@@ -29,7 +29,7 @@ class SystemSource:
 
     def system(self, notes: list | None = None) -> System:
         """A new :class:`System` read from the bytes (SystemFileError naming the source if they are bad);
-        notes on usable oddities go to ``notes`` (see :func:`~orbitdeck.models.files.loads_system`)."""
+        notes on usable oddities go to ``notes`` (see :func:`~orbitdeck.models.files.system_file.loads_system`)."""
         return loads_system(self.data, self.name, notes)
 
 

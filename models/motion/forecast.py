@@ -13,7 +13,7 @@ These are model estimates: a fixed linear ephemeris, uncorrelated errors of
 T0 and P, no planet-planet perturbations (transit-timing variations). A
 TTV amplitude can be added as a separate, labelled padding of the windows.
 Every time is BJD_TDB [d]. Nothing here depends on a site (see
-:mod:`orbitdeck.models.visibility`).
+:mod:`orbitdeck.models.motion.visibility`).
 """
 
 from __future__ import annotations
@@ -22,16 +22,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import composition, kepler, observability, orbits
-from .constants import DAY, M_EARTH, M_SUN, R_EARTH, R_SUN
-from .problems import planet_field
-from .system import System
+from . import kepler
+from ..physics import composition, observability, orbits
+from ..constants import DAY, M_EARTH, M_SUN, R_EARTH, R_SUN
+from ..files.problems import planet_field
+from ..files.system import System
 
 #: the longest range one forecast may span [d] (5 Julian years)
 MAX_RANGE_DAYS = 5 * 365.25
 MINUTES_PER_DAY = 1440.0
 _RADIANS_PER_DEGREE = np.pi / 180.0
-#: when a transit counts as observable from a site (see :mod:`orbitdeck.models.visibility`)
+#: when a transit counts as observable from a site (see :mod:`orbitdeck.models.motion.visibility`)
 DEFAULT_MIN_ALTITUDE_DEG = 30.0
 DEFAULT_MAX_SUN_ALTITUDE_DEG = -12.0
 DEFAULT_BASELINE_H = 1.0
@@ -139,7 +140,7 @@ def nominal_transit_durations(system: System) -> np.ndarray:
     """Total transit duration T14 [d] of every planet at its nominal values (NaN where it does not transit).
 
     The same formulas as the derived tables (Winn 2010 eqs. 7, 14 and 16 in
-    :mod:`orbitdeck.models.observability`), with masses from Chen & Kipping
+    :mod:`orbitdeck.models.physics.observability`), with masses from Chen & Kipping
     2017 where none is given.
     """
     star = system.star

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G, M_EARTH, M_JUP
+from ..constants import G, M_EARTH, M_JUP
 
 # Chen & Kipping 2017 (ApJ 834, 17), Table 1, mean posterior values:
 # R = C M^S piecewise in Earth units, continuous at the transitions.

@@ -4,10 +4,10 @@ astropy does the astronomy: time scales, the barycentric light-travel time
 (``Time.light_travel_time``), apparent places in the site's hour-angle frame
 (``HADec``), and the Sun and the Moon from its built-in ephemerides
 (``get_body``). Nothing here downloads anything: every astropy call runs
-inside :func:`~orbitdeck.models.earth_orientation.offline_astropy`, which
+inside :func:`~orbitdeck.models.motion.earth_orientation.offline_astropy`, which
 for its duration only keeps astropy to the Earth-orientation (IERS) table
 and leap seconds bundled with it and to its built-in ephemeris;
-:func:`~orbitdeck.models.earth_orientation.coverage_notes` says when a time
+:func:`~orbitdeck.models.motion.earth_orientation.coverage_notes` says when a time
 lies beyond those tables.
 
 Altitudes at many instants come from a :class:`SkyTrack`: astropy's
@@ -35,7 +35,7 @@ from astropy.coordinates import Distance, EarthLocation, HADec, SkyCoord, get_bo
 from astropy.time import Time
 
 from .earth_orientation import offline_astropy
-from .system import DEFAULT_COORDINATE_EPOCH, Site, Star
+from ..files.system import DEFAULT_COORDINATE_EPOCH, Site, Star
 
 #: spacing of the nodes of a :class:`SkyTrack` [d]: interpolated linearly, the Sun's altitude stays within
 #: about 15 arcsec of astropy's AltAz at 2 d (7 at 1 d, 40 at 4 d), a star's within about 1 arcsec

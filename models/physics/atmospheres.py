@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import ATOMIC_MASS_UNIT, C_LIGHT, G, H_PLANCK, K_BOLTZMANN, SOLAR_CONSTANT
+from ..constants import ATOMIC_MASS_UNIT, C_LIGHT, G, H_PLANCK, K_BOLTZMANN, SOLAR_CONSTANT
 from .solar_system import body
 
 #: the body the shoreline is drawn through: Mars, which keeps a thin atmosphere at the boundary

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G
+from ..constants import G
 
 #: Earth's mean surface heat flow [W m^-2]: about 47 TW over 5.1e14 m^2 (Davies & Davies 2010,
 #: Solid Earth 1, 5; from memory), for comparison

@@ -1,6 +1,6 @@
 """Reading the star's sky position and the observing sites of a system file.
 
-Part of the system-file checker (:mod:`orbitdeck.models.files`): ``[star]``
+Part of the system-file checker (:mod:`orbitdeck.models.files.system_file`): ``[star]``
 ``ra`` and ``dec`` as degrees or sexagesimal strings, optional proper
 motions and their epoch, and the optional ``[[sites]]`` array. Every
 problem names its field, as everywhere in the format.

@@ -1,6 +1,6 @@
 """The sky seen from one planet: sizes, elongations, phases, brightness, close approaches.
 
-Geometry comes from :mod:`orbitdeck.models.ephemeris` (fixed Keplerian
+Geometry comes from :mod:`orbitdeck.models.motion.ephemeris` (fixed Keplerian
 orbits, star at the origin). For an observer planet O and a body B (the
 star, named ``"star"``, or another planet):
 
@@ -25,8 +25,8 @@ import astropy.units as u
 import numpy as np
 
 from . import ephemeris
-from .constants import RAD_TO_ARCSEC
-from .skies import angular_diameter
+from ..constants import RAD_TO_ARCSEC
+from ..physics.skies import angular_diameter
 
 #: Moon mean radius, 1737.4 km (IAU WGCCRE report, Archinal et al. 2018; from memory)
 MOON_RADIUS = 1737.4 * u.km
@@ -151,7 +151,7 @@ def stellar_luminosity_lsun(star) -> float:
 
     Parameters
     ----------
-    star : orbitdeck.models.system.Star
+    star : orbitdeck.models.files.system.Star
         The star (radius [Rsun], teff [K], optional luminosity [Lsun]).
 
     Returns
@@ -182,7 +182,7 @@ def sky_from(system, observer_name: str, times, a_au=None, geometric_albedo: flo
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
         The system.
     observer_name : str
         Name of the planet whose sky is wanted.
@@ -330,7 +330,7 @@ def close_approaches(system, observer: str, after=None, count: int = 3, a_au=Non
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
         The system.
     observer : str
         Name of the planet the distances are measured from.

@@ -113,7 +113,7 @@ def orbital_elements(system, a_au=None) -> OrbitalElements:
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
         The system; its planets are taken in period order.
     a_au : array_like, optional
         Semi-major axes [au], one per planet, e.g. those derived with
@@ -137,7 +137,7 @@ def orbital_elements(system, a_au=None) -> OrbitalElements:
     n = len(planets)
     period = np.array([p.period for p in planets], dtype=float)
     if a_au is None:
-        from .engine.derive import nominal_semi_major_axes_au   # the engine imports this module's package
+        from ..engine.derive import nominal_semi_major_axes_au   # the engine imports this module's package
 
         a = nominal_semi_major_axes_au(system)
     else:
@@ -229,7 +229,7 @@ def positions(elements: OrbitalElements, times) -> Positions:
     """Positions of every planet at ``times`` on its Keplerian orbit.
 
     Mean anomaly from the transit time (Winn 2010), Kepler's equation
-    (:func:`orbitdeck.models.kepler.solve_kepler`), true anomaly and radius
+    (:func:`orbitdeck.models.motion.kepler.solve_kepler`), true anomaly and radius
     (M&D 1999, eqs. 2.46, 2.42) and the sky frame of
     :func:`sky_frame_position`.
 
@@ -261,7 +261,7 @@ def positions_document(system, time=None, a_au=None) -> dict:
 
     Parameters
     ----------
-    system : orbitdeck.models.system.System
+    system : orbitdeck.models.files.system.System
         The system.
     time : float, optional
         Time [BJD_TDB, d]; the system epoch when omitted.

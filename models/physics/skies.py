@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import MOON_ANGULAR_DIAMETER
+from ..constants import MOON_ANGULAR_DIAMETER
 
 
 def angular_diameter(radius, distance):

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import G
+from ..constants import G
 
 #: spacing below which two planets are Hill unstable on circular orbits (Gladman 1993)
 HILL_STABLE_SPACING = 2.0 * np.sqrt(3.0)

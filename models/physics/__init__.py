@@ -1,0 +1,1 @@
+"""The physical topics: one module per topic, one function per published formula."""
