@@ -17,7 +17,8 @@ HERE = Path(__file__).parent
 sys.path.insert(0, str(HERE.parent / "tests"))
 from browser_support import chromium, open_page, served  # noqa: E402
 
-VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
+VIEWS = ("Layout", "Neighbour skies", "Period ladder", "Flux & temperature", "Observability", "Dynamics",
+         "Bulk & atmosphere", "Transit planner")
 
 
 def main() -> None:
@@ -30,7 +31,8 @@ def main() -> None:
             page.wait_for_selector(".bk-Canvas", timeout=60_000)
             for view in VIEWS:
                 page.locator(".bk-tab", has_text=view).first.click()
-                page.wait_for_timeout(1500)
+                page.wait_for_selector(".bk-Canvas:visible", timeout=60_000)
+                page.wait_for_timeout(2500)
                 slug = view.lower().replace(" & ", "_").replace(" ", "_")
                 page.screenshot(path=str(out / f"{slug}.png"), full_page=False)
         snapshot = Path(scratch) / "snapshot.html"

@@ -52,9 +52,11 @@ CARD_TITLE_CSS = f"""
 """
 
 TABS_CSS = f"""
-.bk-header {{ border-bottom: 1px solid {palette.RULE}; }}
+/* the tab titles wrap onto a second line rather than hide beyond the page's width */
+.bk-header {{ border-bottom: 1px solid {palette.RULE}; overflow: visible; }}
+.bk-headers-wrapper {{ flex-wrap: wrap; overflow: visible; }}
 .bk-tab {{ font-family: {SERIF}; font-size: 15px; color: {palette.MUTED_INK}; border: none;
-  border-bottom: 3px solid transparent; background: transparent; padding: 6px 14px 4px 14px; }}
+  border-bottom: 3px solid transparent; background: transparent; padding: 6px 11px 4px 11px; }}
 .bk-tab.bk-active {{ color: {palette.INK}; border: none; border-bottom: 3px solid {palette.ACCENT};
   background: transparent; }}
 .bk-tab:hover {{ color: {palette.INK}; }}
