@@ -32,7 +32,8 @@ from orbitdeck.models.constants import DAY, MINUTE
 from . import palette
 from .common import (View, as_floats, batched, escape, fmt, interval, interval_caption, note, section,
                      select_on_tap, set_section, span_texts, while_shown)
-from .dynamics_plots import (BETA_LAYERS, BETA_STYLES, OVERLAP_LAYERS, OVERLAP_STYLES, TTV_LAYERS, TTV_STYLES)
+from .dynamics_plots import (BETA_LAYERS, BETA_STYLES, OVERLAP_LAYERS, OVERLAP_STYLES, TTV_LAYERS, TTV_STYLES,
+                             pairs_note)
 from .ensemble_run import EnsembleSection
 from .entries import Picker
 from .plotting import LayeredPlot, extent
@@ -207,7 +208,7 @@ class DynamicsView(View):
             self.table.selection = wanted
         set_section(self.ttv_title, self._ttv_heading(d))
         self.ttv_caption.object = self._ttv_note(d)
-        self.pairs_caption.object = self._pairs_note(d)
+        self.pairs_caption.object = pairs_note(d, BETA_AXIS_CAP) if self._labels else ""
 
     # -- the TTV plot ------------------------------------------------------------------------------
     def _prediction(self, d, k):
@@ -370,27 +371,6 @@ class DynamicsView(View):
                       "edge_range": span_texts(*found, digits=6) if found is not None else [""] * n,
                       "inside": inside, **self._marks(n), **ranges},
         }
-
-    def _pairs_note(self, d) -> str:
-        if not self._labels:
-            return ""
-        stable = d.system.get("amd_stable")
-        share = (d.fractions or {}).get("system", {}).get("amd_stable")
-        verdict = ("AMD-stable" if stable else "not AMD-stable") + (
-            f" in {100 * share:.0f} % of the draws" if share is not None else "")
-        parts = [f"Left: beta = AMD / critical AMD of each pair (Laskar &amp; Petit 2017; Petit, Laskar &amp; "
-                 f"Bou\u00e9 2017), bars in the inner planet's colour, the dashed line at 1; the system is "
-                 f"{verdict}. Bars above {BETA_AXIS_CAP:g} are cut and labelled."]
-        if not d.system.get("amd_kg_m2_s"):
-            parts.append("AMD = 0 (circular orbits): every beta is 0.")
-        parts.append("Right: each pair's period ratio (a disc in the inner planet's colour) against the shaded "
-                     "zone where first-order resonances overlap (Deck, Payne &amp; Holman 2013) and the dotted "
-                     "j:j\u22121 commensurabilities.")
-        caption = interval_caption(d)
-        if caption:
-            parts.append(f"Error bars: {escape(caption)}.")
-        parts.append("Both take mutual inclinations as zero.")
-        return " ".join(parts)
 
     def _frame(self):
         d = self.app.derived

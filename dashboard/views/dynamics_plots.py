@@ -20,6 +20,7 @@ import holoviews as hv
 import numpy as np
 
 from . import palette
+from .common import escape, interval_caption
 from .plotting import FONT_SIZES, Styles, drawn, texts
 
 OVERLAP_ZONE_COLOUR = "#c9c2b3"
@@ -301,3 +302,24 @@ SURVIVAL_STYLES = Styles(
         "Histogram.DynamicsStopped": dict(color=STOPPED_COLOUR, edgecolor=palette.INK),
         "Histogram.DynamicsSurvived": dict(color=SURVIVED_COLOUR, edgecolor=palette.INK),
     })
+
+
+def pairs_note(d, beta_cap: float) -> str:
+    """What the AMD and overlap plots of derived state ``d`` show (beneath them; HTML)."""
+    stable = d.system.get("amd_stable")
+    share = (d.fractions or {}).get("system", {}).get("amd_stable")
+    verdict = ("AMD-stable" if stable else "not AMD-stable") + (
+        f" in {100 * share:.0f} % of the draws" if share is not None else "")
+    parts = [f"Left: beta = AMD / critical AMD of each pair (Laskar &amp; Petit 2017; Petit, Laskar &amp; "
+             f"Bou\u00e9 2017), bars in the inner planet's colour, the dashed line at 1; the system is "
+             f"{verdict}. Bars above {beta_cap:g} are cut and labelled."]
+    if not d.system.get("amd_kg_m2_s"):
+        parts.append("AMD = 0 (circular orbits): every beta is 0.")
+    parts.append("Right: each pair's period ratio (a disc in the inner planet's colour) against the shaded "
+                 "zone where first-order resonances overlap (Deck, Payne &amp; Holman 2013) and the dotted "
+                 "j:j\u22121 commensurabilities.")
+    caption = interval_caption(d)
+    if caption:
+        parts.append(f"Error bars: {escape(caption)}.")
+    parts.append("Both take mutual inclinations as zero.")
+    return " ".join(parts)
