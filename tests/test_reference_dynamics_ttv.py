@@ -304,7 +304,8 @@ def test_free_eccentricity_assumption_reaches_the_amplitudes(make_system):
 
 
 def test_curves_of_both_planets_worked_from_the_mean_longitudes():
-    # LXW12 Sect. 2: delta t = Re[V e^(i lambda^j)], delta t' = Re[V' e^(i lambda^j)], lambda^j = j lambda' -
+    # LXW12 Sect. 2 with the longitudes from the line of sight: delta t = Im[V e^(i lambda^j)],
+    # delta t' = Im[V' e^(i lambda^j)] (see ttv_signal), lambda^j = j lambda' -
     # (j - 1) lambda, each mean longitude 2 pi (t - T) / P from a transit (zero at transit); worked here with
     # plain numpy at a few times
     period, period_out, j = 3.1, 4.72, 3
@@ -314,21 +315,22 @@ def test_curves_of_both_planets_worked_from_the_mean_longitudes():
     lam, lam_out = 2 * np.pi * (t - transit) / period, 2 * np.pi * (t - transit_out) / period_out
     angle = j * lam_out - (j - 1) * lam
     inner, outer = ttv.ttv_curves(t, v, v_out, period, period_out, transit, transit_out, j)
-    np.testing.assert_allclose(inner, v.real * np.cos(angle) - v.imag * np.sin(angle), rtol=1e-12, atol=1e-15)
-    np.testing.assert_allclose(outer, v_out.real * np.cos(angle) - v_out.imag * np.sin(angle), rtol=1e-12,
+    np.testing.assert_allclose(inner, v.real * np.sin(angle) + v.imag * np.cos(angle), rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(outer, v_out.real * np.sin(angle) + v_out.imag * np.cos(angle), rtol=1e-12,
                                atol=1e-15)
 
 
 def test_curves_at_a_double_transit_and_one_super_period_later():
-    # both planets in transit at t0: lambda = lambda' = 0, so delta t = Re V and delta t' = Re V'; the same
+    # both planets in transit at t0: lambda = lambda' = 0, so delta t = Im V and delta t' = Im V'; the same
     # again one super-period 1 / |j/P' - (j-1)/P| later (LXW12 Sect. 2)
     period, period_out, j, t0 = 10.0, 15.15, 3, 2461000.25
     super_period = 1.0 / abs(j / period_out - (j - 1) / period)
     v, v_out = 3e-3 + 2e-3j, -1e-3 - 0.5e-3j
     at = np.array([t0, t0 + super_period])
     inner, outer = ttv.ttv_curves(at, v, v_out, period, period_out, t0, t0, j)
-    np.testing.assert_allclose(inner, [v.real, v.real], rtol=1e-9)
-    np.testing.assert_allclose(outer, [v_out.real, v_out.real], rtol=1e-9)
-    # a quarter of a super-period on, lambda^j has turned by -pi/2 (j/P' < (j-1)/P here): delta t = Im V
+    np.testing.assert_allclose(inner, [v.imag, v.imag], rtol=1e-9)
+    np.testing.assert_allclose(outer, [v_out.imag, v_out.imag], rtol=1e-9)
+    # a quarter of a super-period on, lambda^j has turned by -pi/2 (j/P' < (j-1)/P here):
+    # delta t = Im[-i V] = -Re V
     quarter = ttv.ttv_curves(t0 + super_period / 4, v, v_out, period, period_out, t0, t0, j)
-    assert quarter[0] == pytest.approx(v.imag, rel=1e-9) and quarter[1] == pytest.approx(v_out.imag, rel=1e-9)
+    assert quarter[0] == pytest.approx(-v.real, rel=1e-9) and quarter[1] == pytest.approx(-v_out.real, rel=1e-9)
