@@ -140,7 +140,8 @@ def beta_bars(d, backend: str = "bokeh"):
         ends = [dims[0].clone("position1", label="position (end)"), dims[1].clone("beta1", label="beta (end)")]
         return hv.Rectangles((x - 0.4, np.zeros(x.size), x + 0.4, d["beta"], texts(d["colour"]),
                               texts(d["line_colour"])), [*dims, *ends], ["colour", "line_colour"],
-                             group="DynamicsBetaBox", label="beta").opts(xticks=ticks, backend=backend)
+                             group="DynamicsBetaBox", label="beta").opts(
+                                 xticks=ticks or 0, backend=backend)   # no pairs (one planet): no ticks
     columns = {"pair": texts(d["pair"]), "beta": d["beta"], **{k: d[k] for k in BETA_VDIMS}}
     for k in ("colour", "line_colour", "beta_text", "beta_range"):
         columns[k] = texts(columns[k])
