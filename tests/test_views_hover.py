@@ -80,6 +80,8 @@ def hovered_columns(figure):
         fields = [braced or plain for _, template in tool.tooltips
                   for braced, plain in re.findall(r"@(?:\{([^}]+)\}|(\w+))", template)]
         for renderer in renderers:
+            if not renderer.visible:   # a hidden layer (its placeholder row included) cannot be hovered
+                continue
             source = renderer.data_source
             assert isinstance(source, ColumnDataSource)
             for name in fields:
