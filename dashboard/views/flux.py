@@ -185,14 +185,8 @@ class FluxView(View):
         self._refresh()
 
     # -- following the app ----------------------------------------------------------------------
+
     @param.depends("app.derived", watch=True)
-    def _on_derived(self):
-        self._refresh()
-
-    @param.depends("app.selected", watch=True)
-    def _on_selected(self):
-        self._highlight()
-
     @while_shown
     @batched
     def _refresh(self):
@@ -210,6 +204,7 @@ class FluxView(View):
         self.caution.object = caution_html([q for qs in self.groups.values() for q in qs], d) + " " + TEQ_NOTE
         self._sync_tables()
 
+    @param.depends("app.selected", watch=True)
     @while_shown
     @batched
     def _highlight(self):

@@ -230,14 +230,7 @@ class LadderView(View):
         """The planet each drawn disc stands for (a pair's inner disc its inner planet, its outer disc the outer)."""
         return self.plot.data["pairs"]["planet"]
 
-    @param.depends("app.derived", "app.pinned", "app.pinned_label", watch=True)
-    def _on_derived(self):
-        self._refresh()
-
     @param.depends("app.selected_pair", watch=True)
-    def _on_pair(self):
-        self._show_pair()
-
     @while_shown
     @batched
     def _show_pair(self):
@@ -256,10 +249,7 @@ class LadderView(View):
                                           else BAND_HALF_WIDTH)]),
                 "y1": np.array([yr[1]])}
 
-    @param.depends("app.selected", watch=True)
-    def _on_selected(self):
-        self._highlight()
-
+    @param.depends("app.derived", "app.pinned", "app.pinned_label", watch=True)
     @while_shown
     @batched
     def _refresh(self):
@@ -282,6 +272,7 @@ class LadderView(View):
         self.caption.object = " ".join(notes)
         self.caution.object = caution_html(self.pair_quantities + self.triple_quantities, d)
 
+    @param.depends("app.selected", watch=True)
     @while_shown
     @batched
     def _highlight(self):

@@ -212,13 +212,6 @@ class LayoutView(View):
 
     @param.depends("app.derived", "app.elements", "app.time", "app.reference", "app.show_hill",
                    "app.pinned_elements", "app.pinned_label", watch=True)
-    def _on_state(self):
-        self._refresh()
-
-    @param.depends("app.selected", watch=True)
-    def _on_selected(self):
-        self._highlight()
-
     @while_shown
     @batched
     def _refresh(self):
@@ -246,6 +239,7 @@ class LayoutView(View):
             notes.append(f"Semi-major axis ranges in the tooltips: {escape(caption)}.")
         self.caption.object = " ".join(n for n in notes if n)
 
+    @param.depends("app.selected", watch=True)
     @while_shown
     @batched
     def _highlight(self):

@@ -115,13 +115,6 @@ class ObservabilityView(View):
         self._refresh()
 
     @param.depends("app.derived", watch=True)
-    def _on_derived(self):
-        self._refresh()
-
-    @param.depends("app.selected", watch=True)
-    def _on_selected(self):
-        self._highlight()
-
     @while_shown
     @batched
     def _refresh(self):
@@ -141,6 +134,7 @@ class ObservabilityView(View):
         self.caution.object = caution_html(self.quantities, d)
         self._sync_table()
 
+    @param.depends("app.selected", watch=True)
     @while_shown
     @batched
     def _highlight(self):

@@ -205,13 +205,6 @@ class SkiesView(View):
         return self.matrix.dynamic["cells"].last.gridded.dimension_values("observer")
 
     @param.depends("app.derived", watch=True)
-    def _on_derived(self):
-        self._refresh()
-
-    @param.depends("app.selected", watch=True)
-    def _on_selected(self):
-        self._observer()
-
     @while_shown
     @batched
     def _refresh(self):
@@ -224,6 +217,7 @@ class SkiesView(View):
                                + (f" Ranges: {escape(caption)}." if caption else ""))
         self._observer()
 
+    @param.depends("app.selected", watch=True)
     @while_shown
     @batched
     def _observer(self):

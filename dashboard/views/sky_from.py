@@ -235,9 +235,6 @@ class SkyFromView(View):
         self.window_message.object = ""
 
     @param.depends("app.derived", "app.selected", "app.time", "app.elements", "window", "body", watch=True)
-    def _on_state(self):
-        self._refresh()
-
     @while_shown
     @batched
     def _refresh(self):
