@@ -33,6 +33,7 @@ from orbitdeck.models.physics import atmospheres, interiors, solar_system, tides
 from orbitdeck.models.constants import R_EARTH, R_SUN
 
 from . import palette
+from .common import as_floats
 from .plotting import Styles, bar_colours, load_backend, plain_log_ticks
 
 #: mean molecular weights of the spectroscopy table [u]: H2/He (solar), water, N2, CO2
@@ -119,8 +120,12 @@ HEAT_STYLES = Styles(
 STYLES = {"mass_radius": MASS_RADIUS_STYLES, "shoreline": SHORELINE_STYLES, "heat": HEAT_STYLES}
 
 
-def _floats(values) -> np.ndarray:
-    return np.array([np.nan if v is None else v for v in values], dtype=float)
+def _on_log_axes(values) -> np.ndarray:
+    """``values`` as floats, NaN where a logarithmic axis cannot place them (missing, infinite, zero or negative):
+    every plot of this view is logarithmic in these quantities."""
+    x = as_floats(values)
+    with np.errstate(invalid="ignore"):
+        return np.where(np.isfinite(x) & (x > 0.0), x, np.nan)
 
 
 def _bounds(derived, key: str, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -196,7 +201,7 @@ class BulkView(param.Parameterized):
         d = self.app.derived
         pl = d.planets
         names = [str(n) for n in pl["name"]]
-        columns = {key: _floats(pl[key]) for key in (
+        columns = {key: _on_log_axes(pl[key]) for key in (
             "mass_mearth", "radius_rearth", "escape_speed_kms", "insolation_earth", "tidal_heat_flux_w_m2")}
         return {"name": names, "colour": self.app.colours.colours(names),
                 "estimated": np.asarray(pl["mass_estimated"], dtype=bool), **columns}
@@ -314,8 +319,8 @@ class BulkView(param.Parameterized):
         """The rows of the spectroscopy table: one per planet."""
         d = self.app.derived
         pl = d.planets
-        teq, gravity = _floats(pl["teq_k"]), _floats(pl["surface_gravity_ms2"])
-        radius_m = _floats(pl["radius_rearth"]) * R_EARTH
+        teq, gravity = as_floats(pl["teq_k"]), as_floats(pl["surface_gravity_ms2"])
+        radius_m = as_floats(pl["radius_rearth"]) * R_EARTH
         star_radius_m = d.star["radius_rsun"] * R_SUN
         frame = {"planet": [str(n) for n in pl["name"]], "Teq [K]": teq}
         for mu in MOLECULAR_WEIGHTS:
@@ -326,8 +331,8 @@ class BulkView(param.Parameterized):
             frame[f"transits(\u03bc={mu:g})"] = atmospheres.transits_needed(self.scale_heights * signal,
                                                                              self.precision_ppm, SIGNIFICANCE)
         assumed = self.app.system.assumptions
-        frame[f"eclipse {assumed.eclipse_wavelength_um:g} \u00b5m [ppm]"] = _floats(pl["eclipse_depth_ppm"])
-        frame["escape [kg/s]"] = _floats(pl["escape_rate_kg_s"])
+        frame[f"eclipse {assumed.eclipse_wavelength_um:g} \u00b5m [ppm]"] = as_floats(pl["eclipse_depth_ppm"])
+        frame["escape [kg/s]"] = as_floats(pl["escape_rate_kg_s"])
         return pd.DataFrame(frame)
 
     def _update_table(self, *_):
