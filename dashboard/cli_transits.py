@@ -216,8 +216,8 @@ def cmd_transits(args) -> int:
 def register(commands) -> None:
     """Add the ``transits`` subcommand."""
     from orbitdeck.dashboard.cli import _add_file
-    from orbitdeck.models.motion.forecast import MAX_RANGE_DAYS
-    from orbitdeck.models.motion.forecast import DEFAULT_BASELINE_H, DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFAULT_MIN_ALTITUDE_DEG
+    from orbitdeck.models.motion.forecast import (DEFAULT_BASELINE_H, DEFAULT_MAX_SUN_ALTITUDE_DEG,
+                                                  DEFAULT_MIN_ALTITUDE_DEG, MAX_RANGE_DAYS)
 
     parser = commands.add_parser(
         "transits", help="forecast transits and their visibility from a site",

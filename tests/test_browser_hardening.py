@@ -14,6 +14,7 @@
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 import pytest
 
@@ -26,30 +27,8 @@ from test_browser_hostile import dashboard, hover_everything, show, tab_names
 
 pytestmark = pytest.mark.browser
 
-CROWDED = """format = "orbitdeck-system/1"
-[system]
-name = "Crowded pair"
-epoch = 2461000.0
-[star]
-name = "S"
-mass = 0.2
-radius = 0.2
-teff = 3000
-[[planets]]
-name = "b"
-period = 2.0
-radius = 1.0
-[[planets]]
-name = "c"
-period = 4.0
-radius = 1.5
-mass = 30.0
-[[planets]]
-name = "d"
-period = 4.0
-radius = 1.0
-mass = 1.0
-"""
+#: a system with missing and infinite derived values (see the file)
+CROWDED = (Path(__file__).parent / "data" / "crowded_pair.toml").read_text(encoding="utf-8")
 #: what a reader must never see: raw non-numbers and a negative zero
 ODDITIES = re.compile(r"Infinity|\bNaN\b|\binf\b|\bnan\b|(?<![\w.])[-\u2212]0(?:\.0+)?(?![\d.e])")
 

@@ -13,6 +13,7 @@ import contextlib
 import math
 import re
 import weakref
+from pathlib import Path
 
 import numpy as np
 import panel as pn
@@ -28,30 +29,8 @@ from orbitdeck.models import load_system, loads_system
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 
-CROWDED = """format = "orbitdeck-system/1"
-[system]
-name = "Crowded pair"
-epoch = 2461000.0
-[star]
-name = "S"
-mass = 0.2
-radius = 0.2
-teff = 3000
-[[planets]]
-name = "b"
-period = 2.0
-radius = 1.0
-[[planets]]
-name = "c"
-period = 4.0
-radius = 1.5
-mass = 30.0
-[[planets]]
-name = "d"
-period = 4.0
-radius = 1.0
-mass = 1.0
-"""
+#: a system with missing and infinite derived values (see the file)
+CROWDED = (Path(__file__).parent / "data" / "crowded_pair.toml").read_text(encoding="utf-8")
 #: the views whose tooltips are checked here
 VIEWS = ("Neighbour skies", "Period ladder", "Flux & temperature", "Observability")
 #: a number's oddities a reader must never see
