@@ -77,6 +77,13 @@ def _clean_env() -> dict:
     return env
 
 
+def succeeded(result: subprocess.CompletedProcess) -> subprocess.CompletedProcess:
+    """``result`` after checking that the command succeeded (status 0) without a traceback."""
+    assert result.returncode == 0, result.stderr
+    assert "Traceback" not in result.stderr
+    return result
+
+
 class ForkedCli:
     """A driver interpreter that runs each ``orbitdeck`` command in a forked child."""
 

@@ -55,6 +55,16 @@ def row_of():
 
 
 @pytest.fixture(scope="module")
+def cli():
+    """The ``orbitdeck`` command, each call run in a forked child (see :class:`cli_harness.ForkedCli`), for one
+    module."""
+    from cli_harness import ForkedCli
+
+    with ForkedCli() as runner:
+        yield runner
+
+
+@pytest.fixture(scope="module")
 def browser():
     """Headless Chromium shared by the browser tests of one module."""
     from browser_support import chromium

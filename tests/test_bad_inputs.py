@@ -14,7 +14,7 @@ import tracemalloc
 from pathlib import Path
 
 import pytest
-from cli_harness import ForkedCli, run_installed
+from cli_harness import run_installed
 
 from orbitdeck.models import SystemFileError, load_system, loads_system
 from orbitdeck.models.files.system_file import MAX_FILE_BYTES
@@ -52,12 +52,6 @@ def _expectations(name):
 COMMANDS = ("check", "table")
 #: members also run through the installed entry points, compared with the forked runs
 SAMPLE = ("malformed_toml.toml", "binary_garbage.bin", "many_problems.toml", "unknown_planet_key.toml")
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
 
 
 @pytest.fixture(scope="module")

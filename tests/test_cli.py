@@ -16,7 +16,7 @@ from importlib.metadata import version
 import astropy.units as u
 import pytest
 from astropy.table import Table
-from cli_harness import ForkedCli, console_script, run_installed
+from cli_harness import console_script, run_installed, succeeded
 
 from orbitdeck.dashboard.cli import DEFAULT_SAMPLES, build_parser
 from orbitdeck.demo_systems import DEFAULT_DEMO, demo_names, demo_path
@@ -29,18 +29,6 @@ PLANET_KEYS, PAIR_KEYS, TRIPLE_KEYS, SKY_KEYS = (document_keys(t) for t in ("pla
 DEMOS = demo_names()
 DOCUMENT_KEYS = {"format", "system", "warnings", "star", "planets", "pairs", "triples", "skies", "provenance"}
 STAR_KEYS = {"name", "mass_msun", "radius_rsun", "teff_k", "luminosity_lsun", "hz_au", "hz_extrapolated"}
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
-
-
-def _ok(result):
-    assert result.returncode == 0, result.stderr
-    assert "Traceback" not in result.stderr
-    return result
 
 
 def _strict_json(text):
@@ -60,21 +48,21 @@ def _subcommands():
 @pytest.mark.parametrize("entry", ["script", "module"])
 def test_version(entry):
     assert console_script().is_file()
-    result = _ok(run_installed("--version", entry=entry))
+    result = succeeded(run_installed("--version", entry=entry))
     assert result.stdout == f"orbitdeck {version('orbitdeck')}\n"
 
 
 def test_help_lists_every_subcommand(cli):
     commands = _subcommands()
     assert {"table", "check"} <= set(commands)
-    text = _ok(cli.run("--help")).stdout
+    text = succeeded(cli.run("--help")).stdout
     assert text.startswith("usage: orbitdeck")
     assert all(name in text for name in commands)
 
 
 @pytest.mark.parametrize("command", _subcommands())
 def test_help_of_subcommand(cli, command):
-    result = _ok(cli.run(command, "--help"))
+    result = succeeded(cli.run(command, "--help"))
     assert result.stdout.startswith(f"usage: orbitdeck {command}")
     assert "-h, --help" in result.stdout and result.stderr == ""
 
@@ -135,7 +123,7 @@ UNIT_HEADINGS = ["P [d]", "a [au]", "S [S_earth]", "Teq [K]", "R [R_earth]", "M 
 @pytest.mark.parametrize("name", DEMOS)
 def test_table_prints_tables_with_units(cli, name):
     system = load_system(demo_path(name))
-    text = _ok(cli.run("table", demo_path(name))).stdout
+    text = succeeded(cli.run("table", demo_path(name))).stdout
     lines = text.splitlines()
     assert lines[0] == system.name
     star = system.star
@@ -200,8 +188,8 @@ def test_table_numbers_are_the_json_documents(cli, name):
     # every column of every planet, pair and sky table against the JSON document of the same run: numbers
     # to the four significant figures shown, texts exactly, "-" where the document has none
     path = demo_path(name)
-    text = _ok(cli.run("table", "--samples", "0", path)).stdout
-    doc = _strict_json(_ok(cli.run("table", "--json", "--samples", "0", path)).stdout)
+    text = succeeded(cli.run("table", "--samples", "0", path)).stdout
+    doc = _strict_json(succeeded(cli.run("table", "--json", "--samples", "0", path)).stdout)
     compared = set()
     for headings, rows in _text_tables(text):
         first = headings[0]
@@ -230,15 +218,15 @@ def test_table_numbers_are_the_json_documents(cli, name):
 
 
 def test_table_without_file_shows_the_default_demo(cli):
-    text = _ok(cli.run("table", "--samples", "0")).stdout
+    text = succeeded(cli.run("table", "--samples", "0")).stdout
     assert text.splitlines()[0] == load_system(demo_path(DEFAULT_DEMO)).name
     assert "intervals:" not in text and " +" not in text
 
 
 def test_table_through_the_installed_script_matches(cli):
     args = ("table", "--samples", "40", "--seed", "9", demo_path("skew_trio"))
-    installed = _ok(run_installed(*args, entry="script"))
-    assert installed.stdout == _ok(cli.run(*args)).stdout
+    installed = succeeded(run_installed(*args, entry="script"))
+    assert installed.stdout == succeeded(cli.run(*args)).stdout
 
 
 # -- table --json --------------------------------------------------------------------------------
@@ -272,7 +260,7 @@ def _contains_key(node, key):
 @pytest.mark.parametrize("name", DEMOS)
 def test_json_nominal(cli, name):
     system = load_system(demo_path(name))
-    doc = _strict_json(_ok(cli.run("table", "--json", "--samples", "0", demo_path(name))).stdout)
+    doc = _strict_json(succeeded(cli.run("table", "--json", "--samples", "0", demo_path(name))).stdout)
     _assert_document_shape(doc, system, sampled=False)
     assert not _contains_key(doc, "interval")
     assert doc.pop("provenance")["input"]["sha256"] == hashlib.sha256(demo_path(name).read_bytes()).hexdigest()
@@ -282,7 +270,7 @@ def test_json_nominal(cli, name):
 @pytest.mark.parametrize("name", DEMOS)
 def test_json_sampled_is_reproducible(cli, name):
     args = ("table", "--json", "--samples", "200", "--seed", "3", demo_path(name))
-    first, second = _ok(cli.run(*args)).stdout, _ok(cli.run(*args)).stdout
+    first, second = succeeded(cli.run(*args)).stdout, succeeded(cli.run(*args)).stdout
     assert first == second
     system = load_system(demo_path(name))
     doc = _strict_json(first)
@@ -295,7 +283,7 @@ def test_json_sampled_is_reproducible(cli, name):
     assert (doc["provenance"]["samples"], doc["provenance"]["seed"]) == (200, 3)
     del doc["provenance"]
     assert doc == json.loads(json.dumps(derive(system, samples=200, seed=3).to_dict()))
-    other = _ok(cli.run("table", "--json", "--samples", "200", "--seed", "4", demo_path(name))).stdout
+    other = succeeded(cli.run("table", "--json", "--samples", "200", "--seed", "4", demo_path(name))).stdout
     assert other != first  # the seed is the one used
 
 
@@ -309,7 +297,7 @@ ECSV_UNITS = {"period_d": u.d, "semi_major_axis_au": u.au, "teq_k": u.K, "radius
 @pytest.mark.parametrize("name", DEMOS)
 def test_ecsv_is_read_back_by_astropy_with_units(cli, tmp_path, name):
     out = tmp_path / "planets.ecsv"
-    result = _ok(cli.run("table", "--ecsv", out, "--samples", "0", demo_path(name)))
+    result = succeeded(cli.run("table", "--ecsv", out, "--samples", "0", demo_path(name)))
     assert result.stdout == "" and result.stderr == f"wrote {out}\n"
     table = Table.read(out, format="ascii.ecsv")
     nominal = derive(load_system(demo_path(name))).to_dict()["planets"]
@@ -329,7 +317,7 @@ def test_ecsv_is_read_back_by_astropy_with_units(cli, tmp_path, name):
 
 def test_ecsv_with_intervals_and_json_together(cli, tmp_path):
     out = tmp_path / "planets.ecsv"
-    result = _ok(cli.run("table", "--ecsv", out, "--json", "--samples", "100", "--seed", "5",
+    result = succeeded(cli.run("table", "--ecsv", out, "--json", "--samples", "100", "--seed", "5",
                          demo_path("amber_pair")))
     doc = _strict_json(result.stdout)
     table = Table.read(out, format="ascii.ecsv")
@@ -362,7 +350,7 @@ def test_ecsv_never_replaces_a_pipe_and_a_read_only_file_only_when_told(cli, tmp
     result = cli.run("table", "--ecsv", kept, "--samples", "0", demo_path(DEFAULT_DEMO))
     assert result.returncode == 2 and "is read-only" in result.stderr and "--overwrite" in result.stderr
     assert kept.read_text() == "earlier table\n"
-    _ok(cli.run("table", "--ecsv", kept, "--overwrite", "--samples", "0", demo_path(DEFAULT_DEMO)))
+    succeeded(cli.run("table", "--ecsv", kept, "--overwrite", "--samples", "0", demo_path(DEFAULT_DEMO)))
     assert Table.read(kept, format="ascii.ecsv")["name"][0] == load_system(demo_path(DEFAULT_DEMO)).planet_names[0]
     assert sorted(p.name for p in tmp_path.iterdir()) == ["kept.ecsv", "pipe.ecsv"]
 
@@ -404,7 +392,7 @@ def test_an_unusual_unit_is_reported_with_the_file_and_the_field(cli, tmp_path):
     assert result.stderr.splitlines() == [f"warning: {path}: star.radius.unit: astropy: 'Rsun s2/s/s' contains "
                                           "multiple slashes, which is discouraged by the FITS standard"]
     # the other commands print the same note and go on
-    result = _ok(cli.run("table", path, "--samples", "0"))
+    result = succeeded(cli.run("table", path, "--samples", "0"))
     assert result.stderr.splitlines() == [f"warning: {path}: star.radius.unit: astropy: 'Rsun s2/s/s' contains "
                                           "multiple slashes, which is discouraged by the FITS standard"]
 
@@ -413,7 +401,7 @@ def test_sky_with_events_prints_each_warning_once(cli, tmp_path):
     # planets without a transit time each give a note, from the sky and again from the close approaches
     path = tmp_path / "crowded.toml"
     path.write_text(EQUAL_PERIODS)
-    result = _ok(cli.run("sky", path, "--observer", "b", "--events", "2"))
+    result = succeeded(cli.run("sky", path, "--observer", "b", "--events", "2"))
     warnings = [line for line in result.stdout.splitlines() if line.startswith("warning: ")]
     assert any("transit_time" in w for w in warnings)
     assert len(warnings) == len(set(warnings)), warnings
@@ -424,7 +412,7 @@ def test_no_negative_zero_and_no_infinity_in_the_tables(cli, tmp_path):
     # it a hair inside c: a spacing of about -0.003 mutual Hill radii, written -0.00 to two places
     path = tmp_path / "crowded.toml"
     path.write_text(EQUAL_PERIODS)
-    text = _ok(cli.run("table", path, "--samples", "0")).stdout
+    text = succeeded(cli.run("table", path, "--samples", "0")).stdout
     assert re.search(r"(?<![\w.])-0(\.0*)?(?![\d.e])", text) is None, text
     for word in ("inf", "nan", "Infinity", "NaN"):
         assert re.search(rf"\b{word}\b", text) is None, word

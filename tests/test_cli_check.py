@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 
 import pytest
-from cli_harness import ForkedCli, run_installed
+from cli_harness import run_installed
 
 from orbitdeck.dashboard.cli import EXIT_BAD_INPUT, EXIT_WARNINGS, build_parser
 from orbitdeck.demo_systems import demo_names, demo_path
@@ -30,12 +30,6 @@ def system_text(teff=3100.0, eccentricity=0.0, second='name = "c"\nperiod = 3.0'
             f'radius = 0.2\nteff = {teff}\n'
             f'[[planets]]\nname = "b"\nperiod = 2.0\nradius = 1.0\nmass = 1.0\neccentricity = {eccentricity}\n'
             f'[[planets]]\n{second}\nradius = 1.0\nmass = 1.0\n')
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
 
 
 def _file(tmp_path, text, name="system.toml"):

@@ -7,9 +7,8 @@ import json
 import math
 
 import astropy.units as u
-import pytest
 from astropy.table import Table
-from cli_harness import ForkedCli
+from cli_harness import succeeded
 
 from orbitdeck.demo_systems import DEFAULT_DEMO, demo_path
 from orbitdeck.models import derive, load_system
@@ -17,19 +16,8 @@ from orbitdeck.models import derive, load_system
 DYNAMICS_KEYS = ("ttv_inner_min", "ttv_outer_min", "amd_critical", "amd_beta", "hill_stable", "in_overlap_zone")
 
 
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
-
-
-def _ok(result):
-    assert result.returncode == 0, result.stderr
-    return result
-
-
 def test_json_has_every_dynamics_key_with_intervals_and_fractions(cli):
-    doc = json.loads(_ok(cli.run("table", "--json", "--samples", "200", "--seed", "3")).stdout)
+    doc = json.loads(succeeded(cli.run("table", "--json", "--samples", "200", "--seed", "3")).stdout)
     for row in doc["pairs"]:
         assert all(key in row for key in DYNAMICS_KEYS)
         assert len(row["interval"]["ttv_inner_min"]) == 2 and len(row["interval"]["amd_beta"]) == 2
@@ -41,7 +29,7 @@ def test_json_has_every_dynamics_key_with_intervals_and_fractions(cli):
 
 
 def test_text_table_lists_the_dynamics_block_and_says_what_it_assumes(cli):
-    text = _ok(cli.run("table", "--samples", "100", "--seed", "3")).stdout
+    text = succeeded(cli.run("table", "--samples", "100", "--seed", "3")).stdout
     block = text.split("Dynamics (coplanar orbits; model estimates)\n", 1)[1].split("\n\n", 1)[0]
     lines = block.splitlines()
     assert "TTV inner [min]" in lines[0] and "beta (AMD)" in lines[0] and "Hill stable" in lines[0]
@@ -54,10 +42,10 @@ def test_text_table_lists_the_dynamics_block_and_says_what_it_assumes(cli):
 
 def test_pairs_ecsv_is_read_back_with_units_and_system_values(cli, tmp_path):
     out = tmp_path / "pairs.ecsv"
-    result = _ok(cli.run("table", "--pairs-ecsv", out, "--samples", "100", "--seed", "3"))
+    result = succeeded(cli.run("table", "--pairs-ecsv", out, "--samples", "100", "--seed", "3"))
     assert result.stdout == "" and result.stderr == f"wrote {out}\n"
     table = Table.read(out, format="ascii.ecsv")
-    doc = json.loads(_ok(cli.run("table", "--json", "--samples", "100", "--seed", "3")).stdout)
+    doc = json.loads(succeeded(cli.run("table", "--json", "--samples", "100", "--seed", "3")).stdout)
     assert list(table["inner"]) == [row["inner"] for row in doc["pairs"]]
     assert table["ttv_inner_min"].unit == u.min and table["ttv_inner_min_p84"].unit == u.min
     for got, row in zip(table["ttv_outer_min"].quantity, doc["pairs"]):
@@ -73,5 +61,5 @@ def test_pairs_ecsv_is_read_back_with_units_and_system_values(cli, tmp_path):
 
 def test_both_ecsv_tables_at_once(cli, tmp_path):
     planets, pairs = tmp_path / "planets.ecsv", tmp_path / "pairs.ecsv"
-    _ok(cli.run("table", "--ecsv", planets, "--pairs-ecsv", pairs, "--samples", "0"))
+    succeeded(cli.run("table", "--ecsv", planets, "--pairs-ecsv", pairs, "--samples", "0"))
     assert len(Table.read(planets, format="ascii.ecsv")) == 5 and len(Table.read(pairs, format="ascii.ecsv")) == 4

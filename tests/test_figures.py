@@ -18,7 +18,6 @@ import zipfile
 import numpy as np
 import pytest
 from browser_support import colour_pixels
-from cli_harness import ForkedCli
 from PIL import Image
 
 from orbitdeck.dashboard.app import VIEW_CLASSES, OrbitDeckApp
@@ -30,12 +29,6 @@ from orbitdeck.models.files.provenance import CAUTION
 
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword in DataFrame.reset_index")
 SVG = "{http://www.w3.org/2000/svg}"
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
 
 
 @pytest.fixture(scope="module")

@@ -17,7 +17,7 @@ import pytest
 from astropy.time import Time
 from icalendar import Calendar
 
-from cli_harness import ForkedCli
+from cli_harness import succeeded
 from orbitdeck.demo_systems import demo_path
 from orbitdeck.models import SystemFileError, dumps_system, load_system, loads_system
 from orbitdeck.models.motion.forecast import forecast_transits
@@ -45,18 +45,6 @@ transit_time = { value = 2461000.3, sigma = 0.001 }
 """
 
 
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
-
-
-def _ok(result):
-    assert result.returncode == 0, result.stderr
-    assert "Traceback" not in result.stderr
-    return result
-
-
 def _refused(result, *fields):
     assert result.returncode == 2, result.stdout + result.stderr
     assert "Traceback" not in result.stderr and result.stdout == ""
@@ -72,7 +60,7 @@ def _file(tmp_path, text, name="system.toml"):
 
 
 def test_json_without_a_site_has_the_forecast_keys_and_matches_the_models(cli):
-    rows = json.loads(_ok(cli.run("transits", *RANGE, "--json")).stdout)
+    rows = json.loads(succeeded(cli.run("transits", *RANGE, "--json")).stdout)
     assert rows and all(KEYS <= set(r) and not (SITE_KEYS & set(r)) for r in rows)
     system = load_system(demo_path())
     # the ISO dates become BJD_TDB with the star's light time at the geocentre (checked against astropy in
@@ -87,7 +75,7 @@ def test_json_without_a_site_has_the_forecast_keys_and_matches_the_models(cli):
 
 
 def test_json_with_a_site_adds_the_sky_keys(cli):
-    rows = json.loads(_ok(cli.run("transits", *RANGE, SITE, "--json")).stdout)
+    rows = json.loads(succeeded(cli.run("transits", *RANGE, SITE, "--json")).stdout)
     assert all((KEYS | SITE_KEYS) <= set(r) for r in rows)
     assert any(r["observable"] for r in rows) and not all(r["observable"] for r in rows)
     for r in rows:
@@ -97,15 +85,15 @@ def test_json_with_a_site_adds_the_sky_keys(cli):
 
 
 def test_text_output_says_these_are_model_estimates(cli):
-    text = _ok(cli.run("transits", *RANGE, SITE)).stdout
+    text = succeeded(cli.run("transits", *RANGE, SITE)).stdout
     assert "linear ephemeris" in text and "model estimates" in text
     assert "observable" in text and "Moon" in text
 
 
 def test_the_calendar_parses_with_one_event_per_observable_transit(cli, tmp_path):
-    rows = json.loads(_ok(cli.run("transits", *RANGE, SITE, "--json")).stdout)
+    rows = json.loads(succeeded(cli.run("transits", *RANGE, SITE, "--json")).stdout)
     target = tmp_path / "transits.ics"
-    _ok(cli.run("transits", *RANGE, SITE, "--ics", target))
+    succeeded(cli.run("transits", *RANGE, SITE, "--ics", target))
     calendar = Calendar.from_ical(target.read_bytes())
     events = calendar.walk("VEVENT")
     observable = [r for r in rows if r["observable"]]
@@ -125,9 +113,9 @@ def test_the_calendar_parses_with_one_event_per_observable_transit(cli, tmp_path
 
 
 def test_csv_holds_every_transit(cli, tmp_path):
-    rows = json.loads(_ok(cli.run("transits", *RANGE, SITE, "--json")).stdout)
+    rows = json.loads(succeeded(cli.run("transits", *RANGE, SITE, "--json")).stdout)
     target = tmp_path / "transits.csv"
-    _ok(cli.run("transits", *RANGE, SITE, "--csv", target))
+    succeeded(cli.run("transits", *RANGE, SITE, "--csv", target))
     table = list(csv.DictReader(io.StringIO(target.read_text())))
     assert len(table) == len(rows)
     assert [float(r["mid_bjd_tdb"]) for r in table] == [r["mid_bjd_tdb"] for r in rows]
@@ -138,8 +126,8 @@ def test_a_named_site_of_the_file_is_used(cli, tmp_path):
     text = (HEADER + 'ra = "04:09:37.5"\ndec = "+12:48:20"\n' + PLANET
             + '\n[[sites]]\nname = "ridge"\nlatitude = 35.0\nlongitude = -105.0\nelevation = 2000\n')
     path = _file(tmp_path, text)
-    named = json.loads(_ok(cli.run("transits", path, *RANGE, "--site", "ridge", "--json")).stdout)
-    typed = json.loads(_ok(cli.run("transits", path, *RANGE, SITE, "--json")).stdout)
+    named = json.loads(succeeded(cli.run("transits", path, *RANGE, "--site", "ridge", "--json")).stdout)
+    typed = json.loads(succeeded(cli.run("transits", path, *RANGE, SITE, "--json")).stdout)
     assert named == typed and "observable" in named[0]
 
 
@@ -216,13 +204,13 @@ def test_planets_without_transit_time_are_named(cli, tmp_path):
     assert "has none (a mid-transit time, BJD_TDB)" in message
     # with one timed planet beside it, the forecast runs and names the missing field in a warning
     both = _file(tmp_path, HEADER + PLANET + "\n[[planets]]\nname = \"c\"\nperiod = 4.5\nradius = 1.1\n", "two.toml")
-    result = _ok(cli.run("transits", both, *RANGE))
+    result = succeeded(cli.run("transits", both, *RANGE))
     assert "planets[1] (c).transit_time: has none" in result.stdout
 
 
 def test_a_site_without_star_coordinates_gives_the_list_without_sky_columns(cli, tmp_path):
     path = _file(tmp_path, HEADER + PLANET)
-    result = _ok(cli.run("transits", path, *RANGE, SITE, "--json"))
+    result = succeeded(cli.run("transits", path, *RANGE, SITE, "--json"))
     rows = json.loads(result.stdout)
     assert rows and not (SITE_KEYS & set(rows[0]))
     assert "no star.ra and star.dec" in result.stderr
@@ -230,8 +218,8 @@ def test_a_site_without_star_coordinates_gives_the_list_without_sky_columns(cli,
 
 
 def test_times_beyond_the_bundled_tables_are_said_once_in_words(cli):
-    result = _ok(cli.run("transits", "--start", "2031-06-01", "--end", "2031-06-03", SITE, "--json"))
+    result = succeeded(cli.run("transits", "--start", "2031-06-01", "--end", "2031-06-03", SITE, "--json"))
     assert "Warning" not in result.stderr          # no Python warning leaks from astropy or ERFA
     assert "outside the bundled IERS" in result.stderr and "leap-second list" in result.stderr
-    near = _ok(cli.run("transits", *RANGE, SITE, "--json"))
+    near = succeeded(cli.run("transits", *RANGE, SITE, "--json"))
     assert "IERS" not in near.stderr

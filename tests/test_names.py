@@ -11,7 +11,6 @@ from __future__ import annotations
 import unicodedata
 
 import pytest
-from cli_harness import ForkedCli
 
 from orbitdeck.dashboard.text_tables import document_text, render, terminal_safe
 from orbitdeck.models import Planet, Star, System, SystemFileError, derive, loads_system
@@ -163,12 +162,6 @@ def test_a_name_never_forges_a_row_or_drives_the_terminal():
     assert not any(line.startswith("forged") for line in text.splitlines())
     assert "b\\nforged" in text
     assert render(["a"], [["x\ny"]]).splitlines()[-1] == "x\\ny"
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
 
 
 def test_the_command_line_escapes_paths_and_refuses_such_names(cli, tmp_path):

@@ -3,15 +3,7 @@
 from __future__ import annotations
 
 import json
-
 import pytest
-from cli_harness import ForkedCli
-
-
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
 
 
 def _strict_json(text):

@@ -12,7 +12,7 @@ import param
 import pytest
 from astropy.io import ascii
 from astropy.table import Table
-from cli_harness import ForkedCli
+from cli_harness import succeeded
 
 from orbitdeck import __version__
 from orbitdeck.demo_systems import demo_path
@@ -29,12 +29,6 @@ _CELL = re.compile(r"^\$(?P<value>[-0-9.]+)(?:\^\{\+(?P<plus>[0-9.]+)\}_\{-(?P<m
                    r"| \\pm (?P<pm>[0-9.]+))\$")
 
 
-@pytest.fixture(scope="module")
-def cli():
-    with ForkedCli() as runner:
-        yield runner
-
-
 def _sha256(path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
@@ -46,16 +40,11 @@ def _last_digit(number: Decimal) -> int:
     return number.normalize().as_tuple().exponent
 
 
-def _ok(result):
-    assert result.returncode == 0, result.stderr
-    return result
-
-
 @pytest.mark.parametrize("style", ["latex", "aastex"])
 def test_paper_table_is_read_back_by_astropy_with_units_and_rounded_intervals(cli, tmp_path, style):
     out = tmp_path / f"planets.{style}.tex"
     path = demo_path("ossery_loom")
-    _ok(cli.run("table", f"--{style}", out, "--samples", "300", "--seed", "2", path))
+    succeeded(cli.run("table", f"--{style}", out, "--samples", "300", "--seed", "2", path))
     text = out.read_text()
     table = ascii.read(text, format=style)
     columns = default_columns()
@@ -87,7 +76,7 @@ def test_paper_table_is_read_back_by_astropy_with_units_and_rounded_intervals(cl
 
 def test_paper_table_columns_can_be_chosen_and_bad_keys_are_refused(cli, tmp_path):
     out = tmp_path / "t.tex"
-    _ok(cli.run("table", "--latex", out, "--samples", "0", "--columns", "teq_k,mass_mearth",
+    succeeded(cli.run("table", "--latex", out, "--samples", "0", "--columns", "teq_k,mass_mearth",
                 demo_path("ossery_loom")))
     table = ascii.read(out.read_text(), format="latex")
     assert len(table.colnames) == 3
@@ -113,7 +102,7 @@ def test_bibtex_parses_and_lists_exactly_the_methods_used(cli, tmp_path):
     cited = {}
     for name in ("ossery_loom", "skew_trio"):
         out = tmp_path / f"{name}.bib"
-        _ok(cli.run("cite", "-o", out, demo_path(name)))
+        succeeded(cli.run("cite", "-o", out, demo_path(name)))
         library = bibtexparser.parse_string(out.read_text())
         assert not library.failed_blocks
         cited[name] = {entry.key for entry in library.entries}
@@ -139,7 +128,7 @@ def test_every_quantity_can_be_traced_on_the_probe_system():
 
 def test_bibtex_of_chosen_columns_follows_what_they_read(cli, tmp_path):
     out = tmp_path / "teq.bib"
-    _ok(cli.run("table", "--bibtex", out, "--columns", "teq_k", "--samples", "0", demo_path("skew_trio")))
+    succeeded(cli.run("table", "--bibtex", out, "--columns", "teq_k", "--samples", "0", demo_path("skew_trio")))
     keys = {entry.key for entry in bibtexparser.parse_string(out.read_text()).entries}
     # Teq of the orbit-averaged flux (Mendez & Rivera-Valentin 2017), the flux L / (a^2 sqrt(1 - e^2))
     # (Williams & Pollard 2002) with a from Kepler's third law; skew_trio gives its luminosity
@@ -164,7 +153,7 @@ def test_a_method_without_a_value_is_not_cited():
 def test_json_and_ecsv_carry_the_provenance(cli, tmp_path):
     path = demo_path("amber_pair")
     out = tmp_path / "p.ecsv"
-    doc = json.loads(_ok(cli.run("table", "--json", "--ecsv", out, "--samples", "120", "--seed", "8",
+    doc = json.loads(succeeded(cli.run("table", "--json", "--ecsv", out, "--samples", "120", "--seed", "8",
                                  path)).stdout)
     table = Table.read(out, format="ascii.ecsv")
     for provenance in (doc["provenance"], table.meta["provenance"]):
@@ -175,7 +164,7 @@ def test_json_and_ecsv_carry_the_provenance(cli, tmp_path):
         assert (provenance["samples"], provenance["seed"]) == (120, 8)
         assert "kepler_third_law" in provenance["methods"]
     # the bundled demo without a file: the SHA-256 of its bytes
-    default = json.loads(_ok(cli.run("table", "--json", "--samples", "0")).stdout)["provenance"]
+    default = json.loads(succeeded(cli.run("table", "--json", "--samples", "0")).stdout)["provenance"]
     assert default["input"]["sha256"] == _sha256(demo_path()) and default["seed"] is None
 
 
@@ -183,7 +172,7 @@ def test_exports_are_byte_stable(cli, tmp_path):
     outputs = []
     for run in range(2):
         files = [tmp_path / f"{run}.{ext}" for ext in ("tex", "ecsv", "bib")]
-        _ok(cli.run("table", "--latex", files[0], "--ecsv", files[1], "--bibtex", files[2], "--samples", "100",
+        succeeded(cli.run("table", "--latex", files[0], "--ecsv", files[1], "--bibtex", files[2], "--samples", "100",
                     demo_path("skew_trio")))
         outputs.append([f.read_bytes() for f in files])
     assert outputs[0] == outputs[1]

@@ -79,8 +79,6 @@ def test_a_snapshot_without_an_ensemble_says_so(demo_page):
 
 
 def test_the_dashboard_snapshot_carries_a_finished_ensemble():
-    import time
-
     from orbitdeck.dashboard.app import OrbitDeckApp
 
     app = OrbitDeckApp(load_system(demo_path()))
