@@ -31,7 +31,6 @@ import subprocess
 import sys
 import tempfile
 import time
-import urllib.request
 from pathlib import Path
 
 import numpy as np
@@ -39,7 +38,7 @@ import numpy as np
 HERE = Path(__file__).parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parent))
-from browser_support import CHROMIUM_ARGS, CHROMIUM_PATH, free_port  # noqa: E402
+from browser_support import CHROMIUM_ARGS, CHROMIUM_PATH, free_port, stop, wait_until_serving  # noqa: E402
 from synthetic import synthetic_system  # noqa: E402
 
 from orbitdeck.models import dumps_system  # noqa: E402
@@ -112,30 +111,13 @@ ARM = """(field) => {
 
 
 def serve(python: str, port: int, system_file: str | None, log):
-    """Start ``python -m orbitdeck.dashboard.serve`` and wait until it answers; returns the process."""
+    """Start ``python -m orbitdeck.dashboard.serve`` (of the tree ``python`` runs) and wait until it answers;
+    returns the process."""
     command = [python, "-m", "orbitdeck.dashboard.serve", *([system_file] if system_file else []), "--no-show",
                "--port", str(port)]
     process = subprocess.Popen(command, stdout=log, stderr=subprocess.STDOUT, cwd=tempfile.gettempdir())
-    deadline = time.monotonic() + 120
-    while True:
-        if process.poll() is not None:
-            raise RuntimeError(f"the server exited with {process.returncode}")
-        try:
-            with urllib.request.urlopen(f"http://127.0.0.1:{port}/static/js/bokeh.min.js", timeout=5):
-                return process
-        except OSError:
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.3)
-
-
-def stop(process) -> None:
-    process.terminate()
-    try:
-        process.wait(timeout=15)
-    except subprocess.TimeoutExpired:
-        process.kill()
-        process.wait()
+    wait_until_serving(process, port, log, timeout=120)
+    return process
 
 
 def open_dashboard(browser, url: str):
@@ -206,7 +188,7 @@ def measure(python: str, edits: int, scratch: Path) -> None:
         try:
             for label, system_file, mass in cases:
                 port = free_port()
-                with open(scratch / f"serve-{port}.log", "w") as log:
+                with open(scratch / f"serve-{port}.log", "w+") as log:
                     server = serve(python, port, system_file, log)
                     try:
                         page, errors = open_dashboard(browser, f"http://127.0.0.1:{port}/orbitdeck")
