@@ -27,6 +27,7 @@ element.
 
 from __future__ import annotations
 
+import re
 import functools
 import inspect
 import operator
@@ -175,6 +176,16 @@ def plain_log_axes(axes) -> None:
             which.set_minor_formatter(NullFormatter())
 
 
+def braced_tooltips(tooltips):
+    """Hover tooltips with every ``@field`` written ``@{field}``.
+
+    HoloViews braces each ``@name`` of a dimension it finds in a tooltip, also
+    at the start of a longer field (``@a_range`` becomes ``@{a}_range``: the
+    value of ``a`` followed by "_range"); a field already braced is left alone.
+    """
+    return [(label, re.sub(r"@(?!\{)(\w+)", r"@{\1}", template)) for label, template in tooltips]
+
+
 class Styles:
     """The look of a plot's elements per backend.
 
@@ -207,6 +218,8 @@ class Styles:
             element, _, group = spec.partition(".")
             plot_class = hv.Store.registry[backend][getattr(hv, element)]
             accepted = {k: v for k, v in frame.items() if k in plot_class.param}   # annotations take fewer
+            if "hover_tooltips" in options:
+                options = {**options, "hover_tooltips": braced_tooltips(options["hover_tooltips"])}
             made.append(getattr(hv.opts, element)(group, backend=backend, **{**accepted, **options}))
         return made
 
