@@ -155,41 +155,37 @@ class OrbitDeckApp(param.Parameterized):
         """Derive the system once for a change of anything in it."""
         if self._installing:
             return
-        try:
-            derived, elements = _derive(self.system, self.draws, self.seed)
-        except Exception as error:  # a valid but underivable state: keep the last views, say why
-            self.problem = f"{type(error).__name__}: {error}"
-            return
-        names = derived.planet_names
-        selected = self.selected if self.selected in names else (names[0] if names else None)
-        self.colours.note(names)
-        with one_batch():
-            self.param.update(derived=derived, elements=elements, selected=selected, problem="",
-                              selected_pair=pair_index_after(self.derived, derived, self.selected_pair))
+        found = self._derive_or_say(self.system)
+        if found is not None:
+            self.install(self.system, *found)
 
     def replace_system(self, system: System, source: SystemSource | None = None) -> None:
         """Show ``system`` (read from ``source``) instead of the current one: a new file, with a fresh
         edit history (the current one is kept if it cannot be derived)."""
-        try:
-            derived, elements = _derive(system, self.draws, self.seed)
-        except Exception as error:
-            self.problem = f"{type(error).__name__}: {error}"
+        found = self._derive_or_say(system)
+        if found is None:
             return
-        names = derived.planet_names
+        names = found[0].planet_names
         self._set_source(source, system)
-        self.install(system, derived, elements, time=system.epoch, selected=names[0] if names else None)
+        self.install(system, *found, time=system.epoch, selected=names[0] if names else None)
         self.history.reset()
 
     def restore_system(self, system: System) -> bool:
         """Show ``system``, an earlier or later state of the same one (undo, redo), keeping the time and,
         where it still exists, the selected planet. False (and ``problem`` says why) if it cannot be derived."""
+        found = self._derive_or_say(system)
+        if found is not None:
+            self.install(system, *found)
+        return found is not None
+
+    def _derive_or_say(self, system: System):
+        """(derived, elements) of ``system`` with the app's draws; None, with ``problem`` saying why, when it
+        cannot be derived (a valid but underivable state: the views keep the last one)."""
         try:
-            derived, elements = _derive(system, self.draws, self.seed)
+            return _derive(system, self.draws, self.seed)
         except Exception as error:
             self.problem = f"{type(error).__name__}: {error}"
-            return False
-        self.install(system, derived, elements)
-        return True
+            return None
 
     def install(self, system: System, derived: Derived, elements, **shown) -> None:
         """Show ``system`` with its ``derived`` and ``elements`` as given (nothing is derived), and set the
