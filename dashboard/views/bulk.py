@@ -33,7 +33,7 @@ from orbitdeck.models.physics import atmospheres, interiors, solar_system, tides
 from orbitdeck.models.constants import R_EARTH, R_SUN
 
 from . import palette
-from .common import as_floats
+from .common import as_floats, batched, while_shown
 from .plotting import Styles, bar_colours, load_backend, plain_log_ticks
 
 #: mean molecular weights of the spectroscopy table [u]: H2/He (solar), water, N2, CO2
@@ -179,22 +179,18 @@ class BulkView(param.Parameterized):
         self._refresh()
 
     # -- state -------------------------------------------------------------------------------
+    @while_shown
+    @batched
     def _refresh(self, *_):
         """Show the app's current derivation (later, when the tab is hidden in a served page)."""
-        if self.app.tab_hidden(self.tab):
-            self.app.mark_stale(self.tab, (id(self), "_refresh"), self._refresh)
-            return
-        with pn.io.hold():
-            self.param.update(revision=self.revision + 1, selected=self.app.selected)
-            self.caution.object = self._caution_text()
+        self.param.update(revision=self.revision + 1, selected=self.app.selected)
+        self.caution.object = self._caution_text()
 
+    @while_shown
+    @batched
     def _follow_selection(self, *_):
-        if self.app.tab_hidden(self.tab):
-            self.app.mark_stale(self.tab, (id(self), "_refresh"), self._refresh)
-            return
-        with pn.io.hold():
-            self.selected = self.app.selected
-            self._sync_table_selection()
+        self.selected = self.app.selected
+        self._sync_table_selection()
 
     def _planets(self) -> dict:
         """Planet columns this view draws, as float arrays, with names and colours."""

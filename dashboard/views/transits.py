@@ -32,6 +32,7 @@ from orbitdeck.models.motion.forecast import (DEFAULT_MAX_SUN_ALTITUDE_DEG, DEFA
 from orbitdeck.models.files.system import SITE_ELEVATION_RANGE, Site
 
 from . import palette
+from .common import while_shown
 from .plotting import Styles, load_backend
 
 #: choices of the range control: label -> days
@@ -164,13 +165,6 @@ class TransitPlannerView(param.Parameterized):
         self.update()
 
     # -- following the app ------------------------------------------------------------
-    def _when_shown(self, method) -> bool:
-        """False (the call kept for later) while the view's tab is hidden in a served page."""
-        if self.app.tab_hidden(self.tab):
-            self.app.mark_stale(self.tab, (id(self), method.__name__), method)
-            return False
-        return True
-
     def _offer_file_sites(self) -> None:
         names = [s.name for s in self.app.system.sites]
         choice = self.site_choice if self.site_choice in (NO_SITE, TYPED_SITE, *names) else NO_SITE
@@ -182,13 +176,12 @@ class TransitPlannerView(param.Parameterized):
     def _inputs_changed(self, *events) -> None:
         if any(e.name == "system" for e in events):
             self._offer_file_sites()
-        if self._when_shown(self.update):
-            self.update()
+        self.update()
 
     def _selection_changed(self, *_) -> None:
-        if self._when_shown(self._select):
-            self._select()
+        self._select()
 
+    @while_shown
     def _select(self) -> None:
         self.highlight = self.app.selected
         self._select_table_row()
@@ -202,8 +195,10 @@ class TransitPlannerView(param.Parameterized):
             return Site("typed site", self.latitude, self.longitude, self.elevation)
         return self.app.system.site(self.site_choice)
 
+    @while_shown
     def update(self) -> None:
-        """Forecast the range again from the app's system and the controls."""
+        """Forecast the range again from the app's system and the controls (later, while the tab is hidden in a
+        served page)."""
         from orbitdeck.models.motion.sites import parse_time, star_coordinate
         from orbitdeck.models.motion.visibility import forecast_rows, nights, transit_sky
 
