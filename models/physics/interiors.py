@@ -50,9 +50,11 @@ ENVELOPE_FRACTION_RANGE = (0.001, 0.20)
 ENVELOPE_INSOLATION_RANGE = (0.1, 1000.0)
 #: age assumed for the envelope fit [Gyr]: the fit's own reference age (a field planet, old)
 ENVELOPE_AGE_GYR = 5.0
-#: steps of the Illinois regula falsi in ln f_env (Dowell & Jarratt 1971): superlinear on the smooth,
-#: monotonic radius, it reaches the double-precision root in about ten
-_ROOT_STEPS = 14
+#: the regula falsi stops once every misfit is below this (ln of a radius ratio, so the relative
+#: error of f_env is about twice it)
+_ROOT_TOLERANCE = 1e-14
+#: steps after which it stops anyway (on the nearly linear misfit it needs five to eight)
+_ROOT_STEPS = 40
 
 
 def zeng2016_radius(curve: str, mass_mearth):
@@ -224,6 +226,20 @@ def rocky_core_radius(core_mass_mearth):
     return np.asarray(core_mass_mearth) ** 0.25
 
 
+def envelope_layers(mass_mearth, envelope_fraction, insolation_earth, age_gyr=ENVELOPE_AGE_GYR):
+    """The two layers of a planet with a hydrogen-helium envelope (Lopez & Fortney 2014), in Rearth.
+
+    R_core(M (1 - f_env)), the rocky core holding the mass outside the
+    envelope, and R_env of :func:`envelope_radius`.
+
+    Returns
+    -------
+    core, envelope : ndarray
+    """
+    core = rocky_core_radius(mass_mearth * (1.0 - envelope_fraction))
+    return core, envelope_radius(mass_mearth, envelope_fraction, insolation_earth, age_gyr)
+
+
 def radius_with_envelope(mass_mearth, envelope_fraction, insolation_earth, age_gyr=ENVELOPE_AGE_GYR):
     """Total radius [Rearth] of a rocky core under a hydrogen-helium envelope (Lopez & Fortney 2014).
 
@@ -231,17 +247,18 @@ def radius_with_envelope(mass_mearth, envelope_fraction, insolation_earth, age_g
     without the thin radiative atmosphere above the envelope (a small
     fraction of R).
     """
-    core = rocky_core_radius(mass_mearth * (1.0 - envelope_fraction))
-    return core + envelope_radius(mass_mearth, envelope_fraction, insolation_earth, age_gyr)
+    core, envelope = envelope_layers(mass_mearth, envelope_fraction, insolation_earth, age_gyr)
+    return core + envelope
 
 
 def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr=ENVELOPE_AGE_GYR):
     """Hydrogen-helium envelope mass fraction of a sub-Neptune (Lopez & Fortney 2014).
 
     Solves :func:`radius_with_envelope` = R for f_env by the Illinois
-    regula falsi in log f_env, all planets and draws at once. NaN outside the fit's grid:
-    1-20 Mearth, 0.1-1000 S_earth, and radii that need an envelope of 0.1 %
-    to 20 % of the mass. The age is an assumption (default 5 Gyr, the fit's
+    regula falsi (Dowell & Jarratt 1971, BIT 11, 168) in ln f_env on
+    :func:`_envelope_misfit`, all planets and draws at once. NaN outside
+    the fit's grid: 1-20 Mearth, 0.1-1000 S_earth, and radii that need an
+    envelope of 0.1 % to 20 % of the mass. The age is an assumption (default 5 Gyr, the fit's
     reference age). A model estimate: the same mass and radius also fit a
     water-rich planet with no hydrogen.
 
@@ -267,18 +284,36 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
         applies = ((m >= ENVELOPE_MASS_RANGE[0]) & (m <= ENVELOPE_MASS_RANGE[1])
                    & (s >= ENVELOPE_INSOLATION_RANGE[0]) & (s <= ENVELOPE_INSOLATION_RANGE[1])
                    & (r >= smallest) & (r <= largest))
-        # the root is sought only where the fit applies: the result is NaN elsewhere
-        m, r, s, g0, g1 = (x[applies] for x in (m, r, s, smallest - r, largest - r))
-        x0 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[0]))
-        x1 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[1]))
-        for _ in range(_ROOT_STEPS):
+    # the root is sought only where the fit applies: the result is NaN elsewhere
+    m, r, s = (x[applies] for x in (m, r, s))
+    x0 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[0]))
+    x1 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[1]))
+    g0, g1 = (_envelope_misfit(x, m, r, s, age_gyr) for x in (x0, x1))
+    for _ in range(_ROOT_STEPS):
+        with np.errstate(invalid="ignore", divide="ignore"):   # an end that is the root already
             x2 = x1 - g1 * (x1 - x0) / (g1 - g0)
-            x2 = np.where(np.isfinite(x2), x2, x1)
-            g2 = radius_with_envelope(m, np.exp(x2), s, age_gyr) - r
-            # keep the root bracketed; halve the weight of an end kept twice (the Illinois step)
-            crossed = np.sign(g2) != np.sign(g1)
-            x0, g0 = np.where(crossed, x1, x0), np.where(crossed, g1, 0.5 * g0)
-            x1, g1 = x2, g2
+        x2 = np.where(np.isfinite(x2), x2, x1)
+        g2 = _envelope_misfit(x2, m, r, s, age_gyr)
+        # keep the root bracketed; halve the weight of an end kept twice (the Illinois step)
+        crossed = np.sign(g2) != np.sign(g1)
+        x0, g0 = np.where(crossed, x1, x0), np.where(crossed, g1, 0.5 * g0)
+        x1, g1 = x2, g2
+        if np.abs(g1).max(initial=0.0) <= _ROOT_TOLERANCE:
+            break
     fraction = np.full(applies.shape, np.nan)
     fraction[applies] = np.exp(x1)
     return fraction
+
+
+def _envelope_misfit(ln_fraction, mass_mearth, radius_rearth, insolation_earth, age_gyr):
+    """ln(R - R_core) - ln(R_env) at f_env = exp(``ln_fraction``): zero where
+    :func:`radius_with_envelope` gives the radius R, and decreasing in f_env.
+
+    R_env is a power of f_env, so this misfit is nearly linear in ln f_env
+    (only the core's slight shrinking bends it), where R itself curves
+    like an exponential: the regula falsi on it needs a few steps instead of
+    a dozen. R - R_core > 0 wherever the fit applies (R is at least the
+    radius at f_env = 0.1 %, and the core shrinks as f_env grows).
+    """
+    core, envelope = envelope_layers(mass_mearth, np.exp(ln_fraction), insolation_earth, age_gyr)
+    return np.log(radius_rearth - core) - np.log(envelope)
