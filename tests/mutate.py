@@ -134,8 +134,10 @@ MUTANTS = (
            "HZ: coolest extrapolated Teff"),
     Mutant("models/physics/irradiation.py", "np.sqrt(luminosity_lsun / effective_flux)", "(luminosity_lsun / effective_flux)",
            "HZ distance: square root"),
-    Mutant("models/physics/irradiation.py", "np.sum(np.asarray(insolation_earth) <= limits", "np.sum(np.asarray(insolation_earth) >= limits",
+    Mutant("models/physics/irradiation.py", "sum(insolation <= limits[..., k, None]", "sum(insolation >= limits[..., k, None]",
            "HZ region: comparison"),
+    Mutant("models/physics/irradiation.py", "for k in range(limits.shape[-1]))", "for k in range(limits.shape[-1] - 1))",
+           "HZ region: every limit"),
     # -- runaway greenhouse by planet mass (Kopparapu et al. 2014 Table 1) ---------------------------
     Mutant("models/physics/irradiation.py", "[0.990, 1.209e-4,", "[0.990, 1.290e-4,", "runaway by mass: 0.1 Mearth a"),
     Mutant("models/physics/irradiation.py", "[1.188, 1.433e-4, 1.707e-8, -8.968e-12,", "[1.188, 1.433e-4, 1.707e-8, 8.968e-12,",

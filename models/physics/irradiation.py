@@ -190,8 +190,9 @@ def hz_region_index(insolation_earth, limit_fluxes):
     ndarray of int
         0 ... 4, same shape as ``insolation_earth``.
     """
-    limits = np.moveaxis(np.asarray(limit_fluxes), -1, 0)[..., None]   # one limit at a time, against every planet
-    return np.sum(np.asarray(insolation_earth) <= limits, axis=0)
+    insolation, limits = np.asarray(insolation_earth), np.asarray(limit_fluxes)
+    # the limits passed: one limit at a time against every planet (no (limits, draws, planets) array)
+    return sum(insolation <= limits[..., k, None] for k in range(limits.shape[-1]))
 
 
 #: Kopparapu et al. 2014 (ApJL 787, L29), Table 1: the runaway-greenhouse rows for planets of

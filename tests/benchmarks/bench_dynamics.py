@@ -2,7 +2,7 @@
 
 Run: python tests/benchmarks/bench_dynamics.py
 
-Prints the whole derivation of the 7-planet demo, nominal (target < 2 ms)
+Prints the whole derivation of the default demo, nominal (target < 2 ms)
 and with 4000 Monte Carlo draws (target < 20 ms), and the part the
 dynamics quantities take (TTV amplitudes, AMD, Hill stability, overlap
 zone) when every other input they read is already there.
