@@ -56,22 +56,24 @@ def _outside(values, bounds, inclusive) -> np.ndarray:
 
 def truncated_split_normal(rng: np.random.Generator, shape, value, plus, minus, bounds,
                            inclusive=(True, True)) -> np.ndarray:
-    """Split-normal draws of ``shape`` restricted to ``bounds`` by drawing again those outside.
+    """Split-normal draws of ``shape`` (draws, bodies) restricted to ``bounds`` by drawing again those outside.
 
     Rejection sampling truncates the distribution exactly. A domain so far
     in a tail that 50 rounds find nothing keeps the nominal value there.
     """
-    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), shape) for x in (value, plus, minus))
+    # one value and widths per body, broadcast against the draws
+    value, plus, minus = (np.broadcast_to(np.asarray(x, dtype=float), shape)[0] for x in (value, plus, minus))
     draws = split_normal(rng.standard_normal(shape), value, plus, minus)
     # indices of the draws outside, in the order of a boolean mask (C order): each round touches only them
     bad = np.nonzero(_outside(draws, bounds, inclusive))
     for _ in range(_REDRAW_ROUNDS):
         if not bad[0].size:
             return draws
-        draws[bad] = split_normal(rng.standard_normal(bad[0].size), value[bad], plus[bad], minus[bad])
+        body = bad[-1]
+        draws[bad] = split_normal(rng.standard_normal(body.size), value[body], plus[body], minus[body])
         still = _outside(draws[bad], bounds, inclusive)
         bad = tuple(index[still] for index in bad)
-    draws[bad] = value[bad]
+    draws[bad] = value[bad[-1]]
     return draws
 
 
