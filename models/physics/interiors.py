@@ -57,7 +57,25 @@ _ROOT_TOLERANCE = 1e-14
 _ROOT_STEPS = 40
 
 
-def zeng2016_radius(curve: str, mass_mearth):
+def zeng2016_place(mass_mearth):
+    """Where each mass falls among the Zeng et al. 2016 Table 2 masses, for :func:`zeng2016_radius`.
+
+    Every curve of the table shares its masses, so one place serves them all.
+
+    Returns
+    -------
+    below, fraction : ndarray
+        Index of the tabulated mass at or below, and the fraction of the way
+        in log mass to the next one (NaN outside 0.125-32 Mearth).
+    """
+    log_mass = np.log10(ZENG2016_MASS)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        index = np.interp(np.log10(mass_mearth), log_mass, np.arange(log_mass.size), left=np.nan, right=np.nan)
+    below = np.minimum(np.nan_to_num(index).astype(np.intp), log_mass.size - 2)
+    return below, index - below
+
+
+def zeng2016_radius(curve: str, mass_mearth=None, place=None):
     """Radius of a planet of ``mass_mearth`` on a Zeng et al. 2016 Table 2 curve.
 
     Interpolated linearly in log mass and log radius between the tabulated
@@ -69,17 +87,18 @@ def zeng2016_radius(curve: str, mass_mearth):
         A key of :data:`ZENG2016_RADIUS` ("iron_100", "rock", "water_50" ...).
     mass_mearth : array_like
         Planet mass [Mearth].
+    place : tuple, optional
+        :func:`zeng2016_place` of the masses, when already known (then
+        ``mass_mearth`` is not needed).
 
     Returns
     -------
     ndarray
         Radius [Rearth].
     """
-    m = np.asarray(mass_mearth, dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        log_r = np.interp(np.log10(m), np.log10(ZENG2016_MASS), np.log10(ZENG2016_RADIUS[curve]),
-                          left=np.nan, right=np.nan)
-    return 10.0 ** log_r
+    below, fraction = zeng2016_place(mass_mearth) if place is None else place
+    log_r = np.log10(ZENG2016_RADIUS[curve])
+    return 10.0 ** (log_r[below] + (log_r[below + 1] - log_r[below]) * fraction)
 
 
 def composition_curves(points: int = 60) -> dict:
@@ -177,12 +196,13 @@ def water_mass_fraction(mass_mearth, radius_rearth):
     """
     m, r = np.broadcast_arrays(np.asarray(mass_mearth, dtype=float), np.asarray(radius_rearth, dtype=float))
     result = np.full(m.shape, np.nan)
-    rock = zeng2016_radius(_WATER_STEPS[0][0], m)
+    place = zeng2016_place(m)
+    rock = zeng2016_radius(_WATER_STEPS[0][0], place=place)
     wet = r > rock   # the water curves are read only for planets larger than pure rock
-    m, r = m[wet], r[wet]
-    curves = [rock[wet]] + [zeng2016_radius(curve, m) for curve, _ in _WATER_STEPS[1:]]
+    r, place = r[wet], tuple(x[wet] for x in place)
+    curves = [rock[wet]] + [zeng2016_radius(curve, place=place) for curve, _ in _WATER_STEPS[1:]]
     fractions = [fraction for _, fraction in _WATER_STEPS]
-    water = np.full(m.shape, np.nan)
+    water = np.full(r.shape, np.nan)
     for low, high, low_f, high_f in zip(curves[:-1], curves[1:], fractions[:-1], fractions[1:]):
         inside = (r > low) & (r <= high)
         water = np.where(inside, low_f + (high_f - low_f) * (r - low) / (high - low), water)
