@@ -256,8 +256,13 @@ def envelope_layers(mass_mearth, envelope_fraction, insolation_earth, age_gyr=EN
     -------
     core, envelope : ndarray
     """
-    core = rocky_core_radius(mass_mearth * (1.0 - envelope_fraction))
+    core = core_radius_under_envelope(mass_mearth, envelope_fraction)
     return core, envelope_radius(mass_mearth, envelope_fraction, insolation_earth, age_gyr)
+
+
+def core_radius_under_envelope(mass_mearth, envelope_fraction):
+    """R_core(M (1 - f_env)) [Rearth]: the rocky core holds the mass outside the envelope (Lopez & Fortney 2014)."""
+    return rocky_core_radius(mass_mearth * (1.0 - envelope_fraction))
 
 
 def radius_with_envelope(mass_mearth, envelope_fraction, insolation_earth, age_gyr=ENVELOPE_AGE_GYR):
@@ -275,12 +280,12 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
     """Hydrogen-helium envelope mass fraction of a sub-Neptune (Lopez & Fortney 2014).
 
     Solves :func:`radius_with_envelope` = R for f_env by the Illinois
-    regula falsi (Dowell & Jarratt 1971, BIT 11, 168) in ln f_env on
-    :func:`_envelope_misfit`, all planets and draws at once. NaN outside
-    the fit's grid: 1-20 Mearth, 0.1-1000 S_earth, and radii that need an
-    envelope of 0.1 % to 20 % of the mass. The age is an assumption (default 5 Gyr, the fit's
-    reference age). A model estimate: the same mass and radius also fit a
-    water-rich planet with no hydrogen.
+    regula falsi (Dowell & Jarratt 1971, BIT 11, 168) in ln f_env, all
+    planets and draws at once. NaN outside the fit's grid: 1-20 Mearth,
+    0.1-1000 S_earth, and radii that need an envelope of 0.1 % to 20 % of
+    the mass. The age is an assumption (default 5 Gyr, the fit's reference
+    age). A model estimate: the same mass and radius also fit a water-rich
+    planet with no hydrogen.
 
     Parameters
     ----------
@@ -299,21 +304,36 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
     m, r, s = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (mass_mearth, radius_rearth,
                                                                            insolation_earth)))
     with np.errstate(invalid="ignore", divide="ignore"):
-        smallest = radius_with_envelope(m, ENVELOPE_FRACTION_RANGE[0], s, age_gyr)
-        largest = radius_with_envelope(m, ENVELOPE_FRACTION_RANGE[1], s, age_gyr)
+        (core_low, envelope_low), (core_high, envelope_high) = (envelope_layers(m, fraction, s, age_gyr)
+                                                                for fraction in ENVELOPE_FRACTION_RANGE)
         applies = ((m >= ENVELOPE_MASS_RANGE[0]) & (m <= ENVELOPE_MASS_RANGE[1])
                    & (s >= ENVELOPE_INSOLATION_RANGE[0]) & (s <= ENVELOPE_INSOLATION_RANGE[1])
-                   & (r >= smallest) & (r <= largest))
+                   & (r >= core_low + envelope_low) & (r <= core_high + envelope_high))
     # the root is sought only where the fit applies: the result is NaN elsewhere
-    m, r, s = (x[applies] for x in (m, r, s))
-    x0 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[0]))
-    x1 = np.full(m.shape, np.log(ENVELOPE_FRACTION_RANGE[1]))
-    g0, g1 = (_envelope_misfit(x, m, r, s, age_gyr) for x in (x0, x1))
+    m, r = m[applies], r[applies]
+    ends = np.log(ENVELOPE_FRACTION_RANGE)
+    ln_envelope_low, ln_envelope_high = np.log(envelope_low[applies]), np.log(envelope_high[applies])
+
+    def misfit(ln_fraction):
+        """ln(R - R_core) - ln(R_env) at f_env = exp(ln_fraction): zero where :func:`radius_with_envelope`
+        gives the radius R, and decreasing in f_env.
+
+        R_env is a power of f_env, so ln R_env is the straight line in ln f_env through its values at
+        the grid's ends, and the misfit is nearly linear in ln f_env (only the core's slight shrinking
+        bends it): the regula falsi on it needs a few steps, where on R itself, which curves like an
+        exponential, it needs a dozen. R - R_core > 0 wherever the fit applies (R is at least the
+        radius at f_env = 0.1 %, and the core shrinks as f_env grows).
+        """
+        ln_envelope = ln_envelope_low + (ln_envelope_high - ln_envelope_low) * (ln_fraction - ends[0]) / (ends[1] - ends[0])
+        return np.log(r - core_radius_under_envelope(m, np.exp(ln_fraction))) - ln_envelope
+
+    x0, x1 = np.full(m.shape, ends[0]), np.full(m.shape, ends[1])
+    g0, g1 = misfit(x0), misfit(x1)
     for _ in range(_ROOT_STEPS):
         with np.errstate(invalid="ignore", divide="ignore"):   # an end that is the root already
             x2 = x1 - g1 * (x1 - x0) / (g1 - g0)
         x2 = np.where(np.isfinite(x2), x2, x1)
-        g2 = _envelope_misfit(x2, m, r, s, age_gyr)
+        g2 = misfit(x2)
         # keep the root bracketed; halve the weight of an end kept twice (the Illinois step)
         crossed = np.sign(g2) != np.sign(g1)
         x0, g0 = np.where(crossed, x1, x0), np.where(crossed, g1, 0.5 * g0)
@@ -323,17 +343,3 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
     fraction = np.full(applies.shape, np.nan)
     fraction[applies] = np.exp(x1)
     return fraction
-
-
-def _envelope_misfit(ln_fraction, mass_mearth, radius_rearth, insolation_earth, age_gyr):
-    """ln(R - R_core) - ln(R_env) at f_env = exp(``ln_fraction``): zero where
-    :func:`radius_with_envelope` gives the radius R, and decreasing in f_env.
-
-    R_env is a power of f_env, so this misfit is nearly linear in ln f_env
-    (only the core's slight shrinking bends it), where R itself curves
-    like an exponential: the regula falsi on it needs a few steps instead of
-    a dozen. R - R_core > 0 wherever the fit applies (R is at least the
-    radius at f_env = 0.1 %, and the core shrinks as f_env grows).
-    """
-    core, envelope = envelope_layers(mass_mearth, np.exp(ln_fraction), insolation_earth, age_gyr)
-    return np.log(radius_rearth - core) - np.log(envelope)
