@@ -16,8 +16,10 @@ from orbitdeck.demo_systems import demo_names, demo_path
 from orbitdeck.models import (Assumptions, Planet, Star, System, SystemFileError, Uncertainty, derive, dumps_system,
                               load_system, loads_system, save_system)
 from orbitdeck.models.files.system_file import FORMAT, Problem, system_from_document, system_to_document
-from orbitdeck.models.files.names import display_key, name_problem
+from orbitdeck.models.files.names import display_key
 from orbitdeck.models.files.system import PERIOD_BOUNDS, TIME_BOUNDS
+
+import drawn_names
 
 DEMOS = demo_names()
 
@@ -109,7 +111,7 @@ def test_planets_written_out_of_order_are_kept_in_period_order():
     assert [p["name"] for p in tomllib.loads(dumps_system(reordered))["planets"]] == reordered.planet_names
 
 
-names = st.text(min_size=1, max_size=12).filter(lambda s: s.strip() and name_problem(s) is None)
+names = drawn_names.names(max_size=12)
 times = st.floats(*TIME_BOUNDS)
 free_text = st.text(max_size=40)
 spreads = st.one_of(

@@ -10,7 +10,9 @@ from hypothesis import strategies as st
 from orbitdeck.models import Assumptions, Planet, Star, System, Uncertainty, derive
 from orbitdeck.models.physics import irradiation, orbits, resonances
 from orbitdeck.models.files.system_file import dumps_system, loads_system
-from orbitdeck.models.files.names import display_key, name_problem
+from orbitdeck.models.files.names import display_key
+
+from drawn_names import names
 
 M_SUN = 1.988409870698051e30    # only a scale for the monotonicity checks, not a reference value
 DAY = 86400.0
@@ -129,10 +131,7 @@ def test_nearest_differs_agrees_with_the_search(rung, offsets, midpoint):
 
 # text of any Unicode character that UTF-8 can encode (no lone surrogates)
 TEXT = st.text(st.characters(blacklist_categories=("Cs",)), max_size=20)
-# names show as themselves: drawn from the general categories a name may hold, so that the filter
-# (blank names, and the few default-ignorable code points of those categories) rarely refuses one
-NAME = (st.text(st.characters(blacklist_categories=("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp")), min_size=1, max_size=20)
-        .filter(lambda s: s.strip() != "" and name_problem(s) is None))
+NAME = names(max_size=20)   # names show as themselves
 
 
 @st.composite
