@@ -15,7 +15,7 @@ Only the page's DOM is used (the entry's label, the switch's label, the
 tab's title, the table's heading and cell text), so the same script
 measures an older tree: ``--python /path/to/other/checkout/.venv/bin/python``.
 
-Cases: the 7-planet default demo, and a 30-planet synthetic system
+Cases: the default demo, and a 30-planet synthetic system
 (``synthetic.py``, written to a system file here). The first opening of
 each tab (the lazily built views) is timed as well: click to the tab's
 plots and tables drawn.
@@ -181,7 +181,7 @@ def measure(python: str, edits: int, scratch: Path) -> None:
 
     synthetic = scratch / "synthetic30.toml"
     synthetic.write_text(dumps_system(synthetic_system(30)))
-    cases = (("7-planet default demo", None, 0.118), ("30-planet synthetic", str(synthetic), 0.2))
+    cases = (("default demo", None, 0.118), ("30-planet synthetic", str(synthetic), 0.2))
     print(f"\n== {python}")
     with sync_playwright() as playwright:
         browser = playwright.chromium.launch(executable_path=CHROMIUM_PATH, args=CHROMIUM_ARGS)
@@ -214,7 +214,7 @@ def main() -> None:
                         help="interpreter of the tree to measure (repeat to measure several); default this one")
     parser.add_argument("--edits", type=int, default=24, help="edits timed per case (default 24)")
     args = parser.parse_args()
-    print("Enter in the star's mass entry -> the changed semi-major axes painted (targets: 7 planets median <= "
+    print("Enter in the star's mass entry -> the changed semi-major axes painted (targets: default demo median <= "
           "100 ms, p95 <= 150 ms; 30 planets median <= 200 ms)")
     with tempfile.TemporaryDirectory() as scratch:
         for python in args.python or [sys.executable]:

@@ -35,13 +35,13 @@ def timings(function, repeat: int) -> np.ndarray:
     memory back to the system, and the next call pays ~1 us a page to
     fault it in again: about 2.5 ms of a Monte Carlo derivation).
     """
-    held = function()
+    held = [function()]   # the previous result, let go only once the next call has returned
     times = []
     for _ in range(repeat):
         start = time.perf_counter()
         result = function()
         times.append(time.perf_counter() - start)
-        held = result   # noqa: F841  (the previous result is let go only now)
+        held[0] = result
     return 1e3 * np.array(times)
 
 
