@@ -66,6 +66,9 @@ def main(argv=None) -> None:
             other = load_system(demo_path(name))
             report(f"{name} ({len(other.planets)} planets), 4000 draws (no sky intervals)",
                    timings(lambda system=other: derive(system, 4000, 1), repeat))
+    seven = synthetic_system(7)   # a compact chain of seven small planets
+    report("7 planets (synthetic), nominal", timings(lambda: derive(seven), repeat))
+    report("7 planets (synthetic), 4000 draws (no sky intervals)", timings(lambda: derive(seven, 4000, 1), repeat))
     report("30 planets, nominal", timings(lambda: derive(thirty), repeat))
     report("30 planets, 4000 draws (no sky intervals)", timings(lambda: derive(thirty, 4000, 1), repeat))
     report("30 planets, 4000 draws, sky intervals read",
