@@ -324,7 +324,8 @@ def envelope_mass_fraction(mass_mearth, radius_rearth, insolation_earth, age_gyr
         exponential, it needs a dozen. R - R_core > 0 wherever the fit applies (R is at least the
         radius at f_env = 0.1 %, and the core shrinks as f_env grows).
         """
-        ln_envelope = ln_envelope_low + (ln_envelope_high - ln_envelope_low) * (ln_fraction - ends[0]) / (ends[1] - ends[0])
+        along = (ln_fraction - ends[0]) / (ends[1] - ends[0])
+        ln_envelope = ln_envelope_low + (ln_envelope_high - ln_envelope_low) * along
         return np.log(r - core_radius_under_envelope(m, np.exp(ln_fraction))) - ln_envelope
 
     x0, x1 = np.full(m.shape, ends[0]), np.full(m.shape, ends[1])
