@@ -72,21 +72,19 @@ def read_regular_file(path, limit: int, what: str = "system files") -> bytes:
     def too_large(reason: str) -> SystemFileError:
         return _problem(source, f"{reason}; {what} are limited to {limit} bytes")
 
-    try:
-        info = os.stat(path)
+    def check(info: os.stat_result) -> None:
         if not stat.S_ISREG(info.st_mode):
             raise _not_regular(source, info.st_mode)
         if info.st_size > limit:
             raise too_large(f"file is {info.st_size} bytes")
+
+    try:
+        check(os.stat(path))
         descriptor = os.open(path, os.O_RDONLY | os.O_NONBLOCK | os.O_NOCTTY | getattr(os, "O_CLOEXEC", 0))
     except OSError as error:
         raise _problem(source, f"cannot be read: {error.strerror or error}") from None
     try:
-        info = os.fstat(descriptor)
-        if not stat.S_ISREG(info.st_mode):
-            raise _not_regular(source, info.st_mode)
-        if info.st_size > limit:
-            raise too_large(f"file is {info.st_size} bytes")
+        check(os.fstat(descriptor))
         chunks, held = [], 0
         while held <= limit:
             chunk = os.read(descriptor, min(limit + 1 - held, 1 << 20))
@@ -104,7 +102,15 @@ def read_regular_file(path, limit: int, what: str = "system files") -> bytes:
 
 
 def _current_umask() -> int:
-    """The process umask (read by setting and restoring it)."""
+    """The process umask: read from /proc where the system has it, else by setting and restoring it
+    (which another thread could see for an instant)."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as status:
+            for line in status:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
     mask = os.umask(0o022)
     os.umask(mask)
     return mask
