@@ -21,6 +21,8 @@ from orbitdeck.models.nbody.integrator import WisdomHolman, step_many
 from orbitdeck.models.nbody.jacobi import Masses, cartesian_from_elements, heliocentric_from_jacobi, semi_major_axis
 from orbitdeck.models.nbody.kepler_drift import kepler_drift, stumpff_c0_to_c3
 
+from newton_reference import newton as _newton
+
 
 def kepler_position(a, e, inclination, omega, mean_anomaly):
     """Position on an ellipse with the node at 0, by brentq on Kepler's equation (M&D eqs. 2.41-2.43, 2.122)."""
@@ -125,16 +127,6 @@ def _planets(mass_ratios, periods, e, inclination, omega, m0, star=1.0):
     x, v = cartesian_from_elements(masses.interior, a, np.array(e)[:, None], np.radians(inclination)[:, None],
                                    np.radians(omega)[:, None], np.array(m0)[:, None])
     return masses, x, v
-
-
-def _newton(t, y, gm):
-    """Newton's equations of motion for bodies with gravitational parameters ``gm`` (3 per body, then velocities)."""
-    bodies = gm.size
-    position = y[:3 * bodies].reshape(3, bodies)
-    separation = position[:, None, :] - position[:, :, None]
-    distance3 = np.linalg.norm(separation, axis=0) ** 3
-    np.fill_diagonal(distance3, np.inf)
-    return np.concatenate([y[3 * bodies:], (separation * gm / distance3).sum(axis=2).ravel()])
 
 
 def _barycentric(masses, x, v):

@@ -35,6 +35,8 @@ from orbitdeck.models.nbody.kepler_drift import kepler_drift
 from orbitdeck.models.nbody.results import EnsembleResult, ttv_sinusoid
 from orbitdeck.models.nbody.setup import chunk_setup, draw_ensemble
 
+from newton_reference import newton
+
 EPOCH = 2461000.0
 
 
@@ -134,16 +136,6 @@ def test_kepler_drift_carries_the_velocity_along_the_ellipse():
 
 
 # -- the map against Newton's equations --------------------------------------------------------------
-
-def newton(t, y, gm):
-    """Newton's equations for bodies with gravitational parameters ``gm`` (positions (3, bodies), then velocities)."""
-    bodies = gm.size
-    position = y[:3 * bodies].reshape(3, bodies)
-    separation = position[:, None, :] - position[:, :, None]
-    distance3 = np.linalg.norm(separation, axis=0) ** 3
-    np.fill_diagonal(distance3, np.inf)
-    return np.concatenate([y[3 * bodies:], (separation * gm / distance3).sum(axis=2).ravel()])
-
 
 def test_five_planets_agree_with_solve_ivp():
     # an odd number of planets (every pair row also read backwards), Jupiter-like masses so that the planet-planet
