@@ -324,3 +324,20 @@ def test_percentile_bounds_are_numpys_percentiles_bit_for_bit(draws):
         low, high = percentile_bounds(given_rows.copy(), overwrite=overwrite)
         np.testing.assert_array_equal(low, expected[0])
         np.testing.assert_array_equal(high, expected[1])
+
+
+@pytest.mark.parametrize("planets", [1, 2])
+def test_sky_distances_when_only_the_periastron_angle_is_drawn(planets):
+    # omega drawn, a and e not: the closest approach of two orbits varies over the draws while the
+    # periastron distance is one row; the sky table must take every draw (found by the round-trip property test)
+    members = [_planet(name=name, value=period) for name, period in zip("bc", (10.0, 25.0))][:planets]
+    for planet in members:   # eccentric, so that the orientation matters
+        planet.eccentricity = 0.2
+    members[-1].omega = 30.0
+    members[-1].uncertainties = {"omega": Uncertainty.from_sigma(20.0)}
+    derived = derive(System(star=_star(), planets=members), samples=24, seed=11)
+    low, high = derived.intervals["skies"]["closest_distance_au"]
+    assert low.shape == high.shape == (len(derived.skies["observer"]),)
+    if planets == 2:   # the two orbits' closest approach depends on the drawn omega
+        rows = [i for i, (o, b) in enumerate(zip(derived.skies["observer"], derived.skies["body"])) if b != "star"]
+        assert np.all(high[rows] >= low[rows]) and np.any(high[rows] > low[rows])

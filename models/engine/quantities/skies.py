@@ -40,7 +40,8 @@ def sky_rows(c):
 def closest_distance_au(c):
     observer, body = c.sky_rows
     a, e, omega = c.semi_major_axis_au, c.eccentricity, c.omega_rad
-    distance = np.array(np.broadcast_to(c.periastron_au[:, observer], (max(a.shape[0], e.shape[0]), observer.size)))
+    draws = max(x.shape[0] for x in (a, e, omega))   # any of them may be one row (no uncertainty) or every draw
+    distance = np.array(np.broadcast_to(c.periastron_au[:, observer], (draws, observer.size)))
     planet = np.flatnonzero(body >= 0)
     # each pair of orbits once, whichever planet observes the other (a pair's key: low * N + high)
     count = c.planet_count
