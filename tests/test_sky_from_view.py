@@ -106,3 +106,42 @@ def test_the_time_plots_name_their_lines_and_keep_one_unit_each(app):
     index = track["bodies"].index(chosen)
     np.testing.assert_allclose(elongation.dimension_values(1), track["elongation_deg"][:, index])
     assert elongation.label == chosen
+
+
+def test_a_planet_on_the_observers_own_orbit_is_left_out_of_its_sky_and_the_caption_says_why():
+    # two planets given the same period and no transit times sit on top of each other; the page once failed
+    # to draw the sky of either (a disc of NaN)
+    from orbitdeck.models import Planet, Star, System
+
+    twins = System(name="twins", star=Star(name="s", mass=0.3, radius=0.3, teff=3300.0),
+                   planets=[Planet(name="b", period=3.0, radius=1.0), Planet(name="c", period=3.0, radius=1.2),
+                            Planet(name="d", period=5.0, radius=1.0)])
+    app = OrbitDeckApp(twins)
+    app.selected = "b"
+    view = SkyFromView(app)
+    sky = view.sky.data
+    assert list(sky["marks"]["body"]) == ["star", "d"] and list(sky["names"]["text"]) == ["star", "d"]
+    assert len(sky["discs"]["xs"]) == 2
+    for key in ("x_range", "y_range"):
+        assert np.isfinite(sky["discs"][key]).all()
+    assert "c overlaps planet b" in view.caption.object
+    # the plots over time still list every body; the elongation of one chosen there has gaps where it overlaps
+    assert list(view.tracks.data["diameters"]["bodies"]) == ["star", "c", "d"]
+    # the whole view renders (HoloViews drew no NaN polygon)
+    import holoviews as hv
+
+    hv.render(view.sky.figure(), backend="bokeh")
+    app.selected = "d"
+    assert list(view.sky.data["marks"]["body"]) == ["star", "b", "c"]
+
+
+def test_a_planet_inside_its_star_sees_no_star_disc_and_the_view_still_draws():
+    from orbitdeck.models import Planet, Star, System
+
+    grazing = System(name="inside", star=Star(name="s", mass=0.5, radius=2.0, teff=4000.0),
+                     planets=[Planet(name="b", period=0.2, radius=1.0)])
+    app = OrbitDeckApp(grazing)
+    view = SkyFromView(app)
+    assert list(view.sky.data["marks"]["body"]) == []
+    assert np.isfinite(view.sky.data["marks"]["x_range"]).all()
+    assert "star overlaps planet b" in view.caption.object

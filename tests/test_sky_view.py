@@ -265,3 +265,45 @@ def test_constant_separation_has_no_close_approach():
     ca = sky_view.close_approaches(s, "b", after=0.0, count=2, max_samples=50_000)
     assert _approaches(ca, "c") == [] and "only 0 of 2" in ca["warnings"][-1]
     assert ca["bodies"][0]["synodic_period_d"] is None
+
+
+def test_a_body_overlapping_the_observer_has_no_place_in_its_sky():
+    # two planets given the same orbit and phase sit on top of each other: geometry gives a distance but no
+    # direction, and inside the sum of the radii no apparent size, phase or brightness means anything
+    s = System(star=Star(mass=0.3, radius=0.3, teff=3300.0),
+               planets=[Planet(name="b", period=3.0, radius=1.0, transit_time=0.0),
+                        Planet(name="c", period=3.0, radius=1.2, transit_time=0.0),
+                        Planet(name="d", period=5.0, radius=1.0, transit_time=1.0)])
+    sky = sky_view.sky_from(s, "b", 0.5)
+    c, d = sky["bodies"].index("c"), sky["bodies"].index("d")
+    # c's centre is off b's only by the planets' masses in Kepler's third law: far less than the two radii
+    assert sky["distance_au"][c] < 2.2 * sky_view.R_EARTH_AU
+    for key in ("angular_diameter_arcsec", "elongation_deg", "phase_angle_deg", "illuminated_fraction",
+                "brightness_moon_ratio"):
+        assert np.isnan(sky[key][c]) and np.isfinite(sky[key][d]), key
+    assert np.isfinite(sky["angular_diameter_arcsec"][0])
+    assert [w for w in sky["warnings"] if "overlaps" in w] == [
+        "c overlaps planet b at BJD_TDB 0.5000 (their centres are closer than the sum of their radii): its size, "
+        "direction, phase and brightness in b's sky are not given there"]
+    # over many times the warning counts them; the JSON document gives null, never NaN
+    track = sky_view.sky_from(s, "b", np.linspace(0.0, 3.0, 7))
+    assert np.isnan(track["angular_diameter_arcsec"][:, c]).all()
+    assert np.isfinite(track["angular_diameter_arcsec"][:, d]).all()
+    assert any("c overlaps planet b at 7 of the 7 times" in w for w in track["warnings"])
+    doc = sky_view.sky_document(s, "b", 0.5)
+    json.dumps(doc, allow_nan=False)
+    assert doc["bodies"][c]["angular_diameter_arcsec"] is None and doc["bodies"][c]["distance_au"] is not None
+
+
+def test_a_body_just_clear_of_the_observer_keeps_its_sky():
+    # the star seen from a planet whose orbit grazes it: centres 1.01 times the two radii apart, just clear
+    star = Star(mass=0.3, radius=0.3, teff=3300.0)
+    clear = 1.01 * (0.3 * sky_view.R_SUN_AU + sky_view.R_EARTH_AU)
+    period = float(ephemeris.orbital_elements(System(star=star, planets=[Planet(name="b", period=1.0)])).a_au[0])
+    period = (clear / period) ** 1.5   # Kepler's third law, P proportional to a^(3/2)
+    s = System(star=star, planets=[Planet(name="b", period=period, radius=1.0, transit_time=0.0)])
+    sky = sky_view.sky_from(s, "b", 0.0)
+    assert sky["distance_au"][0] == pytest.approx(clear, rel=1e-6)
+    assert np.isfinite(sky["angular_diameter_arcsec"][0]) and not any("overlaps" in w for w in sky["warnings"])
+    inside = System(star=star, planets=[Planet(name="b", period=period * 0.98 ** 1.5, radius=1.0, transit_time=0.0)])
+    assert np.isnan(sky_view.sky_from(inside, "b", 0.0)["angular_diameter_arcsec"][0])

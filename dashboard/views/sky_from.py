@@ -71,7 +71,8 @@ def sky_coordinates(elements, observer: int, time: float):
     normal /= np.linalg.norm(normal)
     others = [j for j in range(xyz.shape[1]) if j != observer]
     directions = np.concatenate([-here[None, :], xyz[0, others] - here], axis=0)
-    directions /= np.linalg.norm(directions, axis=-1, keepdims=True)
+    with np.errstate(invalid="ignore"):   # a body at the observer's own place has no direction: NaN
+        directions /= np.linalg.norm(directions, axis=-1, keepdims=True)
     u = directions[0]
     w = np.cross(normal, u)
     latitude = np.degrees(np.arcsin(np.clip(directions @ normal, -1.0, 1.0)))
@@ -106,7 +107,10 @@ def name_offsets(longitude, latitude) -> np.ndarray:
 
 def sky_extent(longitude, latitude, radius_deg):
     """Longitude and latitude ranges [deg] of the picture: every disc and the Moon with a margin, the
-    latitude span widened to the frame's shape so that degrees are equal both ways."""
+    latitude span widened to the frame's shape so that degrees are equal both ways (with no disc, the
+    frame's smallest span about 0)."""
+    if np.size(longitude) == 0:
+        longitude = latitude = radius_deg = np.zeros(1)
     lo = float(np.min(longitude - radius_deg)) - 2.0 * MOON_DEG
     hi = float(np.max(longitude + radius_deg)) + 2.0 * MOON_DEG
     if hi - lo < 10.0:
@@ -267,31 +271,38 @@ class SkyFromView(View):
         a_au = elements.a_au
         now = sky_from(app.system, observer, time, a_au=a_au)
         longitude, latitude = sky_coordinates(elements, names.index(observer), time)
+        radius = np.asarray(now["angular_diameter_arcsec"]) / 7200.0
         bodies = list(now["bodies"])
         colours = self.colours(bodies)
-        radius = np.asarray(now["angular_diameter_arcsec"]) / 7200.0
+        # a body that overlaps the observer has no place in its sky (the caption says so): it is not drawn
+        placed = np.isfinite(longitude) & np.isfinite(latitude) & np.isfinite(radius)
+        star_radius = radius[0] if placed[0] else 0.0
+        others = longitude[1:][placed[1:]]
+        seen, seen_colours = [b for b, p in zip(bodies, placed) if p], [c for c, p in zip(colours, placed) if p]
+        longitude, latitude, radius = longitude[placed], latitude[placed], radius[placed]
         x_range, y_range = sky_extent(longitude, latitude, radius)
         t = np.linspace(0.0, 2.0 * np.pi, DISC_POINTS + 1)
         # the reference Moon sits just beside the star's disc, on the side away from most bodies
-        side = -1.0 if np.sum(longitude[1:] > 0) > np.sum(longitude[1:] < 0) else 1.0
-        moon_x = side * (radius[0] + MOON_DEG)
+        side = -1.0 if np.sum(others > 0) > np.sum(others < 0) else 1.0
+        moon_x = side * (star_radius + MOON_DEG)
         per_px = (y_range[1] - y_range[0]) / SKY_HEIGHT_PX
         offsets = -name_offsets(longitude, latitude) * per_px     # pixels down -> degrees up
+        shown = {k: np.asarray(now[k])[placed] for k in ("angular_diameter_arcsec", "elongation_deg",
+                                                           "phase_angle_deg", "illuminated_fraction",
+                                                           "brightness_moon_ratio", "distance_au")}
         sky = {
             "discs": {"xs": [x + r * np.cos(t) for x, r in zip(longitude, radius)],
-                      "ys": [y + r * np.sin(t) for y, r in zip(latitude, radius)], "colour": colours,
+                      "ys": [y + r * np.sin(t) for y, r in zip(latitude, radius)], "colour": seen_colours,
                       "x_range": x_range, "y_range": y_range},
             "moon": {"x": moon_x + 0.5 * MOON_DEG * np.cos(t), "y": 0.5 * MOON_DEG * np.sin(t),
                      "x_range": x_range, "y_range": y_range},
-            "marks": {"longitude": longitude, "latitude": latitude, "body": bodies, "colour": colours,
-                      "arcsec": np.asarray(now["angular_diameter_arcsec"]),
-                      "elongation": np.asarray(now["elongation_deg"]),
-                      "phase": np.nan_to_num(np.asarray(now["phase_angle_deg"], dtype=float), nan=-1.0),
-                      "lit": np.asarray(now["illuminated_fraction"]),
-                      "brightness": np.asarray(now["brightness_moon_ratio"]),
-                      "distance": np.asarray(now["distance_au"]), "x_range": x_range, "y_range": y_range},
+            "marks": {"longitude": longitude, "latitude": latitude, "body": seen, "colour": seen_colours,
+                      "arcsec": shown["angular_diameter_arcsec"], "elongation": shown["elongation_deg"],
+                      "phase": np.nan_to_num(shown["phase_angle_deg"].astype(float), nan=-1.0),
+                      "lit": shown["illuminated_fraction"], "brightness": shown["brightness_moon_ratio"],
+                      "distance": shown["distance_au"], "x_range": x_range, "y_range": y_range},
             "names": {"longitude": longitude + 0.006 * (x_range[1] - x_range[0]), "latitude": latitude + offsets,
-                      "text": [f"{b}" for b in bodies], "x_range": x_range, "y_range": y_range},
+                      "text": [f"{b}" for b in seen], "x_range": x_range, "y_range": y_range},
         }
         set_section(self.sky_title, f"The sky of planet {escape(observer)} at BJD_TDB {time:.4f}")
         span = float(self.window or DEFAULT_WINDOW_D)

@@ -204,6 +204,9 @@ def sky_from(system, observer_name: str, times, a_au=None, geometric_albedo: flo
         (NaN for the star), ``illuminated_fraction`` (1 for the star, which
         shines by itself) and ``brightness_moon_ratio`` (flux at the observer
         over the full Moon's at Earth; model estimate, see module notes).
+        Where a body overlaps the observer (their centres closer than the
+        sum of their radii) only its distance is given, the rest is NaN, and
+        a warning says so.
 
     Raises
     ------
@@ -234,13 +237,31 @@ def sky_from(system, observer_name: str, times, a_au=None, geometric_albedo: flo
         incident = lum / (star_dist * star_dist)                   # in units of the solar constant
         flux = incident * reflected_to_incident_flux(p, radius, distance, lambert_phase_function(phase))
     flux[..., 0] = lum / (distance[..., 0] ** 2)
-    return {
-        "observer": observer_name, "times": np.asarray(times, dtype=float),
-        "bodies": [STAR, *(elements.names[j] for j in others)],
-        "distance_au": distance, "angular_diameter_arcsec": angular_diameter_arcsec(radius, distance),
-        "elongation_deg": elongation, "phase_angle_deg": phase, "illuminated_fraction": lit,
-        "brightness_moon_ratio": flux / full_moon_flux(), "warnings": list(elements.warnings),
-    }
+    names = [STAR, *(elements.names[j] for j in others)]
+    sky = {"angular_diameter_arcsec": angular_diameter_arcsec(radius, distance), "elongation_deg": elongation,
+           "phase_angle_deg": phase, "illuminated_fraction": lit, "brightness_moon_ratio": flux / full_moon_flux()}
+    # a body whose centre is closer than the two radii overlaps the observer (two planets given the same orbit
+    # and phase, say): it has no place in the observer's sky, so none is given
+    overlap = distance < radius + system.planets[obs].radius * R_EARTH_AU
+    for values in sky.values():
+        values[overlap] = np.nan
+    return {"observer": observer_name, "times": np.asarray(times, dtype=float), "bodies": names,
+            "distance_au": distance, **sky,
+            "warnings": list(elements.warnings) + overlap_warnings(observer_name, names, times, overlap)}
+
+
+def overlap_warnings(observer: str, bodies, times, overlap) -> list[str]:
+    """What :func:`sky_from` says of each body that overlaps the observer at some of ``times``."""
+    count = np.size(times)
+    found = np.reshape(overlap, (count, len(bodies))).sum(axis=0)
+    warnings = []
+    for body, n in zip(bodies, found):
+        if n:
+            when = f"at BJD_TDB {float(times):.4f}" if np.ndim(times) == 0 else f"at {n} of the {count} times"
+            warnings.append(f"{body} overlaps planet {observer} {when} (their centres are closer than the sum of "
+                            f"their radii): its size, direction, phase and brightness in {observer}'s sky are "
+                            "not given there")
+    return warnings
 
 
 def _json_number(value):
