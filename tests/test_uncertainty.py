@@ -326,6 +326,17 @@ def test_percentile_bounds_are_numpys_percentiles_bit_for_bit(draws):
         np.testing.assert_array_equal(high, expected[1])
 
 
+@pytest.mark.parametrize("rows", [0, 1, 6])
+def test_share_of_draws_is_the_mean_of_the_yes_no_draws(rows):
+    # numpy's mean of booleans is the reference, to the last bit; a (1, rows) quantity stands for every draw
+    from orbitdeck.models.engine.draws import share_of_draws
+
+    holds = np.random.default_rng(rows).random((4000, rows)) < np.linspace(0.0, 1.0, rows)
+    np.testing.assert_array_equal(share_of_draws(holds, 4000), np.mean(holds, axis=0))
+    np.testing.assert_array_equal(share_of_draws(holds[:1], 4000), holds[0].astype(float))
+    assert share_of_draws(holds, 4000).shape == (rows,)
+
+
 @pytest.mark.parametrize("planets", [1, 2])
 def test_sky_distances_when_only_the_periastron_angle_is_drawn(planets):
     # omega drawn, a and e not: the closest approach of two orbits varies over the draws while the

@@ -16,7 +16,7 @@ import numpy as np
 
 from ..physics import irradiation
 from ..files.system import System
-from .draws import percentile_bounds, sampled_inputs
+from .draws import percentile_bounds, sampled_inputs, share_of_draws
 from .inputs import nominal_inputs
 from .methods import depends_on
 from .registry import ONE_ROW_TABLES, Context, declared
@@ -268,8 +268,7 @@ def _intervals(draws: Context, samples: int, hz_valid: bool) -> tuple[Intervals,
         arrays = [np.asarray(getattr(draws, q.name), dtype=float) for q in sampled]
         low, high = _percentiles_by_blocks(arrays, samples)
         tables[table] = {q.key: (low[i], high[i]) for i, q in enumerate(sampled)}
-        fractions[table] = {q.key: np.broadcast_to(getattr(draws, q.name), (samples, 1)).mean(axis=0)
-                            if table in ONE_ROW_TABLES else np.mean(getattr(draws, q.name), axis=0)
+        fractions[table] = {q.key: share_of_draws(getattr(draws, q.name), samples)
                             for q in wanted if q.kind == "bool"}
     for table in ONE_ROW_TABLES:
         tables[table] = _nest({key: [float(lo[0]), float(hi[0])] for key, (lo, hi) in tables[table].items()})
@@ -330,7 +329,6 @@ def derive(system: System, samples: int = 0, seed: int | None = None) -> Derived
                         triple_q=np.asarray(derived.triples["q"], dtype=int)[None, :])
         draws = Context(sampled_inputs(system, samples, seed, nominal), anchor)
         derived.intervals, derived.fractions = _intervals(draws, samples, hz_valid)
-        other = np.broadcast_to(draws.other_nearest, (samples, len(derived.pairs["p"])))
-        derived.extra["other_nearest_fraction"] = other.mean(axis=0)
+        derived.extra["other_nearest_fraction"] = share_of_draws(draws.other_nearest, samples)
         derived.samples, derived.seed = samples, seed
     return derived

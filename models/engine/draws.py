@@ -108,6 +108,18 @@ def sampled_inputs(system: System, samples: int, seed: int | None, nominal: Inpu
     return replace(nominal, **drawn)
 
 
+def share_of_draws(holds, samples: int) -> np.ndarray:
+    """The fraction of the ``samples`` draws in which a yes/no quantity holds, for each row of its table.
+
+    ``holds`` is shaped (draws, rows), or (1, rows) for a quantity that no
+    draw changes. The draws of each row are counted side by side in a
+    transposed copy: counted down the columns of a (draws, rows) array of a
+    few rows, numpy would pay its loop's overhead once per draw.
+    """
+    holds = np.broadcast_to(holds, (samples, np.shape(holds)[1]))
+    return np.count_nonzero(np.ascontiguousarray(holds.T), axis=1) / samples
+
+
 def percentile_bounds(rows: np.ndarray, overwrite: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The 16th and 84th percentiles of each row of ``rows`` (rows, draws), numpy's 'linear' definition.
 
