@@ -286,6 +286,9 @@ MUTANTS = (
     # -- TTV amplitudes near first-order commensurabilities (Lithwick, Xie & Wu 2012) --------------------
     Mutant("models/physics/ttv.py", "_QUADRATURE_DECAY = 40.0", "_QUADRATURE_DECAY = 10.0", "Laplace coefficients: quadrature nodes"),
     Mutant("models/physics/ttv.py", "nodes = j_max + 2 + int(", "nodes = 2 + int(", "Laplace coefficients: nodes grow with j"),
+    Mutant("models/physics/ttv.py", "low, high = np.fmin.reduce(columns, axis=1), np.fmax.reduce(columns, axis=1)",
+           "low, high = np.fmax.reduce(columns, axis=1), np.fmax.reduce(columns, axis=1)",
+           "f and g over draws: the Chebyshev points span every draw"),
     Mutant("models/physics/ttv.py", "weight = 2.0 / nodes", "weight = 1.0 / nodes", "Laplace coefficients: 1/pi x 2 pi / n"),
     Mutant("models/physics/ttv.py", "np.sqrt(1.0 - 2.0 * alpha * cos_psi + alpha * alpha)",
            "np.sqrt(1.0 + 2.0 * alpha * cos_psi + alpha * alpha)", "Laplace coefficients: -2 alpha cos psi"),

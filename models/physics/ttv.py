@@ -147,10 +147,11 @@ def resonance_coefficients(alpha, j):
     j = np.broadcast_to(np.asarray(j), alpha.shape[-1:])
     if alpha.ndim < 2 or alpha.shape[0] == 1:
         return resonance_coefficient_f(alpha, j), resonance_coefficient_g(alpha, j)
-    known = ~np.isnan(alpha)
-    low = np.min(alpha, axis=0, where=known, initial=np.inf)
-    high = np.max(alpha, axis=0, where=known, initial=-np.inf)
-    some = known.any(axis=0)
+    # each pair's draws side by side (reduced down the columns of a few pairs, numpy would loop per draw);
+    # fmin and fmax pass over NaN, which is left only where every draw is NaN
+    columns = np.ascontiguousarray(alpha.T)
+    low, high = np.fmin.reduce(columns, axis=1), np.fmax.reduce(columns, axis=1)
+    some = ~np.isnan(low)
     with np.errstate(divide="ignore", invalid="ignore"):   # columns with no known alpha are left out below
         middle, half = 0.5 * (low + high), 0.5 * (high - low)
         ratio = (1.0 - middle) / half                      # infinite where every draw is equal
