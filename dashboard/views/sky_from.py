@@ -277,13 +277,13 @@ class SkyFromView(View):
         # a body that overlaps the observer has no place in its sky (the caption says so): it is not drawn
         placed = np.isfinite(longitude) & np.isfinite(latitude) & np.isfinite(radius)
         star_radius = radius[0] if placed[0] else 0.0
-        others = longitude[1:][placed[1:]]
+        planets_seen = longitude[1:][placed[1:]]   # longitudes of the other planets drawn
         seen, seen_colours = [b for b, p in zip(bodies, placed) if p], [c for c, p in zip(colours, placed) if p]
         longitude, latitude, radius = longitude[placed], latitude[placed], radius[placed]
         x_range, y_range = sky_extent(longitude, latitude, radius)
         t = np.linspace(0.0, 2.0 * np.pi, DISC_POINTS + 1)
         # the reference Moon sits just beside the star's disc, on the side away from most bodies
-        side = -1.0 if np.sum(others > 0) > np.sum(others < 0) else 1.0
+        side = -1.0 if np.sum(planets_seen > 0) > np.sum(planets_seen < 0) else 1.0
         moon_x = side * (star_radius + MOON_DEG)
         per_px = (y_range[1] - y_range[0]) / SKY_HEIGHT_PX
         offsets = -name_offsets(longitude, latitude) * per_px     # pixels down -> degrees up
