@@ -299,8 +299,9 @@ def test_a_body_just_clear_of_the_observer_keeps_its_sky():
     # the star seen from a planet whose orbit grazes it: centres 1.01 times the two radii apart, just clear
     star = Star(mass=0.3, radius=0.3, teff=3300.0)
     clear = 1.01 * (0.3 * sky_view.R_SUN_AU + sky_view.R_EARTH_AU)
-    period = float(ephemeris.orbital_elements(System(star=star, planets=[Planet(name="b", period=1.0)])).a_au[0])
-    period = (clear / period) ** 1.5   # Kepler's third law, P proportional to a^(3/2)
+    one_day = System(star=star, planets=[Planet(name="b", period=1.0, radius=1.0)])
+    a_one_day = float(ephemeris.orbital_elements(one_day).a_au[0])
+    period = (clear / a_one_day) ** 1.5   # Kepler's third law, P proportional to a^(3/2)
     s = System(star=star, planets=[Planet(name="b", period=period, radius=1.0, transit_time=0.0)])
     sky = sky_view.sky_from(s, "b", 0.0)
     assert sky["distance_au"][0] == pytest.approx(clear, rel=1e-6)
